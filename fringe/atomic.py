@@ -1,0 +1,87 @@
+"""Atomic outputs: nothing half-written is ever left under a user's name.
+
+Files are written to a temporary sibling and renamed into place (``os.replace`` is
+atomic on POSIX within one file system). Output folders are built in a temporary
+sibling folder and swapped in only when complete; the previous folder survives any
+interruption before the swap.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import shutil
+import tempfile
+from collections.abc import Iterator
+from pathlib import Path
+
+from .errors import FringeIOError
+
+__all__ = ["atomic_file", "atomic_directory", "write_text_atomic", "write_bytes_atomic"]
+
+
+@contextlib.contextmanager
+def atomic_file(path: str | Path, suffix: str | None = None) -> Iterator[Path]:
+    """Yield a temporary path beside ``path``; rename it onto ``path`` on success.
+
+    The temporary name keeps the final suffix (so libraries that pick a format from
+    the extension still work). On any exception the temporary file is removed and
+    ``path`` is untouched.
+    """
+    path = Path(path)
+    parent = path.parent if str(path.parent) else Path(".")
+    if not parent.is_dir():
+        raise FringeIOError(f"{path}: the folder {parent} does not exist")
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=suffix or path.suffix,
+                               dir=parent)
+    os.close(fd)
+    tmp_path = Path(tmp)
+    try:
+        yield tmp_path
+        os.replace(tmp_path, path)
+    except BaseException:
+        with contextlib.suppress(OSError):
+            tmp_path.unlink()
+        raise
+
+
+def write_bytes_atomic(path: str | Path, data: bytes) -> None:
+    """Write ``data`` to ``path`` atomically."""
+    with atomic_file(path) as tmp:
+        tmp.write_bytes(data)
+
+
+def write_text_atomic(path: str | Path, text: str) -> None:
+    """Write UTF-8 ``text`` to ``path`` atomically."""
+    write_bytes_atomic(path, text.encode("utf-8"))
+
+
+@contextlib.contextmanager
+def atomic_directory(path: str | Path) -> Iterator[Path]:
+    """Yield an empty temporary folder; on success it replaces ``path`` whole.
+
+    If ``path`` exists it is moved aside, the new folder renamed in, then the old one
+    removed; a failure before the swap leaves ``path`` exactly as it was.
+    """
+    path = Path(path)
+    parent = path.parent if str(path.parent) else Path(".")
+    try:
+        parent.mkdir(parents=True, exist_ok=True)
+    except OSError as e:
+        raise FringeIOError(f"{path}: cannot create the output folder ({e.strerror})") from None
+    if path.exists() and not path.is_dir():
+        raise FringeIOError(f"{path}: exists and is not a folder")
+    tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}.partial.", dir=parent))
+    try:
+        yield tmp
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    old = None
+    if path.exists():
+        old = Path(tempfile.mkdtemp(prefix=f".{path.name}.old.", dir=parent))
+        os.rmdir(old)
+        os.replace(path, old)
+    os.replace(tmp, path)
+    if old is not None:
+        shutil.rmtree(old, ignore_errors=True)

@@ -1,0 +1,30 @@
+"""Physical constants and default thresholds, each with its source.
+
+All values are SI. Physical constants come from :mod:`scipy.constants` (CODATA).
+"""
+
+from __future__ import annotations
+
+from scipy import constants as _c
+
+#: Vacuum permeability μ₀ in T·m/A (CODATA 2018 via scipy.constants).
+MU0_T_M_PER_A: float = float(_c.mu_0)
+
+#: Standard acceleration of gravity in m/s² (CGPM 1901, via scipy.constants).
+STANDARD_GRAVITY_M_PER_S2: float = float(_c.g)
+
+#: Standard atmosphere in Pa (via scipy.constants).
+STANDARD_ATMOSPHERE_PA: float = float(_c.atm)
+
+#: Default field thresholds drawn on plans, in mT. 0.5 mT: controlled access area
+#: (ICNIRP 2009 static-field guidelines; IEC 60601-2-33). 1 and 3 mT: common
+#: practice for sensitive equipment and loose ferromagnetic objects, no source.
+#: 10, 40 and 200 mT: common practice, no source.
+DEFAULT_THRESHOLDS_MT: tuple[float, ...] = (0.5, 1.0, 3.0, 10.0, 40.0, 200.0)
+
+#: Advisory notice printed on every output.
+ADVISORY_NOTICE: str = (
+    "ADVISORY ESTIMATE ONLY. Field values are computed from a coil model and must be "
+    "verified by a site survey. Local codes, the site's MR safety expert and the magnet "
+    "supplier's data govern; this output does not replace them."
+)

@@ -1,0 +1,53 @@
+"""The one exception family of fringe.
+
+::
+
+    FringeError
+    ├── ScenarioError (also ValueError)   bad scenario, plan or command input
+    ├── FringeInputError (also ValueError) bad arguments to a library function
+    └── FringeIOError (also OSError)       a file that cannot be read or written
+
+Every message has one form: ``<where>: `<key path>` must be <expectation>; got <value>``.
+"""
+
+from __future__ import annotations
+
+__all__ = ["FringeError", "ScenarioError", "FringeInputError", "FringeIOError", "must_be"]
+
+
+class FringeError(Exception):
+    """Base class of every error fringe raises on purpose."""
+
+
+class ScenarioError(FringeError, ValueError):
+    """A scenario (or a plan file it references) is malformed or inconsistent.
+
+    Parameters
+    ----------
+    message : str
+        The full message, already naming the key path and what was expected.
+    file : str, optional
+        The file the problem was found in; prefixed to the message.
+    """
+
+    def __init__(self, message: str, file: str | None = None) -> None:
+        self.file = file
+        self.detail = message
+        super().__init__(f"{file}: {message}" if file else message)
+
+
+class FringeInputError(FringeError, ValueError):
+    """A library function got an argument it cannot work with."""
+
+
+class FringeIOError(FringeError, OSError):
+    """A file could not be read or written."""
+
+
+def must_be(key_path: str, expectation: str, got: object) -> str:
+    """Format the one message form used throughout fringe.
+
+    >>> must_be("magnet[0].coil[1].turns", "a positive number", -3)
+    '`magnet[0].coil[1].turns` must be a positive number; got -3'
+    """
+    return f"`{key_path}` must be {expectation}; got {got!r}"

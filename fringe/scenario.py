@@ -1,0 +1,290 @@
+"""Scenario files (TOML) → validated, frozen :class:`Site`.
+
+Every problem is reported as one :class:`~fringe.errors.ScenarioError` naming the file,
+the key path (``magnet[1].coil[0].r_outer_m``), what was expected and what was found.
+Unknown keys are errors with a "did you mean" suggestion.
+
+Sections are parsed by functions registered in ``_SECTIONS``; each feature adds its
+own section parser there, so the list of accepted top-level keys is one list.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import tomllib
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from .coils import Coil, Magnet
+from .errors import ScenarioError, must_be
+
+__all__ = ["Site", "load_site", "parse_site", "Reader"]
+
+
+@dataclass(frozen=True)
+class Site:
+    """Everything a scenario describes, validated and frozen.
+
+    Attributes
+    ----------
+    name : str
+        Site name printed on every output.
+    magnets : tuple of Magnet
+    source_file : str
+        The scenario file it was loaded from ("" when built in code).
+    sections : dict
+        Further parsed sections keyed by top-level scenario key (floors, rooms, …),
+        each owned by the feature module that parses it.
+    """
+
+    name: str
+    magnets: tuple[Magnet, ...]
+    source_file: str = ""
+    sections: dict[str, Any] = field(default_factory=dict, compare=False)
+
+    def magnet(self, name: str) -> Magnet:
+        """The magnet called ``name``; :class:`ScenarioError` listing the names otherwise."""
+        for m in self.magnets:
+            if m.name == name:
+                return m
+        names = ", ".join(repr(m.name) for m in self.magnets) or "none"
+        raise ScenarioError(must_be("--magnet", f"one of the site's magnets ({names})", name),
+                            self.source_file or None)
+
+    def section(self, key: str, default: Any = None) -> Any:
+        """A further parsed section (e.g. ``"floor"``), or ``default``."""
+        return self.sections.get(key, default)
+
+
+_TYPE_WORDS = {bool: "true or false", int: "a whole number", float: "a number",
+               str: "a string", list: "an array", dict: "a table"}
+
+
+class Reader:
+    """A TOML table with the key path it came from; checks and consumes keys.
+
+    ``finish()`` reports the first key never consumed, with a "did you mean".
+    """
+
+    def __init__(self, data: Any, path: str, file: str | None) -> None:
+        self.file = file
+        self.path = path
+        if not isinstance(data, dict):
+            self.fail(path, "a table", data)
+        self.data = data
+        self.used: set[str] = set()
+
+    def key(self, name: str) -> str:
+        return f"{self.path}.{name}" if self.path else name
+
+    def fail(self, key_path: str, expectation: str, got: Any) -> None:
+        raise ScenarioError(must_be(key_path, expectation, got), self.file)
+
+    def has(self, name: str) -> bool:
+        return name in self.data
+
+    def raw(self, name: str, default: Any = ...) -> Any:
+        self.used.add(name)
+        if name not in self.data:
+            if default is ...:
+                raise ScenarioError(f"`{self.key(name)}` is missing; it is required", self.file)
+            return default
+        return self.data[name]
+
+    def number(self, name: str, default: Any = ..., *, low: float | None = None,
+               high: float | None = None, low_open: bool = False,
+               integer: bool = False) -> float:
+        v = self.raw(name, default)
+        if v is default and default is not ...:
+            return v
+        kp = self.key(name)
+        what = "a whole number" if integer else "a number"
+        if isinstance(v, bool) or not isinstance(v, (int, float)):
+            self.fail(kp, what, v)
+        if integer and not float(v).is_integer():
+            self.fail(kp, what, v)
+        if not math.isfinite(v):
+            self.fail(kp, "a finite number", v)
+        if low is not None and (v <= low if low_open else v < low):
+            self.fail(kp, f"{what} {'>' if low_open else '≥'} {low:g}", v)
+        if high is not None and v > high:
+            self.fail(kp, f"{what} ≤ {high:g}", v)
+        return int(v) if integer else float(v)
+
+    def string(self, name: str, default: Any = ..., *, choices: tuple[str, ...] | None = None,
+               nonempty: bool = True) -> str:
+        v = self.raw(name, default)
+        if v is default and default is not ...:
+            return v
+        kp = self.key(name)
+        if not isinstance(v, str) or (nonempty and not v.strip()):
+            self.fail(kp, "a non-empty string" if nonempty else "a string", v)
+        if choices is not None and v not in choices:
+            hint = difflib.get_close_matches(v, choices, n=1)
+            extra = f" (did you mean {hint[0]!r}?)" if hint else ""
+            self.fail(kp, f"one of {', '.join(map(repr, choices))}{extra}", v)
+        return v
+
+    def boolean(self, name: str, default: Any = ...) -> bool:
+        v = self.raw(name, default)
+        if not isinstance(v, bool):
+            self.fail(self.key(name), "true or false", v)
+        return v
+
+    def vector(self, name: str, length: int, default: Any = ...) -> tuple[float, ...]:
+        v = self.raw(name, default)
+        if v is default and default is not ...:
+            return v
+        kp = self.key(name)
+        if (not isinstance(v, list) or len(v) != length
+                or any(isinstance(x, bool) or not isinstance(x, (int, float)) for x in v)):
+            self.fail(kp, f"an array of {length} numbers", v)
+        if not all(math.isfinite(x) for x in v):
+            self.fail(kp, f"an array of {length} finite numbers", v)
+        return tuple(float(x) for x in v)
+
+    def tables(self, name: str, *, required: bool = False) -> list[Reader]:
+        v = self.raw(name, ... if required else [])
+        kp = self.key(name)
+        if isinstance(v, dict):
+            v = [v]
+        if not isinstance(v, list):
+            self.fail(kp, f"an array of tables ([[{kp}]])", v)
+        return [Reader(item, f"{kp}[{i}]", self.file) for i, item in enumerate(v)]
+
+    def table(self, name: str) -> Reader | None:
+        if name not in self.data:
+            self.used.add(name)
+            return None
+        return Reader(self.raw(name), self.key(name), self.file)
+
+    def finish(self) -> None:
+        for k in self.data:
+            if k not in self.used:
+                hint = difflib.get_close_matches(k, [x for x in self.used if x not in self.data]
+                                                 + list(self.used), n=1, cutoff=0.6)
+                extra = f"; did you mean `{self.key(hint[0])}`?" if hint else ""
+                raise ScenarioError(f"`{self.key(k)}` is not a known key{extra}", self.file)
+
+
+# -- magnets -------------------------------------------------------------------------
+
+def parse_coil(r: Reader) -> Coil:
+    """Parse one ``[[magnet.coil]]`` table."""
+    ri = r.number("r_inner_m", low=0.0)
+    ro = r.number("r_outer_m", low=0.0, low_open=True)
+    if ro <= ri:
+        r.fail(r.key("r_outer_m"), f"greater than r_inner_m ({ri:g})", ro)
+    z0 = r.number("z_min_m")
+    z1 = r.number("z_max_m")
+    if z1 <= z0:
+        r.fail(r.key("z_max_m"), f"greater than z_min_m ({z0:g})", z1)
+    turns = r.number("turns", low=0.0, low_open=True)
+    cur = r.number("current_A")
+    r.finish()
+    return Coil(ri, ro, z0, z1, turns, cur)
+
+
+#: Parsers for alternative magnet descriptions (e.g. data-sheet numbers), keyed by the
+#: sub-table name that selects them. Each takes the magnet Reader and returns coils,
+#: a description and an origin tag.
+MAGNET_BUILDERS: dict[str, Callable[[Reader, str], tuple[tuple[Coil, ...], str, str]]] = {}
+
+
+def parse_magnet(r: Reader) -> Magnet:
+    """Parse one ``[[magnet]]`` table."""
+    name = r.string("name")
+    center = r.vector("center_m", 3)
+    axis = r.vector("axis", 3, (0.0, 0.0, 1.0))
+    if math.hypot(*axis) == 0.0:
+        r.fail(r.key("axis"), "a non-zero vector", list(axis))
+    description = r.string("description", "", nonempty=False)
+    builders = [k for k in MAGNET_BUILDERS if r.has(k)]
+    if r.has("coil") and builders:
+        r.fail(r.key("coil"), f"absent when `{r.key(builders[0])}` is given", "both")
+    if builders:
+        coils, desc, origin = MAGNET_BUILDERS[builders[0]](r, name)
+        description = description or desc
+    else:
+        crs = r.tables("coil")
+        if not crs:
+            alt = "".join(f" or a [{r.key(k)}] table" for k in MAGNET_BUILDERS)
+            raise ScenarioError(
+                f"`{r.key('coil')}` is missing; a magnet needs at least one "
+                f"[[magnet.coil]]{alt}", r.file)
+        coils = tuple(parse_coil(c) for c in crs)
+        origin = "coils"
+    r.finish()
+    return Magnet(name, center, axis, coils, description, origin)
+
+
+def _parse_site_table(r: Reader | None) -> dict[str, Any]:
+    if r is None:
+        return {}
+    out = {"name": r.string("name", "unnamed site"),
+           "description": r.string("description", "", nonempty=False)}
+    r.finish()
+    return out
+
+
+#: Top-level sections other than ``site`` and ``magnet``: key → parser(root Reader, file
+#: Path, magnets) returning the parsed section stored in ``Site.sections[key]``.
+#: Registered by feature modules at import of :mod:`fringe.sections`.
+SECTION_PARSERS: dict[str, Callable[[Reader, Path, tuple[Magnet, ...], dict], Any]] = {}
+
+
+def parse_site(data: dict, file: str | Path = "<scenario>") -> Site:
+    """Validate an already-decoded TOML mapping into a :class:`Site`."""
+    from . import sections  # noqa: F401  (registers section parsers)
+
+    file = str(file)
+    root = Reader(data, "", file)
+    site_info = _parse_site_table(root.table("site"))
+    mags = tuple(parse_magnet(m) for m in root.tables("magnet"))
+    seen: set[str] = set()
+    for i, m in enumerate(mags):
+        if m.name in seen:
+            root.fail(f"magnet[{i}].name", "unique among magnets", m.name)
+        seen.add(m.name)
+    parsed: dict[str, Any] = {}
+    for key, parser in SECTION_PARSERS.items():
+        parsed[key] = parser(root, Path(file), mags, parsed)
+    root.finish()
+    return Site(site_info.get("name", "unnamed site"), mags, file, parsed)
+
+
+def load_site(path: str | Path) -> Site:
+    """Load and validate a scenario file.
+
+    Parameters
+    ----------
+    path : str or Path
+        A TOML scenario file (UTF-8).
+
+    Returns
+    -------
+    Site
+
+    Raises
+    ------
+    ScenarioError
+        For a missing, unreadable, non-UTF-8 or malformed file, or any invalid value;
+        the message names the file and the key path.
+    """
+    p = Path(path)
+    try:
+        raw = p.read_bytes()
+    except OSError as e:
+        raise ScenarioError(f"cannot read the scenario file: {e.strerror or e}", str(p)) from None
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as e:
+        raise ScenarioError(f"the file must be UTF-8 text; byte {e.start} is not", str(p)) from None
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as e:
+        raise ScenarioError(f"not valid TOML: {e}", str(p)) from None
+    return parse_site(data, p)
