@@ -16,19 +16,16 @@ from collections.abc import Iterable
 
 import numpy as np
 
-from .coils import DEFAULT_RADIAL_ORDER, Magnet, current_sheets, magpylib_sources
+from .coils import DEFAULT_RADIAL_ORDER, Magnet, magpylib_sources
 from .constants import MU0_T_M_PER_A
 from .errors import FringeInputError
+from .quadrature import coil_field_local_T
 
 __all__ = ["field_at", "field_at_magpylib", "magnet_field_local_T", "energy_density_J_per_m3",
            "points_in_windings", "as_magnets", "METHODS"]
 
 #: Evaluation methods accepted by :func:`field_at` (one list, checked everywhere).
 METHODS: tuple[str, ...] = ("auto", "direct")
-
-#: Upper bound on (sheets × points) handled in one kernel call; bounds peak memory
-#: to roughly 30 float64 arrays of this length (~0.5 GB at 2e6).
-_KERNEL_BATCH = 1_000_000
 
 
 def as_magnets(site_or_magnets) -> tuple[Magnet, ...]:
@@ -59,8 +56,9 @@ def _as_points(points_m) -> np.ndarray:
 
 def magnet_field_local_T(magnet: Magnet, rho_m: np.ndarray, z_m: np.ndarray,
                          order: int = DEFAULT_RADIAL_ORDER,
-                         panels: int | None = None) -> tuple[np.ndarray, np.ndarray]:
-    """Axisymmetric field of one magnet in its local cylindrical frame.
+                         panels: int | None = None,
+                         refine: bool = True) -> tuple[np.ndarray, np.ndarray]:
+    """Axisymmetric field of one magnet in its local cylindrical frame (direct sum).
 
     Parameters
     ----------
@@ -68,7 +66,9 @@ def magnet_field_local_T(magnet: Magnet, rho_m: np.ndarray, z_m: np.ndarray,
     rho_m, z_m : ndarray, shape (N,)
         Local cylindrical radius and axial coordinate, m.
     order, panels : int
-        Radial quadrature (see :func:`fringe.coils.current_sheets`).
+        Radial quadrature (see :func:`fringe.quadrature.coil_field_local_T`).
+    refine : bool
+        Per-point graded quadrature near and inside windings (default True).
 
     Returns
     -------
@@ -77,33 +77,18 @@ def magnet_field_local_T(magnet: Magnet, rho_m: np.ndarray, z_m: np.ndarray,
 
     Notes
     -----
-    Sum over sheets of the axially magnetised cylinder field (Derby & Olbert,
-    Am. J. Phys. 78, 229 (2010), as implemented in ``magpylib.core``). Inside a
-    winding the radial quadrature integrates across the sheet discontinuity and
-    converges only to first order; such points are flagged by :func:`points_in_windings`.
+    Sum over coils of the radial integral of closed-form sheet fields (Derby & Olbert,
+    Am. J. Phys. 78, 229 (2010), as implemented in ``magpylib.core``); points near or
+    inside a winding get a graded per-point rule (:mod:`fringe.quadrature`).
     """
-    import magpylib as magpy
-
     rho = np.asarray(rho_m, dtype=float).ravel()
     z = np.asarray(z_m, dtype=float).ravel()
-    s = current_sheets(magnet, order, panels)
-    n, n_s = rho.size, s.radius_m.size
-    b_rho = np.zeros(n)
-    b_z = np.zeros(n)
-    if n == 0 or n_s == 0:
-        return b_rho, b_z
-    step = max(1, _KERNEL_BATCH // n_s)
-    kernel = magpy.core.magnet_cylinder_axial_Bfield
-    for a in range(0, n, step):
-        sl = slice(a, min(n, a + step))
-        m = sl.stop - sl.start
-        r_s = s.radius_m[:, None]
-        out = kernel(np.broadcast_to(s.half_length_m[:, None] / r_s, (n_s, m)).ravel(),
-                     (rho[None, sl] / r_s).ravel(),
-                     ((z[None, sl] - s.z_center_m[:, None]) / r_s).ravel())
-        out = np.asarray(out).reshape(3, n_s, m)
-        b_rho[sl] = s.polarization_T @ out[0]
-        b_z[sl] = s.polarization_T @ out[2]
+    b_rho = np.zeros(rho.size)
+    b_z = np.zeros(rho.size)
+    for coil in magnet.coils:
+        br, bz = coil_field_local_T(coil, rho, z, order, panels, refine)
+        b_rho += br
+        b_z += bz
     return b_rho, b_z
 
 
