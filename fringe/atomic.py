@@ -20,6 +20,13 @@ from .errors import FringeIOError
 __all__ = ["atomic_file", "atomic_directory", "write_text_atomic", "write_bytes_atomic"]
 
 
+def _default_file_mode() -> int:
+    """0o666 less the process umask: the mode a plain ``open(path, "w")`` would give."""
+    mask = os.umask(0)
+    os.umask(mask)
+    return 0o666 & ~mask
+
+
 @contextlib.contextmanager
 def atomic_file(path: str | Path, suffix: str | None = None) -> Iterator[Path]:
     """Yield a temporary path beside ``path``; rename it onto ``path`` on success.
@@ -38,6 +45,7 @@ def atomic_file(path: str | Path, suffix: str | None = None) -> Iterator[Path]:
     tmp_path = Path(tmp)
     try:
         yield tmp_path
+        os.chmod(tmp_path, _default_file_mode())
         os.replace(tmp_path, path)
     except BaseException:
         with contextlib.suppress(OSError):
@@ -77,6 +85,7 @@ def atomic_directory(path: str | Path) -> Iterator[Path]:
     except BaseException:
         shutil.rmtree(tmp, ignore_errors=True)
         raise
+    os.chmod(tmp, 0o777 & ~(_default_file_mode() ^ 0o666))
     old = None
     if path.exists():
         old = Path(tempfile.mkdtemp(prefix=f".{path.name}.old.", dir=parent))

@@ -28,6 +28,9 @@ EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_EXCEEDS = 0, 1, 2, 3
 COMMAND_MODULES: tuple[str, ...] = (
     "fringe.cmd_probe",
     "fringe.cmd_demo",
+    "fringe.cmd_report",
+    "fringe.cmd_quench",
+    "fringe.cmd_energy",
 )
 
 

@@ -7,12 +7,16 @@
     ├── FringeInputError (also ValueError) bad arguments to a library function
     └── FringeIOError (also OSError)       a file that cannot be read or written
 
+    FringeWarning (a UserWarning)          input that is accepted but probably wrong;
+                                           the CLI prints it as ``fringe: warning: …``
+
 Every message has one form: ``<where>: `<key path>` must be <expectation>; got <value>``.
 """
 
 from __future__ import annotations
 
-__all__ = ["FringeError", "ScenarioError", "FringeInputError", "FringeIOError", "must_be"]
+__all__ = ["FringeError", "ScenarioError", "FringeInputError", "FringeIOError", "FringeWarning",
+           "must_be"]
 
 
 class FringeError(Exception):
@@ -44,10 +48,26 @@ class FringeIOError(FringeError, OSError):
     """A file could not be read or written."""
 
 
+class FringeWarning(UserWarning):
+    """Input accepted but probably wrong (e.g. an implausible field); says the number."""
+
+
+#: Longest ``got`` value quoted in a message, in characters (longer ones are cut).
+_MAX_GOT_CHARS = 80
+
+
 def must_be(key_path: str, expectation: str, got: object) -> str:
     """Format the one message form used throughout fringe.
+
+    Very long values (a pasted array, a huge number) are cut to ``_MAX_GOT_CHARS``.
 
     >>> must_be("magnet[0].coil[1].turns", "a positive number", -3)
     '`magnet[0].coil[1].turns` must be a positive number; got -3'
     """
-    return f"`{key_path}` must be {expectation}; got {got!r}"
+    try:
+        text = repr(got)
+    except (RecursionError, ValueError):  # deeply nested data; ints beyond str() limit
+        text = f"<{type(got).__name__}>"
+    if len(text) > _MAX_GOT_CHARS:
+        text = text[:_MAX_GOT_CHARS - 1] + "…"
+    return f"`{key_path}` must be {expectation}; got {text}"

@@ -5,7 +5,8 @@ Three tiers, magpylib-style:
 * :func:`magnet_field_local_T` — kernel: one magnet, local-frame points, direct sum of
   its current sheets through magpylib's closed-form cylinder kernel.
 * :func:`field_at` — checked public function: any number of magnets (superposed),
-  site-frame points, chunked so memory stays bounded.
+  site-frame points, chunked so memory stays bounded; ``method="auto"`` goes through
+  the fast axisymmetric path of :mod:`fringe.fastfield` with a per-point error check.
 * :func:`field_at_magpylib` — the reference: the same sheets as magpylib objects
   summed by ``magpylib.getB``; used by tests and benchmarks.
 """
@@ -103,7 +104,7 @@ def _magnet_field_site_T(magnet: Magnet, points_m: np.ndarray, **kw) -> np.ndarr
     return magnet.vectors_to_site(b_loc)
 
 
-def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 200_000,
+def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 32_768,
              **options) -> np.ndarray:
     """Flux density B in T at site points, all magnets superposed.
 
@@ -114,9 +115,17 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 200_000,
         Points in the site frame, m.
     method : {"auto", "direct"}
         ``"direct"`` sums every current sheet (reference accuracy, slow);
-        ``"auto"`` picks the fastest method within the stated error bound.
+        ``"auto"`` uses the fast axisymmetric path (:mod:`fringe.fastfield`: exterior
+        zonal series and an interpolated (ρ, z) table per coil set) wherever its
+        error estimate, summed over magnets, is below
+        ``RELATIVE_TOLERANCE / SAFETY_FACTOR`` (1e-4 / 4) of the local |B|, and the
+        direct sum elsewhere (near and inside windings, near zeros of |B|). The result
+        is within 1e-4 of the direct sum relative to |B| at every point.
     chunk_size : int
         Points evaluated at once; peak memory is independent of N beyond the output.
+    **options
+        ``order``, ``panels`` (radial quadrature) and ``refine`` passed to
+        :func:`magnet_field_local_T`.
 
     Returns
     -------
@@ -127,11 +136,42 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 200_000,
         raise FringeInputError(f"`method` must be one of {', '.join(METHODS)}; got {method!r}")
     mags = as_magnets(site)
     p = _as_points(points_m)
+    if not isinstance(chunk_size, (int, np.integer)) or chunk_size < 1:
+        raise FringeInputError(f"`chunk_size` must be a positive integer; got {chunk_size!r}")
     out = np.zeros_like(p)
+    fast = method == "auto" and options.get("refine", True) and len(mags) > 0
     for a in range(0, len(p), chunk_size):
         sl = slice(a, a + chunk_size)
+        if fast:
+            out[sl] = _fast_chunk(mags, p[sl], options)
+        else:
+            for m in mags:
+                out[sl] += _magnet_field_site_T(m, p[sl], **options)
+    return out
+
+
+def _fast_chunk(mags, p: np.ndarray, options: dict) -> np.ndarray:
+    """One chunk through the fast path, falling back to the direct sum per point."""
+    from .fastfield import RELATIVE_TOLERANCE, SAFETY_FACTOR, fast_field_site_T
+
+    order = options.get("order", DEFAULT_RADIAL_ORDER)
+    panels = options.get("panels")
+    pts = np.ascontiguousarray(p.T)
+    b = np.zeros_like(pts)
+    err = np.zeros(pts.shape[1])
+    for m in mags:
+        bm, em = fast_field_site_T(m, pts, order, panels)
+        b += bm
+        err += em
+    b_abs = np.sqrt(np.einsum("ij,ij->j", b, b))
+    bad = ~(err <= (RELATIVE_TOLERANCE / SAFETY_FACTOR) * b_abs)
+    out = b.T
+    if bad.any():
+        pb = p[bad]
+        direct = np.zeros_like(pb)
         for m in mags:
-            out[sl] += _magnet_field_site_T(m, p[sl], **options)
+            direct += _magnet_field_site_T(m, pb, **options)
+        out[bad] = direct
     return out
 
 

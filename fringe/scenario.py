@@ -13,13 +13,15 @@ from __future__ import annotations
 import difflib
 import math
 import tomllib
+import warnings
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 from .coils import Coil, Magnet
-from .errors import ScenarioError, must_be
+from .constants import MU0_T_M_PER_A
+from .errors import FringeWarning, ScenarioError, must_be
 
 __all__ = ["Site", "load_site", "parse_site", "Reader"]
 
@@ -59,6 +61,14 @@ class Site:
         return self.sections.get(key, default)
 
 
+def _finite(v: int | float) -> bool:
+    """True for a finite number; False for NaN, ±inf and ints too large for a float."""
+    try:
+        return math.isfinite(v)
+    except OverflowError:
+        return False
+
+
 _TYPE_WORDS = {bool: "true or false", int: "a whole number", float: "a number",
                str: "a string", list: "an array", dict: "a table"}
 
@@ -90,7 +100,13 @@ class Reader:
         self.used.add(name)
         if name not in self.data:
             if default is ...:
-                raise ScenarioError(f"`{self.key(name)}` is missing; it is required", self.file)
+                # A misspelt required key is reported as missing; name the likely typo.
+                near = difflib.get_close_matches(
+                    name, [k for k in self.data if k not in self.used], n=1, cutoff=0.8)
+                extra = (f" (found `{self.key(near[0])}`: did you mean `{self.key(name)}`?)"
+                         if near else "")
+                raise ScenarioError(f"`{self.key(name)}` is missing; it is required{extra}",
+                                    self.file)
             return default
         return self.data[name]
 
@@ -104,10 +120,10 @@ class Reader:
         what = "a whole number" if integer else "a number"
         if isinstance(v, bool) or not isinstance(v, (int, float)):
             self.fail(kp, what, v)
+        if not _finite(v):
+            self.fail(kp, "a finite number", v)
         if integer and not float(v).is_integer():
             self.fail(kp, what, v)
-        if not math.isfinite(v):
-            self.fail(kp, "a finite number", v)
         if low is not None and (v <= low if low_open else v < low):
             self.fail(kp, f"{what} {'>' if low_open else '≥'} {low:g}", v)
         if high is not None and v > high:
@@ -142,7 +158,7 @@ class Reader:
         if (not isinstance(v, list) or len(v) != length
                 or any(isinstance(x, bool) or not isinstance(x, (int, float)) for x in v)):
             self.fail(kp, f"an array of {length} numbers", v)
-        if not all(math.isfinite(x) for x in v):
+        if not all(_finite(x) for x in v):
             self.fail(kp, f"an array of {length} finite numbers", v)
         return tuple(float(x) for x in v)
 
@@ -218,7 +234,58 @@ def parse_magnet(r: Reader) -> Magnet:
         coils = tuple(parse_coil(c) for c in crs)
         origin = "coils"
     r.finish()
+    _check_centre_field(r, name, coils)
     return Magnet(name, center, axis, coils, description, origin)
+
+
+#: Centre fields above this (T) draw a warning: the strongest superconducting magnets
+#: reach about 28 T (1.2 GHz NMR, from memory), whole-body MR magnets 11.7 T. A larger
+#: value is almost always a unit slip in ``current_A`` or ``turns``.
+PLAUSIBLE_CENTRE_FIELD_T: float = 30.0
+
+
+def centre_field_T(coils: tuple[Coil, ...]) -> float:
+    """Axial flux density in T at the magnet centre (local origin), closed form.
+
+    For a winding of uniform current density J over r₁ ≤ r ≤ r₂, z₁ ≤ z ≤ z₂, the field
+    at the origin is ``μ₀J/2 · [F(z₂) − F(z₁)]`` with
+    ``F(z) = z ln((r₂ + √(r₂² + z²)) / (r₁ + √(r₁² + z²)))`` (and F(0) = 0): the loop's
+    on-axis field integrated over the cross-section.
+
+    References
+    ----------
+    D. B. Montgomery, *Solenoid Magnet Design*, Wiley (1969), Ch. 1 (field at the centre
+    of a thick solenoid, the Fabry factor).
+    """
+    total = 0.0
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        for c in coils:
+            def f(z: float, c: Coil = c) -> float:
+                if z == 0.0:
+                    return 0.0
+                return z * math.log((c.r_outer_m + math.hypot(c.r_outer_m, z))
+                                    / (c.r_inner_m + math.hypot(c.r_inner_m, z)))
+            try:
+                total += (MU0_T_M_PER_A * c.current_density_A_per_m2 / 2.0
+                          * (f(c.z_max_m) - f(c.z_min_m)))
+            except (OverflowError, ZeroDivisionError, ValueError):
+                return math.nan
+    return total
+
+
+def _check_centre_field(r: Reader, name: str, coils: tuple[Coil, ...]) -> None:
+    """Refuse a magnet whose field overflows; warn when its centre field is implausible."""
+    b = centre_field_T(coils)
+    if not math.isfinite(b):
+        r.fail(r.key("coil"), "windings whose field is finite (check `current_A`, `turns` "
+               "and the coil sizes); the centre field", b)
+    if abs(b) > PLAUSIBLE_CENTRE_FIELD_T:
+        where = f"{r.file}: " if r.file else ""
+        warnings.warn(f"{where}magnet {name!r} (`{r.path}`) has a centre field of {abs(b):.4g} T, "
+                      f"above the {PLAUSIBLE_CENTRE_FIELD_T:g} T that any built magnet reaches; "
+                      "check `current_A` (amperes per turn) and `turns`",
+                      FringeWarning, stacklevel=2)
 
 
 def _parse_site_table(r: Reader | None) -> dict[str, Any]:
@@ -287,4 +354,7 @@ def load_site(path: str | Path) -> Site:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as e:
         raise ScenarioError(f"not valid TOML: {e}", str(p)) from None
+    except RecursionError:
+        raise ScenarioError("not valid TOML: arrays or tables are nested too deeply",
+                            str(p)) from None
     return parse_site(data, p)

@@ -5,3 +5,9 @@ the accepted keys live in one list (``fringe.scenario.SECTION_PARSERS``).
 """
 
 from __future__ import annotations
+
+from . import (
+    cad,  # noqa: E402,F401  (ROOM_LOADERS["dxf"] for [[room_file]] format = "dxf")
+    plan_scenario,  # noqa: E402,F401  ([plan], [[floor]], [[room]], [[room_file]], [[equipment]])
+    quench_scenario,  # noqa: E402,F401  ([[quench]])
+)

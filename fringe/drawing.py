@@ -1,0 +1,1802 @@
+"""Drawing sheets: floor plans, sections, curves, tables and a cover, as matplotlib figures.
+
+Every sheet is an A3-landscape :class:`matplotlib.figure.Figure` built without pyplot
+(no global state, Agg canvas attached) and carries the same frame:
+
+* a drawing area on the left (plan, section, curves or table);
+* a key column on the right (legend in the drawing's unit, then notes);
+* the advisory notice (:data:`fringe.constants.ADVISORY_NOTICE`) in a boxed strip along
+  the bottom left;
+* a title block in the bottom right (site, drawing title, magnets, boundary value and its
+  source, date, tool version, sheet number).
+
+The functions take plain numpy arrays, shapely geometries and the small frozen
+dataclasses below; they know nothing of magpylib or the field engine.
+
+Public functions
+----------------
+``map_sheet``       generic filled-band map (any quantity, any unit) in plan x-y
+``plan_sheet``      field map of a floor in mT (thin wrapper of ``map_sheet``)
+``section_sheet``   vertical section with floors, windings and exposure lines
+``curve_sheet``     x-y curves (quench current decay, energy left, ...)
+``table_sheet``     a table paged over as many sheets as it needs
+``cover_sheet``     the first sheet of a set
+``save_figure``     one sheet to PNG/SVG/PDF, atomically
+``write_pdf``       a sheet set to one PDF, atomically, numbered "Sheet k of n"
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import math
+import re
+import textwrap
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import matplotlib
+import numpy as np
+import shapely
+from matplotlib import patheffects
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.backends.backend_pdf import PdfPages
+from matplotlib.figure import Figure
+from matplotlib.lines import Line2D
+from matplotlib.patches import Patch, PathPatch, Rectangle
+from matplotlib.path import Path as MplPath
+from matplotlib.text import Text
+from matplotlib.transforms import Bbox
+from shapely.geometry import LineString, Point, Polygon, box
+from shapely.ops import polylabel
+
+from .atomic import atomic_file
+from .constants import ADVISORY_NOTICE, DEFAULT_THRESHOLDS_MT
+from .errors import FringeInputError, must_be
+
+__all__ = [
+    "SheetInfo", "RoomMark", "EquipmentMark", "MagnetOutline", "Overlay", "FloorLevel",
+    "ExposureLine", "Curve", "CurvePanel", "OVERLAY_KINDS", "ICNIRP_2009_EXPOSURE_LINES",
+    "VERDICT_EXCEEDS", "A3_LANDSCAPE_IN", "map_sheet", "plan_sheet", "section_sheet",
+    "curve_sheet", "table_sheet", "cover_sheet", "save_figure", "write_pdf",
+    "number_sheets", "footprint_rectangle", "format_value", "scale_bar_length_m",
+]
+
+#: Sheet size: ISO A3 landscape, 420 mm x 297 mm, in inches.
+A3_LANDSCAPE_IN: tuple[float, float] = (420 / 25.4, 297 / 25.4)
+
+#: The verdict that is drawn emphasised (hatching, bold outline, upper-case text).
+VERDICT_EXCEEDS = "exceeds"
+
+#: Raster resolution used by :func:`save_figure` for PNG, dots per inch.
+PNG_DPI = 170
+
+_SAVE_FORMATS = ("png", "svg", "pdf")
+_HALO = [patheffects.withStroke(linewidth=2.4, foreground="white")]
+_INK = "0.08"
+_SHEET_NUMBER_GID = "fringe-sheet-number"
+_EXPOSURE_COLOR = "#3d0b57"
+
+# Layout of every sheet, in figure fractions (left, bottom, width, height).
+_FRAME = (0.012, 0.015, 0.976, 0.97)
+_MAIN = (0.055, 0.185, 0.655, 0.775)
+_KEY = (0.738, 0.285, 0.238, 0.675)
+_TITLE = (0.738, 0.03, 0.238, 0.235)
+_ADVISORY = (0.03, 0.03, 0.69, 0.085)
+_WIDE = (0.045, 0.16, 0.67, 0.79)  # table/curve area without map axis labels
+
+
+# --------------------------------------------------------------------------- data
+
+
+def _today_iso() -> str:
+    return _dt.datetime.now(_dt.UTC).date().isoformat()
+
+
+def _tool_version() -> str:
+    from . import __version__
+
+    return f"fringe {__version__}"
+
+
+@dataclass(frozen=True)
+class SheetInfo:
+    """What the title block of a sheet says.
+
+    Parameters
+    ----------
+    site_name : str
+        The site (e.g. "Riverside Imaging Centre (invented)").
+    title : str
+        Drawing title (e.g. "Floor plan: ground floor").
+    subtitle : str
+        One more line (e.g. "Largest |B| over the occupied band 0-2 m above the floor").
+    magnets : tuple of str
+        Names of the magnets drawn.
+    date_iso : str
+        Date of the drawing, ISO 8601 (default: today, UTC).
+    tool_version : str
+        Tool and version that computed it (default: "fringe <version>").
+    boundary_note : str
+        The controlled-area boundary value and its source, printed on the sheet, e.g.
+        "Controlled access area boundary: 0.5 mT (ICNIRP 2009; IEC 60601-2-33 ed. 3)".
+    notes : tuple of str
+        Numbered notes printed in the key column (model assumptions, sources).
+    sheet_number : str or None
+        Printed as given; ``None`` lets :func:`write_pdf` / :func:`number_sheets` write
+        "Sheet k of n".
+    """
+
+    site_name: str
+    title: str
+    subtitle: str = ""
+    magnets: tuple[str, ...] = ()
+    date_iso: str = field(default_factory=_today_iso)
+    tool_version: str = field(default_factory=_tool_version)
+    boundary_note: str = ""
+    notes: tuple[str, ...] = ()
+    sheet_number: str | None = None
+
+    def __post_init__(self) -> None:
+        for name in ("magnets", "notes"):
+            value = getattr(self, name)
+            if isinstance(value, str):
+                value = (value,)
+            object.__setattr__(self, name, tuple(str(v) for v in value))
+
+
+@dataclass(frozen=True)
+class RoomMark:
+    """A room as drawn on a plan.
+
+    Parameters
+    ----------
+    name : str
+    polygon : shapely.Polygon or shapely.MultiPolygon
+        Outline in site x-y metres (holes allowed).
+    access : str
+        "controlled" or "open"; controlled rooms are labelled so.
+    verdict : str or None
+        Free text from the checks (e.g. "ok", "exceeds"); ``"exceeds"`` is drawn
+        hatched with a bold outline and upper-case text.
+    max_field_T : float or None
+        Largest |B| in the room's occupied band, T (printed in mT).
+    limit_T : float or None
+        The limit the verdict was made against, T (printed in mT).
+    """
+
+    name: str
+    polygon: Any
+    access: str = "open"
+    verdict: str | None = None
+    max_field_T: float | None = None
+    limit_T: float | None = None
+
+
+@dataclass(frozen=True)
+class EquipmentMark:
+    """A piece of sensitive equipment as drawn on a plan.
+
+    Parameters
+    ----------
+    name : str
+    xy_m : tuple of float
+        Position in the drawing's coordinates, m (plan: site x, y).
+    field_T : float or None
+        |B| there, T (printed in mT).
+    limit_T : float or None
+        Its tolerance, T (printed in mT).
+    verdict : str or None
+        Free text; ``"exceeds"`` is drawn with a filled marker and upper-case text.
+    """
+
+    name: str
+    xy_m: tuple[float, float]
+    field_T: float | None = None
+    limit_T: float | None = None
+    verdict: str | None = None
+
+
+@dataclass(frozen=True)
+class MagnetOutline:
+    """A magnet's cryostat footprint (plan) or a winding cross-section (section)."""
+
+    name: str
+    polygon: Any
+
+
+#: Styles of extra line layers; the key is ``Overlay.kind``.
+#: hazard  : hatched area with a bold outline (e.g. the attraction-hazard zone);
+#: outline : dashed line (e.g. an extra footprint, a proposed wall);
+#: contour : dotted line (e.g. energy-density contours).
+OVERLAY_KINDS: dict[str, dict[str, Any]] = {
+    "hazard": {"hatch": "xx", "edgecolor": "#3d0b57", "linewidth": 1.6, "linestyle": "-"},
+    "outline": {"hatch": None, "edgecolor": "0.1", "linewidth": 1.2, "linestyle": (0, (6, 3))},
+    "contour": {"hatch": None, "edgecolor": "#3d0b57", "linewidth": 1.0,
+                "linestyle": (0, (1, 1.5))},
+}
+
+
+@dataclass(frozen=True)
+class Overlay:
+    """An extra layer: a labelled shapely geometry drawn in one of :data:`OVERLAY_KINDS`."""
+
+    label: str
+    geometry: Any
+    kind: str = "hazard"
+
+
+@dataclass(frozen=True)
+class FloorLevel:
+    """A floor on a section: slab level and occupied band (same fields as ``plan.Floor``).
+
+    Parameters
+    ----------
+    name : str
+    elevation_m : float
+        Finished-floor level, site z, m.
+    band_bottom_m, band_top_m : float
+        Occupied band above the floor, m.
+    """
+
+    name: str
+    elevation_m: float
+    band_bottom_m: float = 0.0
+    band_top_m: float = 2.0
+
+
+@dataclass(frozen=True)
+class ExposureLine:
+    """A static-field exposure value drawn as a labelled line on a section.
+
+    Parameters
+    ----------
+    value_T : float
+        |B| of the line, T.
+    label : str
+        Short label printed on the line.
+    source : str
+        Publication the value comes from, printed in the notes.
+    """
+
+    value_T: float
+    label: str
+    source: str
+
+
+_ICNIRP_2009 = ("ICNIRP (2009) Guidelines on limits of exposure to static magnetic fields. "
+                "Health Phys. 96(4):504-514")
+
+#: ICNIRP 2009 static-field exposure limits (Table 1 of the guideline): 400 mT general
+#: public (continuous, whole body); 2 T occupational, head and trunk; 8 T occupational,
+#: limbs.
+ICNIRP_2009_EXPOSURE_LINES: tuple[ExposureLine, ...] = (
+    ExposureLine(0.4, "400 mT: general public (ICNIRP 2009)", _ICNIRP_2009),
+    ExposureLine(2.0, "2 T: occupational, head and trunk (ICNIRP 2009)", _ICNIRP_2009),
+    ExposureLine(8.0, "8 T: occupational, limbs (ICNIRP 2009)", _ICNIRP_2009),
+)
+
+
+@dataclass(frozen=True)
+class Curve:
+    """One labelled x-y series for :func:`curve_sheet`."""
+
+    label: str
+    x: Any
+    y: Any
+
+
+@dataclass(frozen=True)
+class CurvePanel:
+    """One plot panel of a :func:`curve_sheet`.
+
+    Parameters
+    ----------
+    x_label, y_label : str
+        Axis labels with units (e.g. "time after quench onset, s").
+    curves : tuple of Curve
+    title : str
+    log_y : bool
+    marks : tuple of (str, float)
+        Labelled vertical lines at x values (e.g. ("time constant L/R", 12.0)).
+    """
+
+    x_label: str
+    y_label: str
+    curves: tuple[Curve, ...]
+    title: str = ""
+    log_y: bool = False
+    marks: tuple[tuple[str, float], ...] = ()
+
+
+# --------------------------------------------------------------------------- helpers
+
+
+def format_value(v: float) -> str:
+    """Short human format: three significant digits, no exponent between 0.001 and 10⁶.
+
+    >>> [format_value(v) for v in (0.5, 1.0, 3, 200, 1500, 0.0012)]
+    ['0.5', '1', '3', '200', '1500', '0.0012']
+    """
+    v = float(v)
+    if v == 0 or not math.isfinite(v):
+        return f"{v:g}"
+    a = abs(v)
+    if a >= 1000 and a < 1e6:
+        return f"{v:.0f}"
+    if a >= 1e-3 and a < 1e6:
+        s = f"{v:.3g}"
+        if "e" in s:
+            s = f"{v:.4f}".rstrip("0").rstrip(".")
+        return s
+    return f"{v:.2g}"
+
+
+def scale_bar_length_m(span_m: float) -> float:
+    """A round scale-bar length (1, 2 or 5 × 10ᵏ m) of at most a quarter of ``span_m``.
+
+    >>> scale_bar_length_m(20.0), scale_bar_length_m(60.0), scale_bar_length_m(7.0)
+    (5.0, 10.0, 1.0)
+    """
+    target = span_m / 4.0
+    k = math.floor(math.log10(target))
+    for m in (5, 2, 1):
+        if m * 10**k <= target:
+            return float(m * 10**k)
+    return float(10**k)
+
+
+def footprint_rectangle(center_xy_m: Sequence[float], axis_xy: Sequence[float],
+                        length_m: float, width_m: float) -> Polygon:
+    """Plan footprint of a cylindrical cryostat: a rectangle centred on the magnet.
+
+    Parameters
+    ----------
+    center_xy_m : (2,) float
+        Magnet centre in plan, m.
+    axis_xy : (2,) float
+        Plan projection of the bore axis (any length; for a vertical axis pass (0, 0)
+        and the footprint is a square of side ``width_m``).
+    length_m : float
+        Extent along the axis (winding length or cryostat length), m.
+    width_m : float
+        Extent across the axis (outer winding diameter), m.
+
+    Returns
+    -------
+    shapely.Polygon
+    """
+    c = np.asarray(center_xy_m, float)
+    a = np.asarray(axis_xy, float)
+    n = float(np.hypot(*a))
+    if n < 1e-12:
+        return box(c[0] - width_m / 2, c[1] - width_m / 2, c[0] + width_m / 2,
+                   c[1] + width_m / 2)
+    u = a / n
+    v = np.array([-u[1], u[0]])
+    hl, hw = length_m / 2, width_m / 2
+    pts = [c + su * hl * u + sv * hw * v for su, sv in ((-1, -1), (1, -1), (1, 1), (-1, 1))]
+    return Polygon(pts)
+
+
+def _new_figure() -> Figure:
+    fig = Figure(figsize=A3_LANDSCAPE_IN)
+    FigureCanvasAgg(fig)
+    return fig
+
+
+def _renderer(fig: Figure):
+    return fig.canvas.get_renderer()
+
+
+def _chars_for(width_frac: float, fontsize: float) -> int:
+    """How many average characters of ``fontsize`` fit in a width (figure fraction)."""
+    width_pt = width_frac * A3_LANDSCAPE_IN[0] * 72
+    return max(8, int(width_pt / (0.56 * fontsize)))
+
+
+def _wrap(text: str, width: int) -> str:
+    return "\n".join(textwrap.fill(p, width) for p in str(text).split("\n"))
+
+
+def _polygon_path(geom) -> MplPath:
+    """A matplotlib path for a (Multi)Polygon, holes kept (even-odd compound path)."""
+    polys = _polygons_of(geom)
+    verts, codes = [], []
+    for p in polys:
+        for ring in (p.exterior, *p.interiors):
+            xy = np.asarray(ring.coords)
+            if len(xy) < 3:
+                continue
+            verts.append(xy)
+            c = np.full(len(xy), MplPath.LINETO, dtype=MplPath.code_type)
+            c[0] = MplPath.MOVETO
+            c[-1] = MplPath.CLOSEPOLY
+            codes.append(c)
+    if not verts:
+        return MplPath(np.zeros((0, 2)))
+    return MplPath(np.concatenate(verts), np.concatenate(codes))
+
+
+def _polygons_of(geom) -> list[Polygon]:
+    if geom is None or geom.is_empty:
+        return []
+    if geom.geom_type == "Polygon":
+        return [geom]
+    if hasattr(geom, "geoms"):
+        out: list[Polygon] = []
+        for g in geom.geoms:
+            out.extend(_polygons_of(g))
+        return out
+    return []
+
+
+def _lines_of(geom) -> list[np.ndarray]:
+    if geom is None or geom.is_empty:
+        return []
+    t = geom.geom_type
+    if t in ("LineString", "LinearRing"):
+        return [np.asarray(geom.coords)]
+    if t == "Polygon":
+        return [np.asarray(r.coords) for r in (geom.exterior, *geom.interiors)]
+    if hasattr(geom, "geoms"):
+        out: list[np.ndarray] = []
+        for g in geom.geoms:
+            out.extend(_lines_of(g))
+        return out
+    return []
+
+
+def _check_geometry(key: str, geom, *, area: bool) -> None:
+    ok = isinstance(geom, shapely.Geometry) and not geom.is_empty
+    if ok and area:
+        ok = geom.geom_type in ("Polygon", "MultiPolygon")
+    if not ok:
+        what = "a non-empty shapely Polygon or MultiPolygon" if area else \
+            "a non-empty shapely geometry"
+        raise FringeInputError(must_be(key, what, geom if not isinstance(
+            geom, shapely.Geometry) else geom.wkt[:60]))
+
+
+def _check_axis(key: str, a) -> np.ndarray:
+    arr = np.asarray(a, dtype=float)
+    if arr.ndim != 1 or arr.size < 2 or not np.all(np.isfinite(arr)) \
+            or not np.all(np.diff(arr) > 0):
+        raise FringeInputError(must_be(key, "a 1-D strictly increasing array of at least "
+                                       "2 finite values in metres",
+                                       _short(arr)))
+    return arr
+
+
+def _short(a) -> str:
+    arr = np.asarray(a)
+    if arr.size <= 6:
+        return np.array2string(arr, precision=4)
+    return f"array of shape {arr.shape}"
+
+
+def _check_levels(key: str, levels, *, positive: bool) -> np.ndarray:
+    try:
+        lv = np.asarray(levels, dtype=float).ravel()
+    except (TypeError, ValueError):
+        raise FringeInputError(must_be(key, "a list of numbers", levels)) from None
+    if lv.size == 0:
+        raise FringeInputError(must_be(key, "a non-empty list of levels", list(lv)))
+    if not np.all(np.isfinite(lv)) or (positive and np.any(lv <= 0)):
+        raise FringeInputError(must_be(key, "finite" + (" positive" if positive else "")
+                                       + " numbers", list(lv)))
+    lv = np.unique(lv)
+    return lv
+
+
+# --------------------------------------------------------------------------- frame
+
+
+def _draw_frame(fig: Figure, info: SheetInfo, *, kind: str) -> None:
+    """Border, title block and advisory strip: the parts every sheet shares."""
+    if not isinstance(info, SheetInfo):
+        raise FringeInputError(must_be("info", "a fringe.drawing.SheetInfo", type(info)))
+    fig.patches.append(Rectangle(_FRAME[:2], _FRAME[2], _FRAME[3], transform=fig.transFigure,
+                                 fill=False, edgecolor=_INK, linewidth=1.4, zorder=-10))
+    _draw_advisory(fig)
+    _draw_title_block(fig, info, kind=kind)
+
+
+def _draw_advisory(fig: Figure) -> None:
+    ax = fig.add_axes(_ADVISORY, label="advisory")
+    ax.set_axis_off()
+    ax.add_patch(Rectangle((0, 0), 1, 1, transform=ax.transAxes, fill=False,
+                           edgecolor=_INK, linewidth=1.6))
+    ax.add_patch(Rectangle((0, 0), 0.012, 1, transform=ax.transAxes, facecolor=_INK,
+                           edgecolor="none"))
+    fs = 10.0
+    ax.text(0.024, 0.5, _wrap(ADVISORY_NOTICE, _chars_for(_ADVISORY[2] * 0.95, fs)),
+            transform=ax.transAxes, ha="left", va="center", fontsize=fs, color=_INK,
+            linespacing=1.35, gid="fringe-advisory")
+
+
+def _draw_title_block(fig: Figure, info: SheetInfo, *, kind: str) -> None:
+    ax = fig.add_axes(_TITLE, label="title block")
+    ax.set_axis_off()
+    ax.add_patch(Rectangle((0, 0), 1, 1, transform=ax.transAxes, fill=False,
+                           edgecolor=_INK, linewidth=1.6))
+    h_pt = _TITLE[3] * A3_LANDSCAPE_IN[1] * 72
+    pad = 0.035
+    chars_small = _chars_for(_TITLE[2] * (1 - 2 * pad), 7.5)
+    chars_title = _chars_for(_TITLE[2] * (1 - 2 * pad), 11.5)
+    rows: list[tuple[str, str, float, str]] = [
+        ("drawing", info.title, 11.5, "bold"),
+        ("", info.subtitle, 8.0, "normal"),
+        ("site", info.site_name, 9.0, "bold"),
+        ("magnets", ", ".join(info.magnets) if info.magnets else "", 8.0, "normal"),
+        ("boundary", info.boundary_note, 7.5, "normal"),
+    ]
+    y = 1.0 - pad * 1.2
+    for label, value, fs, weight in rows:
+        if not value:
+            continue
+        width = chars_title if fs > 10 else chars_small
+        text = _wrap(value, width)
+        n_lines = text.count("\n") + 1
+        if label:
+            ax.text(pad, y, label.upper(), transform=ax.transAxes, fontsize=5.5,
+                    color="0.35", ha="left", va="top")
+            y -= 7.0 / h_pt
+        ax.text(pad, y, text, transform=ax.transAxes, fontsize=fs, fontweight=weight,
+                color=_INK, ha="left", va="top", linespacing=1.15)
+        y -= (n_lines * fs * 1.2 + 4.0) / h_pt
+    # bottom row: date | tool | sheet, in three cells
+    row_h = 24.0 / h_pt
+    ax.plot([0, 1], [row_h, row_h], transform=ax.transAxes, color=_INK, linewidth=0.8)
+    for x in (0.30, 0.64):
+        ax.plot([x, x], [0, row_h], transform=ax.transAxes, color=_INK, linewidth=0.8)
+    sheet = info.sheet_number if info.sheet_number is not None else "Sheet -"
+    cells = (("date", info.date_iso or "(undated)", 0.0), ("computed with",
+             info.tool_version, 0.30), ("sheet", sheet, 0.64))
+    for label, value, x0 in cells:
+        ax.text(x0 + pad * 0.7, row_h - 3.0 / h_pt, label.upper(), transform=ax.transAxes,
+                fontsize=5.5, color="0.35", ha="left", va="top")
+        t = ax.text(x0 + pad * 0.7, 4.0 / h_pt, value, transform=ax.transAxes, fontsize=8.0,
+                    color=_INK, ha="left", va="bottom", fontweight="bold")
+        if label == "sheet":
+            t.set_gid(_SHEET_NUMBER_GID if info.sheet_number is not None
+                      else _SHEET_NUMBER_GID + "-auto")
+
+
+def _draw_key_column(fig: Figure, handles: list, labels: list[str], title: str,
+                     notes: Sequence[str]) -> None:
+    """Legend (top of the key column) and numbered notes right below it."""
+    ax = fig.add_axes(_KEY, label="key")
+    ax.set_axis_off()
+    fs = 8.0
+    width = _chars_for(_KEY[2] * 0.78, fs)
+    top = 1.0
+    if handles:
+        leg = ax.legend(handles, [_wrap(lb, width) for lb in labels], loc="upper left",
+                        bbox_to_anchor=(0.0, 1.0), fontsize=fs, title=title,
+                        title_fontsize=9.5, frameon=True, edgecolor=_INK, fancybox=False,
+                        alignment="left", handlelength=2.6, handleheight=1.3,
+                        borderpad=0.8, labelspacing=0.55)
+        leg.get_frame().set_linewidth(1.0)
+        bb = leg.get_window_extent(_renderer(fig))
+        top = ax.transAxes.inverted().transform((bb.x0, bb.y0))[1] - 0.03
+    if notes:
+        fs_n = 7.5
+        wn = _chars_for(_KEY[2] * 0.95, fs_n)
+        body = "\n".join(_wrap(f"{i}. {n}", wn) for i, n in enumerate(notes, 1))
+        ax.text(0.0, top, "NOTES", transform=ax.transAxes, fontsize=8.5, fontweight="bold",
+                va="top", ha="left", color=_INK)
+        ax.text(0.0, top - 0.03, body, transform=ax.transAxes, fontsize=fs_n, va="top",
+                ha="left", color=_INK, linespacing=1.25)
+
+
+# --------------------------------------------------------------------------- map parts
+
+
+def _band_colors(cmap: str, n: int) -> list:
+    """``n`` colours from a perceptually uniform colormap, lowest band lightest."""
+    cm = matplotlib.colormaps[cmap]
+    ts = np.linspace(0.0, 0.78, n) if n > 1 else np.array([0.0])
+    return [cm(float(t)) for t in ts]
+
+
+def _log_or_linear(values, log: bool) -> np.ndarray:
+    v = np.asarray(values, float)
+    if not log:
+        return v
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(v > 0, np.log10(np.where(v > 0, v, 1.0)), np.nan)
+
+
+@dataclass
+class _LineSet:
+    """Contour lines waiting for labels: placed after rooms so they avoid room names."""
+
+    cs: Any
+    labels: list[str]
+    short_labels: list[str]
+    fontsize: float
+    weight: str
+    color: Any
+
+
+def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | None,
+                boundary_label: str | None, cmap: str, band_alpha: float,
+                log_contours: bool) -> tuple[list, list[_LineSet]]:
+    """Filled bands between consecutive levels, contour lines, emphasised boundary.
+
+    Returns legend entries (handle, label) and the unlabelled line sets (boundary first).
+    """
+    vals = np.asarray(values, float)
+    finite = vals[np.isfinite(vals)]
+    vmax = float(finite.max()) if finite.size else -np.inf
+    vmin = float(finite.min()) if finite.size else np.inf
+    fill_levels = list(levels)
+    if vmax > levels[-1]:
+        fill_levels.append(vmax * (1.0 + 1e-9) if vmax > 0 else vmax + 1e-12)
+    n_bands = len(fill_levels) - 1
+    colors = _band_colors(cmap, len(levels))  # one colour per "at least level i" band
+    Z = _log_or_linear(vals, log_contours)
+    entries: list = []
+    if n_bands >= 1 and vmax > levels[0]:
+        ax.contourf(x, y, Z, levels=_log_or_linear(fill_levels, log_contours),
+                    colors=colors[:n_bands], alpha=band_alpha, zorder=1, antialiased=True)
+    for i in range(len(levels) - 1, -1, -1):  # legend: highest band first
+        lo = levels[i]
+        if i == len(levels) - 1:
+            text = f"at least {format_value(lo)} {unit}"
+        else:
+            text = f"{format_value(lo)} to {format_value(levels[i + 1])} {unit}"
+        entries.append((Patch(facecolor=colors[i], alpha=band_alpha, edgecolor="0.4",
+                              linewidth=0.5), text))
+    entries.append((Patch(facecolor="white", edgecolor="0.4", linewidth=0.5),
+                    f"below {format_value(levels[0])} {unit} (no fill)"))
+    sets: list[_LineSet] = []
+    if boundary_level is not None:
+        blabel = boundary_label or f"{format_value(boundary_level)} {unit}"
+        if vmin < boundary_level < vmax:
+            csb = ax.contour(x, y, Z, levels=_log_or_linear([boundary_level], log_contours),
+                             colors=_INK, linewidths=2.6, linestyles="solid", zorder=4)
+            sets.append(_LineSet(csb, [blabel], [f"{format_value(boundary_level)} {unit}"],
+                                 8.5, "bold", _INK))
+        entries.append((Line2D([], [], color=_INK, linewidth=2.6), blabel))
+    plain = [lv for lv in levels if vmin < lv < vmax and (boundary_level is None or not
+             math.isclose(lv, boundary_level, rel_tol=1e-9))]
+    if plain:
+        cs = ax.contour(x, y, Z, levels=_log_or_linear(plain, log_contours), colors=_INK,
+                        linewidths=0.7, linestyles="solid", zorder=3)
+        texts = [f"{format_value(v)} {unit}" for v in plain]
+        sets.append(_LineSet(cs, texts, texts, 7.5, "normal", _INK))
+    entries.append((Line2D([], [], color=_INK, linewidth=0.7),
+                    f"threshold lines, labelled in {unit}"))
+    return entries, sets
+
+
+def _text_size_px(ax, renderer, text: str, fontsize: float, weight: str) -> tuple[float, float]:
+    t = ax.text(0, 0, text, fontsize=fontsize, fontweight=weight)
+    bb = t.get_window_extent(renderer)
+    t.remove()
+    return bb.width, bb.height
+
+
+def _clearance(box: Bbox, occupied: list[Bbox]) -> float:
+    """Smallest gap in px between ``box`` and any occupied box (0 if overlapping)."""
+    best = math.inf
+    for o in occupied:
+        dx = max(o.x0 - box.x1, box.x0 - o.x1, 0.0)
+        dy = max(o.y0 - box.y1, box.y0 - o.y1, 0.0)
+        best = min(best, math.hypot(dx, dy))
+    return best
+
+
+def _label_lines(ax, renderer, line_sets: Sequence[_LineSet], occupied: list[Bbox],
+                 max_per_level: int = 2) -> list:
+    """Label contour lines inline where the label is clear of everything already placed.
+
+    For each level, candidate points are sampled along every line piece long enough to
+    carry the label; a point is accepted where the rotated label box stays inside the
+    axes and clear of ``occupied`` (preferring the lower left, so labels of nested lines
+    line up). The long label of a set falls back to its short form when no piece can
+    carry it. Every placed label box is appended to ``occupied``.
+    """
+    axbb = ax.get_window_extent(renderer)
+    inner = Bbox.from_extents(axbb.x0 + 4, axbb.y0 + 4, axbb.x1 - 4, axbb.y1 - 4)
+    out = []
+    for ls in line_sets:
+        cs = ls.cs
+        paths = cs.get_paths()
+        fmt: dict[float, str] = {}
+        plan: list[tuple[float, float]] = []
+        for i, path in enumerate(paths):
+            if i >= len(ls.labels):
+                break
+            pieces = [np.asarray(p) for p in path.to_polygons(closed_only=False)
+                      if len(p) >= 2]
+            pieces.sort(key=lambda p: -len(p))
+            for text in dict.fromkeys([ls.labels[i], ls.short_labels[i]]):
+                w, h = _text_size_px(ax, renderer, text, ls.fontsize, ls.weight)
+                chosen = []
+                for piece in pieces:
+                    if len(chosen) >= max_per_level:
+                        break
+                    pt = _best_point_on_piece(ax, piece, w, h, inner, occupied + [
+                        b for _, b in chosen])
+                    if pt is not None:
+                        chosen.append(pt)
+                if chosen:
+                    fmt[float(cs.levels[i])] = text
+                    for p, b in chosen:
+                        plan.append(tuple(p))
+                        occupied.append(b)
+                    break
+        if not plan:
+            continue
+        cs.clabel(levels=list(fmt), fmt=fmt, fontsize=ls.fontsize, inline=True,
+                  inline_spacing=3, manual=[], colors=[ls.color] * len(fmt))
+        for px, py in plan:
+            cs.add_label_near(px, py, inline=True, inline_spacing=3, transform=False)
+        for t in cs.labelTexts:
+            t.set_gid("contour-label")
+            t.set_fontweight(ls.weight)
+            t.set_path_effects(_HALO)
+            t.set_zorder(8)
+            out.append(t)
+    return out
+
+
+def _best_point_on_piece(ax, piece, w, h, inner: Bbox, occupied: list[Bbox]):
+    d = ax.transData.transform(piece)
+    good = np.all(np.isfinite(d), axis=1)
+    d = d[good]
+    if len(d) < 2:
+        return None
+    seg = np.hypot(*np.diff(d, axis=0).T)
+    length = float(seg.sum())
+    if length < 2.2 * w:
+        return None
+    s = np.concatenate([[0.0], np.cumsum(seg)])
+    closed = np.allclose(d[0], d[-1], atol=1.0)
+    margin = 0.0 if closed else 0.7 * w
+    ts = np.arange(margin, length - margin + 1e-9, max(w / 4.0, 4.0))
+    if ts.size == 0:
+        return None
+    px = np.interp(ts, s, d[:, 0])
+    py = np.interp(ts, s, d[:, 1])
+    # local direction over about one label width
+    ta = np.clip(ts - w / 2, 0, length)
+    tb = np.clip(ts + w / 2, 0, length)
+    ang = np.arctan2(np.interp(tb, s, d[:, 1]) - np.interp(ta, s, d[:, 1]),
+                     np.interp(tb, s, d[:, 0]) - np.interp(ta, s, d[:, 0]))
+    ew = np.abs(w * np.cos(ang)) + np.abs(h * np.sin(ang)) + 6
+    eh = np.abs(w * np.sin(ang)) + np.abs(h * np.cos(ang)) + 6
+    cap = 1.5 * h
+    best = None
+    for k in range(ts.size):
+        b = Bbox.from_bounds(px[k] - ew[k] / 2, py[k] - eh[k] / 2, ew[k], eh[k])
+        if b.x0 < inner.x0 or b.x1 > inner.x1 or b.y0 < inner.y0 or b.y1 > inner.y1:
+            continue
+        c = min(_clearance(b, occupied), cap)
+        if c <= 0:
+            continue
+        score = c - 1e-4 * (px[k] + py[k])
+        if best is None or score > best[0]:
+            best = (score, (px[k], py[k]), b)
+    return None if best is None else (best[1], best[2])
+
+
+def _add_polygon(ax, geom, **kw):
+    patch = PathPatch(_polygon_path(geom), **kw)
+    ax.add_patch(patch)
+    return patch
+
+
+def _fit_label(ax, renderer, poly, lines: list[str], bold_first: bool,
+               avoid=None, fs_max: float = 7.5, fs_min: float = 4.5):
+    """Place a multi-line label inside ``poly``, shrinking/rotating it to fit.
+
+    The label is centred on the pole of inaccessibility of ``poly`` minus ``avoid``
+    and clipped to ``poly`` whatever happens.
+    """
+    region = poly
+    if avoid is not None and not avoid.is_empty:
+        rest = poly.difference(avoid)
+        if not rest.is_empty and rest.area > 0.15 * poly.area:
+            region = rest
+    parts = _polygons_of(region) or _polygons_of(poly)
+    core = max(parts, key=lambda p: p.area)
+    span = max(core.bounds[2] - core.bounds[0], core.bounds[3] - core.bounds[1])
+    p = polylabel(core, tolerance=max(span * 1e-3, 1e-6))
+    x0, y0, x1, y1 = core.bounds
+    hseg = _segment_through(core, LineString([(x0 - 1, p.y), (x1 + 1, p.y)]), p)
+    cx = (hseg[0] + hseg[1]) / 2 if hseg else p.x
+    vseg = _segment_through(core, LineString([(cx, y0 - 1), (cx, y1 + 1)]), Point(cx, p.y))
+    cy = (vseg[0] + vseg[1]) / 2 if vseg else p.y
+    w_m = (hseg[1] - hseg[0]) if hseg else 0.0
+    h_m = (vseg[1] - vseg[0]) if vseg else 0.0
+    sx, sy = _display_per_metre(ax)
+    avail = (0.92 * w_m * sx, 0.88 * h_m * sy)
+
+    t = ax.text(cx, cy, "", ha="center", va="center", color=_INK, zorder=7,
+                path_effects=_HALO, linespacing=1.1, gid="room-label")
+    if bold_first:
+        t.set_fontweight("bold")
+    patch = PathPatch(_polygon_path(poly), transform=ax.transData, visible=False)
+    ax.add_patch(patch)
+    t.set_clip_path(patch)
+    chosen = None
+    for n_keep in range(len(lines), 0, -1):
+        text = "\n".join(lines[:n_keep])
+        t.set_text(text)
+        for rot in (0, 90):
+            if rot == 90 and not (h_m > 1.3 * w_m):
+                continue
+            t.set_rotation(rot)
+            aw, ah = (avail[1], avail[0]) if rot == 90 else avail
+            fs = fs_max
+            while fs >= fs_min - 1e-9:
+                t.set_fontsize(fs)
+                bb = t.get_window_extent(renderer)
+                bw, bh = (bb.height, bb.width) if rot == 90 else (bb.width, bb.height)
+                if bw <= aw and bh <= ah:
+                    chosen = (text, rot, fs)
+                    break
+                fs -= 0.5
+            if chosen:
+                break
+        if chosen:
+            break
+    if chosen is None:
+        t.set_text(lines[0])
+        t.set_rotation(90 if h_m > 1.3 * w_m else 0)
+        t.set_fontsize(fs_min)
+    return t
+
+
+def _segment_through(poly, line, p) -> tuple[float, float] | None:
+    """Extent (min, max along the line's direction) of the piece of ``poly ∩ line`` at p."""
+    inter = poly.intersection(line)
+    horizontal = abs(line.coords[0][1] - line.coords[-1][1]) < 1e-12
+    best = None
+    for seg in _lines_of(inter):
+        ls = LineString(seg)
+        if ls.distance(p) < 1e-9 * max(1.0, ls.length) + 1e-9:
+            c = seg[:, 0] if horizontal else seg[:, 1]
+            best = (float(c.min()), float(c.max()))
+    return best
+
+
+def _display_per_metre(ax) -> tuple[float, float]:
+    t = ax.transData
+    o = t.transform((0.0, 0.0))
+    ex = t.transform((1.0, 0.0))
+    ey = t.transform((0.0, 1.0))
+    return float(abs(ex[0] - o[0])), float(abs(ey[1] - o[1]))
+
+
+def _draw_rooms(ax, renderer, rooms: Sequence[RoomMark], avoid) -> tuple[list, list]:
+    texts = []
+    any_exceeds = any_controlled = False
+    for i, r in enumerate(rooms):
+        if not isinstance(r, RoomMark):
+            raise FringeInputError(must_be(f"rooms[{i}]", "a fringe.drawing.RoomMark", r))
+        _check_geometry(f"rooms[{i}].polygon ({r.name})", r.polygon, area=True)
+        exceeds = (r.verdict or "").lower() == VERDICT_EXCEEDS
+        controlled = r.access == "controlled"
+        any_exceeds |= exceeds
+        any_controlled |= controlled
+        if exceeds:
+            _add_polygon(ax, r.polygon, facecolor="none", edgecolor=_INK, linewidth=0.0,
+                         hatch="///", alpha=0.55, zorder=5)
+        _add_polygon(ax, r.polygon, facecolor="none", edgecolor=_INK,
+                     linewidth=2.8 if exceeds else (1.5 if controlled else 1.0),
+                     linestyle="-", zorder=6)
+        lines = [r.name]
+        detail = []
+        if controlled:
+            detail.append("controlled")
+        if r.max_field_T is not None:
+            detail.append(f"max {format_value(r.max_field_T * 1e3)} mT")
+        if detail:
+            lines.append(", ".join(detail))
+        if exceeds:
+            lim = (f" {format_value(r.limit_T * 1e3)} mT" if r.limit_T is not None else "")
+            lines.append(f"EXCEEDS LIMIT{lim}")
+        elif r.verdict:
+            lines.append(str(r.verdict))
+        texts.append(_fit_label(ax, renderer, r.polygon, lines, bold_first=True,
+                                avoid=avoid))
+        if exceeds:
+            texts[-1].set_fontweight("bold")
+    handles, labels = [], []
+    if rooms:
+        handles.append(Patch(facecolor="none", edgecolor=_INK, linewidth=1.0))
+        labels.append("room outline with name and largest field in its occupied band")
+    if any_controlled:
+        handles.append(Patch(facecolor="none", edgecolor=_INK, linewidth=1.5))
+        labels.append("controlled room (may hold fields above the boundary)")
+    if any_exceeds:
+        handles.append(Patch(facecolor="none", edgecolor=_INK, linewidth=2.8, hatch="///"))
+        labels.append("room whose field reaches its limit: hatched, bold, EXCEEDS")
+    return texts, list(zip(handles, labels, strict=True))
+
+
+def _draw_magnets(ax, magnets, *, section: bool = False) -> tuple[list, list]:
+    texts = []
+    for i, m in enumerate(magnets):
+        name, poly = (m.name, m.polygon) if isinstance(m, MagnetOutline) else tuple(m)
+        _check_geometry(f"magnets[{i}].polygon ({name})", poly, area=True)
+        _add_polygon(ax, poly, facecolor="0.35" if section else "white",
+                     edgecolor=_INK, linewidth=1.8, alpha=0.95, zorder=6.5)
+        if not section:
+            c = poly.centroid
+            t = ax.text(c.x, c.y, name, ha="center", va="center", fontsize=7,
+                        fontweight="bold", color=_INK, zorder=7.5, path_effects=_HALO,
+                        gid="magnet-label")
+            patch = PathPatch(_polygon_path(poly), transform=ax.transData, visible=False)
+            ax.add_patch(patch)
+            t.set_clip_path(patch)
+            texts.append(t)
+    entries = []
+    if magnets:
+        if section:
+            entries.append((Patch(facecolor="0.35", edgecolor=_INK, linewidth=1.5),
+                            "magnet windings (cross-section)"))
+        else:
+            entries.append((Patch(facecolor="white", edgecolor=_INK, linewidth=1.8),
+                            "magnet footprint (windings projected on the plan)"))
+    return texts, entries
+
+
+def _draw_overlays(ax, overlays) -> list:
+    entries = []
+    for i, ov in enumerate(overlays):
+        label, geom, kind = (ov.label, ov.geometry, ov.kind) if isinstance(ov, Overlay) \
+            else tuple(ov)
+        if kind not in OVERLAY_KINDS:
+            raise FringeInputError(must_be(f"overlays[{i}].kind",
+                                           f"one of {sorted(OVERLAY_KINDS)}", kind))
+        _check_geometry(f"overlays[{i}].geometry ({label})", geom, area=False)
+        st = OVERLAY_KINDS[kind]
+        polys = _polygons_of(geom)
+        if polys and st["hatch"]:
+            # white underlay keeps the hatch legible on dark bands
+            _add_polygon(ax, geom, facecolor="none", edgecolor="white", linewidth=3.2,
+                         zorder=4.4)
+            _add_polygon(ax, geom, facecolor="none", edgecolor=st["edgecolor"],
+                         hatch=st["hatch"], linewidth=st["linewidth"],
+                         linestyle=st["linestyle"], zorder=4.5)
+            handle = Patch(facecolor="none", edgecolor=st["edgecolor"], hatch=st["hatch"],
+                           linewidth=st["linewidth"])
+        else:
+            for xy in _lines_of(geom):
+                ax.plot(xy[:, 0], xy[:, 1], color=st["edgecolor"],
+                        linewidth=st["linewidth"], linestyle=st["linestyle"], zorder=4.5,
+                        path_effects=[patheffects.withStroke(linewidth=st["linewidth"] + 2,
+                                                             foreground="white")])
+            handle = Line2D([], [], color=st["edgecolor"], linewidth=st["linewidth"],
+                            linestyle=st["linestyle"])
+        entries.append((handle, str(label)))
+    return entries
+
+
+def _overlap_area(a: Bbox, b: Bbox) -> float:
+    w = min(a.x1, b.x1) - max(a.x0, b.x0)
+    h = min(a.y1, b.y1) - max(a.y0, b.y0)
+    return w * h if (w > 0 and h > 0) else 0.0
+
+
+_OFFSETS_PT = [(d * cx, d * cy) for d in (9, 18, 30, 44)
+               for cx, cy in ((1, 1), (1, -1), (-1, 1), (-1, -1), (1.4, 0), (-1.4, 0),
+                              (0, 1.2), (0, -1.2))]
+
+
+def _draw_equipment(ax, renderer, equipment, occupied: list[Bbox]) -> tuple[list, list]:
+    texts = []
+    any_exceeds = False
+    axbb = ax.get_window_extent(renderer)
+    for i, e in enumerate(equipment):
+        if not isinstance(e, EquipmentMark):
+            raise FringeInputError(must_be(f"equipment[{i}]", "a fringe.drawing.EquipmentMark",
+                                           e))
+        xy = np.asarray(e.xy_m, float).ravel()
+        if xy.size != 2 or not np.all(np.isfinite(xy)):
+            raise FringeInputError(must_be(f"equipment[{i}].xy_m ({e.name})",
+                                           "two finite coordinates in metres", e.xy_m))
+        exceeds = (e.verdict or "").lower() == VERDICT_EXCEEDS
+        any_exceeds |= exceeds
+        ax.plot([xy[0]], [xy[1]], marker="D", markersize=7 if exceeds else 6,
+                markerfacecolor=_INK if exceeds else "white", markeredgecolor=_INK,
+                markeredgewidth=1.4, linestyle="none", zorder=9)
+        parts = []
+        if e.field_T is not None:
+            parts.append(f"{format_value(e.field_T * 1e3)} mT")
+        if e.limit_T is not None:
+            parts.append(f"limit {format_value(e.limit_T * 1e3)} mT")
+        line2 = ", ".join(parts)
+        if exceeds:
+            line2 = (line2 + ": " if line2 else "") + "EXCEEDS"
+        elif e.verdict:
+            line2 = (line2 + ": " if line2 else "") + str(e.verdict)
+        text = e.name + ("\n" + line2 if line2 else "")
+        best = None
+        for dx, dy in _OFFSETS_PT:
+            ha = "left" if dx > 0 else ("right" if dx < 0 else "center")
+            va = "bottom" if dy > 0 else ("top" if dy < 0 else "center")
+            ann = ax.annotate(text, xy=(xy[0], xy[1]), xytext=(dx, dy),
+                              textcoords="offset points", ha=ha, va=va, fontsize=7,
+                              color=_INK, zorder=9.5, path_effects=_HALO,
+                              fontweight="bold" if exceeds else "normal",
+                              gid="equipment-label",
+                              arrowprops={"arrowstyle": "-", "color": _INK, "linewidth": 0.6,
+                                          "shrinkA": 0, "shrinkB": 3})
+            bb = Text.get_window_extent(ann, renderer)  # the text only, not the leader
+            cost = sum(_overlap_area(bb, o) for o in occupied)
+            outside = (bb.width * bb.height) - _overlap_area(bb, axbb)
+            cost += 4 * outside
+            if best is None or cost < best[0]:
+                if best is not None:
+                    best[1].remove()
+                best = (cost, ann, bb)
+            else:
+                ann.remove()
+            if cost == 0:
+                break
+        occupied.append(best[2])
+        texts.append(best[1])
+    entries = []
+    if equipment:
+        entries.append((Line2D([], [], marker="D", markerfacecolor="white",
+                                markeredgecolor=_INK, linestyle="none", markersize=6),
+                        "sensitive equipment: field there and its limit"))
+    if any_exceeds:
+        entries.append((Line2D([], [], marker="D", markerfacecolor=_INK,
+                                markeredgecolor=_INK, linestyle="none", markersize=7),
+                        "equipment whose field reaches its limit (EXCEEDS)"))
+    return texts, entries
+
+
+def _draw_scale_bar(ax, x_range, y_range, renderer) -> Bbox:
+    """Scale bar in data metres at the lower left; returns its box in display px.
+
+    The bar is ``scale_bar_length_m`` long in data coordinates, in four alternating
+    segments (artists with gid "scale-bar-0" ... "scale-bar-3").
+    """
+    span = x_range[1] - x_range[0]
+    length = scale_bar_length_m(span)
+    h = 0.012 * (y_range[1] - y_range[0])
+    x0 = x_range[0] + 0.035 * span
+    y0 = y_range[0] + 0.045 * (y_range[1] - y_range[0])
+    n = 4
+    bg = Rectangle((x0 - 0.015 * span, y0 - 2.2 * h), length + 0.06 * span, 6.2 * h,
+                   facecolor="white", edgecolor="0.5", linewidth=0.6, alpha=0.9, zorder=10,
+                   gid="scale-bar-background")
+    ax.add_patch(bg)
+    for k in range(n):
+        ax.add_patch(Rectangle((x0 + k * length / n, y0), length / n, h,
+                               facecolor=_INK if k % 2 == 0 else "white", edgecolor=_INK,
+                               linewidth=0.8, zorder=11, gid=f"scale-bar-{k}"))
+    ax.text(x0, y0 + 1.6 * h, "0", ha="center", va="bottom", fontsize=7.5, zorder=11)
+    ax.text(x0 + length, y0 + 1.6 * h, f"{format_value(length)} m", ha="center",
+            va="bottom", fontsize=7.5, zorder=11, gid="scale-bar-label")
+    ax.text(x0 + length / 2, y0 - 0.6 * h, "scale", ha="center", va="top", fontsize=6.5,
+            color="0.3", zorder=11)
+    return bg.get_window_extent(renderer)
+
+
+def _draw_north_arrow(ax, renderer) -> Bbox:
+    ax.annotate("", xy=(0.965, 0.975), xytext=(0.965, 0.885), xycoords="axes fraction",
+                arrowprops={"arrowstyle": "-|>,head_width=0.45,head_length=0.9",
+                            "color": _INK, "linewidth": 1.8}, zorder=11)
+    t = ax.text(0.965, 0.87, "N", transform=ax.transAxes, ha="center", va="top",
+                fontsize=11, fontweight="bold", zorder=11, path_effects=_HALO)
+    bb = t.get_window_extent(renderer)
+    top = ax.transAxes.transform((0.965, 0.975))
+    return Bbox.from_extents(bb.x0 - 8, bb.y0 - 2, bb.x1 + 8, top[1] + 2)
+
+
+def _setup_map_axes(fig, x, y, x_label, y_label):
+    ax = fig.add_axes(_MAIN, label="map")
+    ax.set_xlim(x[0], x[-1])
+    ax.set_ylim(y[0], y[-1])
+    ax.set_aspect("equal", adjustable="box", anchor="C")
+    ax.set_xlabel(x_label, fontsize=8.5)
+    ax.set_ylabel(y_label, fontsize=8.5)
+    ax.tick_params(labelsize=7.5, direction="in", top=True, right=True)
+    ax.grid(True, color="0.6", linewidth=0.3, alpha=0.5, zorder=0)
+    ax.set_axisbelow(True)
+    ax.apply_aspect()
+    return ax
+
+
+def _map_inputs(x_m, y_m, values, levels, positive: bool):
+    x = _check_axis("x_m", x_m)
+    y = _check_axis("y_m", y_m)
+    v = np.asarray(values, dtype=float)
+    if v.shape != (y.size, x.size):
+        raise FringeInputError(must_be("values", f"an array of shape (len(y_m), len(x_m)) = "
+                                       f"({y.size}, {x.size})", f"shape {v.shape}"))
+    lv = _check_levels("levels", levels, positive=positive)
+    return x, y, v, lv
+
+
+# --------------------------------------------------------------------------- sheets
+
+
+def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
+              quantity: str = "|B|", boundary_level: float | None = None,
+              boundary_label: str | None = None, rooms: Sequence[RoomMark] = (),
+              equipment: Sequence[EquipmentMark] = (), magnets: Sequence = (),
+              overlays: Sequence = (), notes: Sequence[str] = (), cmap: str = "viridis_r",
+              band_alpha: float = 0.62, log_contours: bool | None = None,
+              x_label: str = "x (east), m", y_label: str = "y (north), m",
+              north_arrow: bool = True) -> Figure:
+    """A plan sheet of any scalar map: filled bands between levels and labelled lines.
+
+    Parameters
+    ----------
+    x_m : (nx,) float
+        Grid x (east) coordinates, m, strictly increasing.
+    y_m : (ny,) float
+        Grid y (north) coordinates, m, strictly increasing.
+    values : (ny, nx) float
+        The map in the unit ``unit`` (NaN where undefined, e.g. inside windings).
+    levels : sequence of float
+        Band edges in ``unit``; the lowest band starts at ``levels[0]`` (no fill below),
+        the highest is open above ``levels[-1]``.
+    info : SheetInfo
+    unit : str
+        Unit printed on labels and in the legend ("mT", "J/m³", ...).
+    quantity : str
+        Symbol of the quantity for the legend title.
+    boundary_level : float, optional
+        A level drawn as a thick line and labelled ``boundary_label``; added to
+        ``levels`` if missing.
+    rooms, equipment, magnets, overlays
+        :class:`RoomMark`, :class:`EquipmentMark`, :class:`MagnetOutline` or
+        ``(name, polygon)``, :class:`Overlay` or ``(label, geometry, kind)``.
+    notes : sequence of str
+        Extra notes appended after ``info.notes``.
+    cmap : str
+        Matplotlib colormap name; the lowest band takes the start of the map (light for
+        the reversed perceptually uniform maps "viridis_r", "cividis_r", "magma_r").
+    band_alpha : float
+        Opacity of the bands, so room outlines and text stay legible.
+    log_contours : bool, optional
+        Interpolate the lines on log10(values) (smoother for fields falling as 1/r³).
+        Default: when every level and some value is positive.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        A3 landscape; no pyplot state is touched.
+
+    Raises
+    ------
+    FringeInputError
+        Mismatched shapes, empty or non-finite levels, bad geometries or overlay kinds.
+    """
+    x, y, v, lv = _map_inputs(x_m, y_m, values, levels, positive=False)
+    if boundary_level is not None:
+        if not math.isfinite(boundary_level):
+            raise FringeInputError(must_be("boundary_level", "a finite number",
+                                           boundary_level))
+        if not np.any(np.isclose(lv, boundary_level, rtol=1e-9, atol=0)):
+            lv = np.unique(np.append(lv, boundary_level))
+    if log_contours is None:
+        log_contours = bool(np.all(lv > 0))
+    elif log_contours and np.any(lv <= 0):
+        raise FringeInputError(must_be("levels", "all positive when log_contours is True",
+                                       list(lv)))
+    fig = _new_figure()
+    _draw_frame(fig, info, kind="plan")
+    ax = _setup_map_axes(fig, x, y, x_label, y_label)
+    renderer = _renderer(fig)
+    entries, line_sets = _draw_bands(ax, x, y, v, list(lv), unit=unit,
+                                     boundary_level=boundary_level,
+                                     boundary_label=boundary_label, cmap=cmap,
+                                     band_alpha=band_alpha, log_contours=log_contours)
+    entries += _draw_overlays(ax, overlays)
+    mag_texts, mag_entries = _draw_magnets(ax, magnets)
+    sx, _sy = _display_per_metre(ax)
+    keep_clear = [m.polygon if isinstance(m, MagnetOutline) else m[1] for m in magnets]
+    keep_clear = [g.buffer(6.0 / sx) for g in keep_clear]
+    keep_clear += [Point(np.asarray(e.xy_m, float).ravel()[:2]).buffer(14.0 / sx)
+                   for e in equipment if isinstance(e, EquipmentMark)]
+    avoid = shapely.union_all(keep_clear) if keep_clear else None
+    room_texts, room_entries = _draw_rooms(ax, renderer, rooms, avoid)
+    entries += room_entries + mag_entries
+    occupied = [t.get_window_extent(renderer) for t in room_texts + mag_texts
+                if t.get_text()]
+    occupied.append(_draw_scale_bar(ax, (x[0], x[-1]), (y[0], y[-1]), renderer))
+    if north_arrow:
+        occupied.append(_draw_north_arrow(ax, renderer))
+    for e in equipment:
+        if isinstance(e, EquipmentMark):
+            p = ax.transData.transform(np.asarray(e.xy_m, float).ravel()[:2])
+            occupied.append(Bbox.from_bounds(p[0] - 6, p[1] - 6, 12, 12))
+    _label_lines(ax, renderer, line_sets, occupied)
+    _eq_texts, eq_entries = _draw_equipment(ax, renderer, equipment, occupied)
+    entries += eq_entries
+    _draw_key_column(fig, [h for h, _ in entries], [lb for _, lb in entries],
+                     f"{quantity} in {unit}", list(info.notes) + list(notes))
+    return fig
+
+
+def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
+               thresholds_mT: Sequence[float] = DEFAULT_THRESHOLDS_MT,
+               boundary_mT: float | None = 0.5, boundary_label: str | None = None,
+               rooms: Sequence[RoomMark] = (), equipment: Sequence[EquipmentMark] = (),
+               magnets: Sequence = (), overlays: Sequence = (), notes: Sequence[str] = (),
+               cmap: str = "viridis_r") -> Figure:
+    """Floor plan of the field magnitude in mT, with rooms, equipment and the boundary.
+
+    Parameters
+    ----------
+    x_m : (nx,) float
+        Site x (east) of the grid columns, m.
+    y_m : (ny,) float
+        Site y (north) of the grid rows, m.
+    field_T : (ny, nx) float
+        |B| in tesla (e.g. the largest over the floor's occupied band); NaN allowed.
+    info : SheetInfo
+    thresholds_mT : sequence of float
+        Band edges and labelled lines, mT (default 0.5, 1, 3, 10, 40, 200).
+    boundary_mT : float or None
+        Controlled access area boundary, mT, drawn thick (added to the thresholds if
+        missing). ``None`` draws no boundary line.
+    boundary_label : str, optional
+        Default "<value> mT: controlled access area boundary".
+    rooms, equipment, magnets, overlays, notes, cmap
+        As :func:`map_sheet`.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+
+    Raises
+    ------
+    FringeInputError
+        Mismatched shapes, empty or non-positive thresholds, bad geometries.
+    """
+    lv = _check_levels("thresholds_mT", thresholds_mT, positive=True)
+    if boundary_mT is not None and not (math.isfinite(boundary_mT) and boundary_mT > 0):
+        raise FringeInputError(must_be("boundary_mT", "a positive number of mT or None",
+                                       boundary_mT))
+    x, y, v, _ = _map_inputs(x_m, y_m, field_T, lv, positive=True)
+    label = boundary_label
+    if boundary_mT is not None and label is None:
+        label = f"{format_value(boundary_mT)} mT: controlled access area boundary"
+    return map_sheet(x, y, v * 1e3, lv, info, unit="mT", quantity="|B|",
+                     boundary_level=boundary_mT, boundary_label=label, rooms=rooms,
+                     equipment=equipment, magnets=magnets, overlays=overlays, notes=notes,
+                     cmap=cmap, log_contours=True)
+
+
+def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
+                  thresholds_mT: Sequence[float] = DEFAULT_THRESHOLDS_MT,
+                  boundary_mT: float | None = 0.5, boundary_label: str | None = None,
+                  floors: Sequence = (), windings: Sequence = (),
+                  exposure_lines: Sequence[ExposureLine] = (), overlays: Sequence = (),
+                  notes: Sequence[str] = (), s_label: str = "s along the section line, m",
+                  cmap: str = "viridis_r") -> Figure:
+    """Vertical section of |B| in mT: bands, labelled lines, floors, windings, exposure.
+
+    Parameters
+    ----------
+    s_m : (ns,) float
+        Horizontal coordinate along the section line, m (e.g. 0 at the magnet centre).
+    z_m : (nz,) float
+        Site z (up), m.
+    field_T : (nz, ns) float
+        |B| in tesla; NaN allowed (e.g. inside windings).
+    info : SheetInfo
+    thresholds_mT, boundary_mT, boundary_label
+        As :func:`plan_sheet`.
+    floors : sequence of FloorLevel (or any object with ``name, elevation_m,
+        band_bottom_m, band_top_m``, e.g. ``fringe.plan.Floor``)
+        Slab levels drawn as lines; occupied bands shaded lightly.
+    windings : sequence of MagnetOutline or (name, polygon)
+        Winding cross-sections in (s, z), m.
+    exposure_lines : sequence of ExposureLine
+        Drawn as dashed labelled lines where |B| equals their value; their sources are
+        printed in the notes (e.g. :data:`ICNIRP_2009_EXPOSURE_LINES`).
+    overlays, notes, s_label, cmap
+        As :func:`map_sheet`; ``s_label`` names the horizontal axis.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+
+    Raises
+    ------
+    FringeInputError
+        Mismatched shapes, empty thresholds, bad floors, windings or exposure values.
+    """
+    lv = _check_levels("thresholds_mT", thresholds_mT, positive=True)
+    if boundary_mT is not None and not (math.isfinite(boundary_mT) and boundary_mT > 0):
+        raise FringeInputError(must_be("boundary_mT", "a positive number of mT or None",
+                                       boundary_mT))
+    s = _check_axis("s_m", s_m)
+    z = _check_axis("z_m", z_m)
+    v = np.asarray(field_T, float)
+    if v.shape != (z.size, s.size):
+        raise FringeInputError(must_be("field_T", f"an array of shape (len(z_m), len(s_m)) = "
+                                       f"({z.size}, {s.size})", f"shape {v.shape}"))
+    if boundary_mT is not None and not np.any(np.isclose(lv, boundary_mT, rtol=1e-9)):
+        lv = np.unique(np.append(lv, boundary_mT))
+    label = boundary_label
+    if boundary_mT is not None and label is None:
+        label = f"{format_value(boundary_mT)} mT: controlled access area boundary"
+    vm = v * 1e3
+    fig = _new_figure()
+    _draw_frame(fig, info, kind="section")
+    ax = _setup_map_axes(fig, s, z, s_label, "z (up), m")
+    renderer = _renderer(fig)
+    entries, line_sets = _draw_bands(ax, s, z, vm, list(lv), unit="mT",
+                                     boundary_level=boundary_mT, boundary_label=label,
+                                     cmap=cmap, band_alpha=0.62, log_contours=True)
+    entries += _draw_overlays(ax, overlays)
+    occupied: list[Bbox] = []
+    # floors: slab line, lightly shaded occupied band (under the bands), name
+    span = s[-1] - s[0]
+    for i, f in enumerate(floors):
+        try:
+            name = str(f.name)
+            elev = float(f.elevation_m)
+            bb = float(getattr(f, "band_bottom_m", 0.0))
+            bt = float(getattr(f, "band_top_m", 2.0))
+        except (AttributeError, TypeError, ValueError):
+            raise FringeInputError(must_be(f"floors[{i}]", "an object with name and "
+                                           "elevation_m (e.g. FloorLevel)", f)) from None
+        if not (math.isfinite(elev) and bt > bb):
+            raise FringeInputError(must_be(f"floors[{i}] ({name})", "a finite elevation_m "
+                                           "and band_top_m > band_bottom_m", (elev, bb, bt)))
+        ax.axhspan(elev + bb, elev + bt, facecolor="0.55", alpha=0.16, edgecolor="none",
+                   zorder=0.5)
+        ax.axhline(elev, color=_INK, linewidth=1.6, zorder=5)
+        text = (f"{name}: floor at {format_value(elev)} m, occupied {format_value(bb)} to "
+                f"{format_value(bt)} m above it")
+        label_z = None
+        if z[0] <= elev <= z[-1] - 0.02 * (z[-1] - z[0]):
+            label_z = elev
+        elif elev < z[0] < elev + bt:
+            label_z, text = z[0], text + " (floor below the view)"
+        if label_z is not None:
+            t = ax.annotate(text, xy=(s[-1] - 0.01 * span, label_z), xytext=(0, 2.5),
+                            textcoords="offset points", fontsize=7, ha="right", va="bottom",
+                            color=_INK, zorder=9, path_effects=_HALO,
+                            annotation_clip=True)
+            occupied.append(Text.get_window_extent(t, renderer))
+    if floors:
+        entries.append((Line2D([], [], color=_INK, linewidth=1.6), "floor level"))
+        entries.append((Patch(facecolor="0.55", alpha=0.16, edgecolor="none"),
+                        "occupied band of a floor"))
+    _texts, wentries = _draw_magnets(ax, windings, section=True)
+    for m in windings:
+        poly = m.polygon if isinstance(m, MagnetOutline) else m[1]
+        x0_, y0_, x1_, y1_ = poly.bounds
+        occupied.append(Bbox(ax.transData.transform([(x0_, y0_), (x1_, y1_)])))
+    entries += wentries
+    # exposure lines
+    sources: list[str] = []
+    logv = _log_or_linear(vm, True)
+    finite = vm[np.isfinite(vm)]
+    exposure_sets: list[_LineSet] = []
+    for i, e in enumerate(exposure_lines):
+        if not isinstance(e, ExposureLine) or not (math.isfinite(e.value_T) and e.value_T > 0):
+            raise FringeInputError(must_be(f"exposure_lines[{i}]",
+                                           "an ExposureLine with a positive value_T", e))
+        val = e.value_T * 1e3
+        if e.source not in sources:
+            sources.append(e.source)
+        style = (0, (7, 2, 1.5, 2))
+        text = f"exposure line {e.label}"
+        if finite.size and finite.min() < val < finite.max():
+            cs = ax.contour(s, z, logv, levels=[math.log10(val)], colors=_EXPOSURE_COLOR,
+                            linewidths=1.6, linestyles=[style], zorder=4.6)
+            short = e.label.split(":")[0].split(" (")[0]
+            exposure_sets.append(_LineSet(cs, [short], [short], 7.5, "bold",
+                                          _EXPOSURE_COLOR))
+        else:
+            text += " (not reached in this view)"
+        entries.append((Line2D([], [], color=_EXPOSURE_COLOR, linewidth=1.6, linestyle=style),
+                        text))
+    occupied.append(_draw_scale_bar(ax, (s[0], s[-1]), (z[0], z[-1]), renderer))
+    _label_lines(ax, renderer, line_sets[:1] + exposure_sets + line_sets[1:], occupied)
+    src_notes = [f"Exposure lines: {src}." for src in sources]
+    _draw_key_column(fig, [h for h, _ in entries], [lb for _, lb in entries],
+                     "|B| in mT", list(info.notes) + list(notes) + src_notes)
+    return fig
+
+
+_CURVE_STYLES = [("#1f3b73", "-"), ("#2a9d8f", "--"), ("#6a3d9a", "-."), ("0.2", ":"),
+                 ("#b5a642", "-")]
+
+
+def curve_sheet(panels: Sequence[CurvePanel], info: SheetInfo, *,
+                notes: Sequence[str] = ()) -> Figure:
+    """A sheet of x-y plots stacked vertically (e.g. quench current and energy left).
+
+    Parameters
+    ----------
+    panels : sequence of CurvePanel
+        One panel per plot, top to bottom; axis labels carry units.
+    info : SheetInfo
+    notes : sequence of str
+        Extra notes after ``info.notes``.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+
+    Raises
+    ------
+    FringeInputError
+        No panels, a curve with mismatched or empty x and y, or log_y with y <= 0.
+    """
+    panels = list(panels)
+    if not panels:
+        raise FringeInputError(must_be("panels", "a non-empty list of CurvePanel", panels))
+    fig = _new_figure()
+    _draw_frame(fig, info, kind="curves")
+    left, bottom, width, height = _WIDE
+    n = len(panels)
+    gap = 0.07
+    h = (height - gap * (n - 1)) / n
+    entries: list = []
+    for i, p in enumerate(panels):
+        if not isinstance(p, CurvePanel) or not p.curves:
+            raise FringeInputError(must_be(f"panels[{i}]", "a CurvePanel with at least one "
+                                           "Curve", p))
+        ax = fig.add_axes((left + 0.02, bottom + (n - 1 - i) * (h + gap), width - 0.02, h),
+                          label=f"panel {i}")
+        for j, c in enumerate(p.curves):
+            xv = np.asarray(c.x, float).ravel()
+            yv = np.asarray(c.y, float).ravel()
+            if xv.size == 0 or xv.shape != yv.shape:
+                raise FringeInputError(must_be(f"panels[{i}].curves[{j}] ({c.label})",
+                                               "non-empty x and y of equal length",
+                                               f"{xv.size} and {yv.size} values"))
+            if p.log_y and np.any(yv[np.isfinite(yv)] <= 0):
+                raise FringeInputError(must_be(f"panels[{i}].curves[{j}].y ({c.label})",
+                                               "positive for a log axis", _short(yv)))
+            color, ls = _CURVE_STYLES[j % len(_CURVE_STYLES)]
+            ax.plot(xv, yv, color=color, linestyle=ls, linewidth=1.8, label=c.label)
+        for label, xm in p.marks:
+            ax.axvline(xm, color="0.3", linewidth=0.9, linestyle=(0, (4, 3)))
+            ax.annotate(label, xy=(xm, 1.0), xycoords=("data", "axes fraction"),
+                        xytext=(3, -3), textcoords="offset points", ha="left", va="top",
+                        fontsize=7.5, color="0.2", path_effects=_HALO)
+        if p.log_y:
+            ax.set_yscale("log")
+        ax.set_xlabel(p.x_label, fontsize=9)
+        ax.set_ylabel(p.y_label, fontsize=9)
+        if p.title:
+            ax.set_title(p.title, fontsize=10, loc="left", fontweight="bold")
+        ax.tick_params(labelsize=8)
+        ax.grid(True, color="0.75", linewidth=0.5)
+        ax.legend(fontsize=8, frameon=True, edgecolor="0.5", fancybox=False)
+    _draw_key_column(fig, [], [], "", list(info.notes) + list(notes))
+    del entries
+    return fig
+
+
+def _looks_numeric(s: str) -> bool:
+    return bool(re.fullmatch(r"[-+]?[\d.,]+(e[-+]?\d+)?( ?[%a-zA-Zµ°³²/·]*)?", s.strip())) \
+        and any(ch.isdigit() for ch in s)
+
+
+def table_sheet(title: str, columns: Sequence[str], rows: Sequence[Sequence[Any]],
+                info: SheetInfo, *, notes: Sequence[str] = (), font_size: float = 8.5
+                ) -> list[Figure]:
+    """A table over as many sheets as it needs (header repeated on each).
+
+    Parameters
+    ----------
+    title : str
+        Printed above the table ("(continued)" added on later sheets).
+    columns : sequence of str
+        Column headers, with units (e.g. "largest field, mT").
+    rows : sequence of sequences
+        Cell values; numbers are printed with :func:`format_value` and right-aligned;
+        long text wraps within its column.
+    info : SheetInfo
+    notes : sequence of str
+        Extra notes in the key column.
+    font_size : float
+        Cell font size, pt.
+
+    Returns
+    -------
+    list of matplotlib.figure.Figure
+        At least one sheet (an empty table prints "(no rows)").
+
+    Raises
+    ------
+    FringeInputError
+        No columns, or a row whose length differs from the header's.
+    """
+    cols = [str(c) for c in columns]
+    if not cols:
+        raise FringeInputError(must_be("columns", "a non-empty list of headers", list(columns)))
+    cells: list[list[str]] = []
+    for i, r in enumerate(rows):
+        r = list(r)
+        if len(r) != len(cols):
+            raise FringeInputError(must_be(f"rows[{i}]", f"a row of {len(cols)} cells",
+                                           f"{len(r)} cells"))
+        cells.append([_cell_text(c) for c in r])
+    left, bottom, width, height = _WIDE
+    avail_chars = _chars_for(width, font_size)
+    natural = [max([len(c)] + [max(len(w) for w in (row[j] or " ").split("\n"))
+                               for row in cells] or [1]) for j, c in enumerate(cols)]
+    natural = [max(4, min(n, 48)) for n in natural]
+    total = sum(natural) + 3 * len(cols)
+    scale = min(1.0, avail_chars / total)
+    widths = [max(4, int(n * scale)) for n in natural]
+    table_w = min(1.0, max(0.45, total / avail_chars))
+    numeric = [all(_looks_numeric(row[j]) for row in cells if row[j]) and cells
+               for j in range(len(cols))]
+    wrapped_rows = [[_wrap(row[j], widths[j]) for j in range(len(cols))] for row in cells]
+    header = [_wrap(c, widths[j]) for j, c in enumerate(cols)]
+    line_h_pt = font_size * 1.45
+    area_h_pt = (height - 0.06) * A3_LANDSCAPE_IN[1] * 72
+    header_lines = max(h.count("\n") + 1 for h in header)
+    budget = int(area_h_pt / line_h_pt) - header_lines - 2
+    pages: list[list[list[str]]] = [[]]
+    used = 0
+    for row in wrapped_rows:
+        n_lines = max(c.count("\n") + 1 for c in row)
+        if pages[-1] and used + n_lines > budget:
+            pages.append([])
+            used = 0
+        pages[-1].append(row)
+        used += n_lines
+    figs = []
+    for k, page in enumerate(pages):
+        fig = _new_figure()
+        _draw_frame(fig, info, kind="table")
+        ax = fig.add_axes((left, bottom, width, height), label="table")
+        ax.set_axis_off()
+        ax.set_xlim(0, 1)
+        ax.set_ylim(0, 1)
+        t = title + (f" (continued, part {k + 1} of {len(pages)})" if k else
+                     (f" (part 1 of {len(pages)})" if len(pages) > 1 else ""))
+        ax.text(0, 1.0, t, fontsize=12, fontweight="bold", va="top", ha="left", color=_INK)
+        lh = line_h_pt / (height * A3_LANDSCAPE_IN[1] * 72)
+        xs = table_w * np.cumsum([0] + [(w + 3) / sum(w + 3 for w in widths)
+                                         for w in widths])
+        y = 1.0 - 0.05
+        ax.plot([0, table_w], [y + 0.004, y + 0.004], color=_INK, linewidth=1.2)
+        for j, hcell in enumerate(header):
+            _table_cell(ax, xs, j, y, hcell, numeric[j], font_size, bold=True)
+        y -= header_lines * lh + 0.006
+        ax.plot([0, table_w], [y + 0.003, y + 0.003], color=_INK, linewidth=0.8)
+        if not page:
+            ax.text(0.005, y - 0.004, "(no rows)", fontsize=font_size, va="top",
+                    style="italic", color="0.3")
+        for r_i, row in enumerate(page):
+            n_lines = max(c.count("\n") + 1 for c in row)
+            if r_i % 2 == 1:
+                ax.add_patch(Rectangle((0, y - n_lines * lh - 0.001), table_w, n_lines * lh,
+                                       facecolor="0.93", edgecolor="none", zorder=0))
+            for j, c in enumerate(row):
+                _table_cell(ax, xs, j, y - 0.002, c, numeric[j], font_size, bold=False)
+            y -= n_lines * lh
+        ax.plot([0, table_w], [y - 0.002, y - 0.002], color=_INK, linewidth=1.2)
+        _draw_key_column(fig, [], [], "", list(info.notes) + list(notes))
+        figs.append(fig)
+    return figs
+
+
+def _cell_text(c: Any) -> str:
+    if c is None:
+        return ""
+    if isinstance(c, bool):
+        return "yes" if c else "no"
+    if isinstance(c, (int, np.integer)):
+        return str(int(c))
+    if isinstance(c, (float, np.floating)):
+        return format_value(float(c))
+    return str(c)
+
+
+def _table_cell(ax, xs, j, y, text, numeric, fs, *, bold):
+    # Anchor on the first line's baseline so cells with and without ascenders line up.
+    pad = 0.004
+    h_frac = fs / (_WIDE[3] * A3_LANDSCAPE_IN[1] * 72)
+    multi = "\n" in text  # matplotlib's "baseline" anchors the last line of a block
+    yb = y if multi else y - 0.95 * h_frac
+    kw = {"fontsize": fs, "color": _INK, "fontweight": "bold" if bold else "normal",
+          "linespacing": 1.3, "va": "top" if multi else "baseline"}
+    if numeric:
+        ax.text(xs[j + 1] - pad - 0.008, yb, text, ha="right", **kw)
+    else:
+        ax.text(xs[j] + pad, yb, text, ha="left", **kw)
+
+
+def cover_sheet(info: SheetInfo, key_facts: Sequence[tuple[str, str]],
+                verdict_lines: Sequence[str] = (), *, notes: Sequence[str] = ()) -> Figure:
+    """The first sheet of a set: title, key facts, findings and the advisory notice.
+
+    Parameters
+    ----------
+    info : SheetInfo
+    key_facts : sequence of (label, value)
+        E.g. ("Stored energy", "4.1 MJ"); values already formatted with units.
+    verdict_lines : sequence of str
+        Findings, one per line (e.g. "Office 1.12 (first floor): within 0.5 mT").
+        Lines containing "EXCEEDS" (any case) are set in bold.
+    notes : sequence of str
+        Extra notes in the key column.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    fig = _new_figure()
+    _draw_frame(fig, info, kind="cover")
+    left, bottom, width, height = _WIDE
+    ax = fig.add_axes((left, bottom, width, height), label="cover")
+    ax.set_axis_off()
+    ax.set_xlim(0, 1)
+    ax.set_ylim(0, 1)
+    h_pt = height * A3_LANDSCAPE_IN[1] * 72
+    y = 1.0
+    ax.text(0, y, _wrap(info.site_name, 48), fontsize=22, fontweight="bold", va="top",
+            color=_INK)
+    y -= (info.site_name.count("\n") + 1 + len(info.site_name) // 48) * 30 / h_pt
+    ax.text(0, y - 0.01, _wrap(info.title, 70), fontsize=15, va="top", color=_INK)
+    y -= 0.075
+    if info.subtitle:
+        ax.text(0, y, _wrap(info.subtitle, 110), fontsize=10, va="top", color="0.25")
+        y -= 0.05
+    ax.plot([0, 1], [y, y], color=_INK, linewidth=1.2)
+    y -= 0.03
+    ax.text(0, y, "KEY FACTS", fontsize=10, fontweight="bold", va="top", color=_INK)
+    y -= 0.04
+    fs = 10.0
+    lh = fs * 1.5 / h_pt
+    for i, item in enumerate(key_facts):
+        try:
+            label, value = item
+        except (TypeError, ValueError):
+            raise FringeInputError(must_be(f"key_facts[{i}]", "a (label, value) pair",
+                                           item)) from None
+        ax.text(0.0, y, str(label), fontsize=fs, va="top", color="0.25")
+        vtext = _wrap(str(value), 70)
+        ax.text(0.36, y, vtext, fontsize=fs, va="top", color=_INK, fontweight="bold")
+        y -= lh * (vtext.count("\n") + 1) + 0.004
+    if verdict_lines:
+        y -= 0.02
+        ax.text(0, y, "FINDINGS", fontsize=10, fontweight="bold", va="top", color=_INK)
+        y -= 0.04
+        for line in verdict_lines:
+            bold = "exceeds" in line.lower()
+            text = _wrap(("\u25a0 " if bold else "\u25a1 ") + line, 120)
+            ax.text(0.0, y, text, fontsize=9.5, va="top", color=_INK,
+                    fontweight="bold" if bold else "normal")
+            y -= 9.5 * 1.5 / h_pt * (text.count("\n") + 1) + 0.003
+    _draw_key_column(fig, [], [], "", list(info.notes) + list(notes))
+    return fig
+
+
+# --------------------------------------------------------------------------- output
+
+
+def _flatten(figures) -> list[Figure]:
+    out: list[Figure] = []
+    for f in figures:
+        if isinstance(f, Figure):
+            out.append(f)
+        elif isinstance(f, Iterable) and not isinstance(f, (str, bytes)):
+            out.extend(_flatten(f))
+        else:
+            raise FringeInputError(must_be("figures", "matplotlib Figures (or lists of them)",
+                                           type(f).__name__))
+    return out
+
+
+def number_sheets(figures) -> list[Figure]:
+    """Write "Sheet k of n" into every title block whose sheet number was left unset.
+
+    Parameters
+    ----------
+    figures : iterable of Figure (nested lists allowed, e.g. from :func:`table_sheet`)
+
+    Returns
+    -------
+    list of Figure
+        The flattened list, in order (the figures are modified in place).
+    """
+    figs = _flatten(figures)
+    n = len(figs)
+    for k, fig in enumerate(figs, 1):
+        for t in fig.findobj(lambda a: getattr(a, "get_gid", lambda: None)()
+                             == _SHEET_NUMBER_GID + "-auto"):
+            t.set_text(f"Sheet {k} of {n}")
+    return figs
+
+
+def _save_rc() -> dict[str, Any]:
+    # Text stays text in SVG and PDF, so the advisory notice is searchable and editable.
+    return {"svg.fonttype": "none", "pdf.fonttype": 42, "svg.hashsalt": "fringe"}
+
+
+def save_figure(fig: Figure, path: str | Path, *, dpi: int = PNG_DPI) -> Path:
+    """Write one sheet to ``path`` atomically; the format follows the suffix.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure
+    path : str or Path
+        Ends in ".png" (raster, ``dpi``), ".svg" or ".pdf" (vector, text kept as text).
+    dpi : int
+        PNG resolution, dots per inch (default 170: an A3 sheet is 2811 x 1987 px).
+
+    Returns
+    -------
+    Path
+        ``path``.
+
+    Raises
+    ------
+    FringeInputError
+        Unknown suffix or not a Figure.
+    FringeIOError
+        The folder does not exist.
+    """
+    path = Path(path)
+    fmt = path.suffix.lower().lstrip(".")
+    if fmt not in _SAVE_FORMATS:
+        raise FringeInputError(must_be("path", f"a file name ending in one of "
+                                       f"{['.' + f for f in _SAVE_FORMATS]}", str(path)))
+    if not isinstance(fig, Figure):
+        raise FringeInputError(must_be("fig", "a matplotlib Figure", type(fig).__name__))
+    meta: dict[str, Any] = {}
+    if fmt == "png":
+        meta = {"Software": "fringe", "Description": ADVISORY_NOTICE}
+    elif fmt == "pdf":
+        meta = {"Creator": "fringe", "Subject": ADVISORY_NOTICE}
+    elif fmt == "svg":
+        meta = {"Creator": "fringe", "Description": ADVISORY_NOTICE, "Date": None}
+    with matplotlib.rc_context(_save_rc()), atomic_file(path) as tmp:
+        fig.savefig(tmp, format=fmt, dpi=dpi, metadata=meta)
+    return path
+
+
+def write_pdf(figures, path: str | Path, *, title: str | None = None) -> Path:
+    """Write a sheet set to one PDF atomically, numbering unnumbered sheets "Sheet k of n".
+
+    Parameters
+    ----------
+    figures : iterable of Figure (nested lists allowed)
+    path : str or Path
+        Target ".pdf" file.
+    title : str, optional
+        PDF document title (metadata).
+
+    Returns
+    -------
+    Path
+
+    Raises
+    ------
+    FringeInputError
+        No figures, or a path not ending in ".pdf".
+    """
+    path = Path(path)
+    if path.suffix.lower() != ".pdf":
+        raise FringeInputError(must_be("path", "a file name ending in '.pdf'", str(path)))
+    figs = number_sheets(figures)
+    if not figs:
+        raise FringeInputError(must_be("figures", "at least one sheet", figs))
+    meta = {"Creator": "fringe", "Subject": ADVISORY_NOTICE}
+    if title:
+        meta["Title"] = title
+    with matplotlib.rc_context(_save_rc()), atomic_file(path) as tmp:
+        with PdfPages(tmp, metadata=meta) as pdf:
+            for fig in figs:
+                pdf.savefig(fig)
+    return path

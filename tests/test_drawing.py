@@ -1,0 +1,337 @@
+"""Tests of the drawing sheets (fringe.drawing).
+
+The field arrays are synthetic: |B| of a point dipole computed here with numpy
+(Jackson, Classical Electrodynamics, 3rd ed., Eq. 5.56). These tests check drawing
+behaviour, not physics: labels, scale, page counts, error messages, the advisory notice.
+"""
+
+from __future__ import annotations
+
+import ast
+import re
+import struct
+import xml.etree.ElementTree as ET
+from pathlib import Path
+
+import numpy as np
+import pytest
+from matplotlib.figure import Figure
+from shapely.geometry import Polygon, box
+
+from fringe import drawing as d
+from fringe.constants import ADVISORY_NOTICE
+from fringe.errors import FringeInputError, FringeIOError
+
+CENTRE = np.array([5.0, 4.0, 1.1])
+MOMENT_AM2 = np.array([1.6e5, 0.0, 0.0])  # invented: the 0.5 mT line at 4 m on the axis
+
+
+def dipole_field_T(points_m: np.ndarray) -> np.ndarray:
+    """|B| of a point dipole, T (Jackson 3rd ed., Eq. 5.56)."""
+    r = points_m - CENTRE
+    rn = np.maximum(np.linalg.norm(r, axis=-1, keepdims=True), 1e-3)
+    rhat = r / rn
+    B = 1e-7 * (3 * (rhat @ MOMENT_AM2)[..., None] * rhat - MOMENT_AM2) / rn**3
+    return np.linalg.norm(B, axis=-1)
+
+
+def plan_grid(nx: int = 111, ny: int = 81):
+    x = np.linspace(-5.0, 17.0, nx)
+    y = np.linspace(-4.0, 12.0, ny)
+    X, Y = np.meshgrid(x, y)
+    f = dipole_field_T(np.stack([X, Y, np.full_like(X, CENTRE[2])], axis=-1))
+    f[np.hypot(X - CENTRE[0], Y - CENTRE[1]) < 0.8] = np.nan
+    return x, y, f
+
+
+INFO = d.SheetInfo(site_name="Test Clinic (invented)", title="Floor plan: ground",
+                   subtitle="synthetic dipole", magnets=("MR 1",), date_iso="2026-12-02",
+                   tool_version="fringe test",
+                   boundary_note="Controlled access area boundary: 0.5 mT (ICNIRP 2009; "
+                                 "IEC 60601-2-33 ed. 3)",
+                   notes=("Magnet modelled as a point dipole.",))
+
+ROOMS = [
+    d.RoomMark("magnet room", box(1.0, 0.0, 9.0, 8.0), "controlled", "ok", 0.9),
+    d.RoomMark("control", box(9.0, 0.0, 13.0, 4.0), "controlled", "ok", 2.1e-3),
+    d.RoomMark("plant room", box(9.0, 4.0, 13.0, 8.0), "open", "exceeds", 1.3e-3, 5e-4),
+    d.RoomMark("corridor", box(-3.0, 8.0, 16.0, 10.0), "open", "ok", 4.1e-4),
+    d.RoomMark("waiting", Polygon([(-3, 0), (1, 0), (1, 8), (-3, 8)]), "open", "exceeds",
+               8.8e-4, 5e-4),
+]
+EQUIPMENT = [d.EquipmentMark("CT gantry", (14.5, 4.0), 2.9e-4, 1e-4, "exceeds"),
+             d.EquipmentMark("injector", (8.0, 1.0), 6e-3, 1e-2, "ok")]
+MAGNETS = [d.MagnetOutline("MR 1", d.footprint_rectangle(CENTRE[:2], (1, 0), 1.7, 2.0))]
+
+
+def texts_with_gid(fig: Figure, gid: str) -> list:
+    return [t for t in fig.findobj(lambda a: getattr(a, "get_gid", lambda: None)() == gid)]
+
+
+def all_text(fig: Figure) -> list[str]:
+    from matplotlib.text import Text
+
+    return [t.get_text() for t in fig.findobj(Text) if t.get_text()]
+
+
+def norm(s: str) -> str:
+    return " ".join(s.split())
+
+
+def pdf_page_count(path: Path) -> int:
+    return len(re.findall(rb"/Type\s*/Page\b", path.read_bytes()))
+
+
+@pytest.fixture(scope="module")
+def plan_fig() -> Figure:
+    x, y, f = plan_grid()
+    hazard = Polygon([(5 + 1.8 * np.cos(t), 4 + 1.4 * np.sin(t))
+                      for t in np.linspace(0, 2 * np.pi, 40)])
+    return d.plan_sheet(x, y, f, INFO, rooms=ROOMS, equipment=EQUIPMENT, magnets=MAGNETS,
+                        overlays=[d.Overlay("attraction zone", hazard, "hazard")])
+
+
+def test_plan_sheet_saves_png_svg_pdf(plan_fig, tmp_path):
+    # common practice, no source: an A3 sheet at 170 dpi is 2811 x 1987 px
+    png = d.save_figure(plan_fig, tmp_path / "plan.png")
+    head = png.read_bytes()[:24]
+    assert head[:8] == b"\x89PNG\r\n\x1a\n"
+    w, h = struct.unpack(">II", head[16:24])
+    assert (w, h) == (int(420 / 25.4 * d.PNG_DPI), int(297 / 25.4 * d.PNG_DPI))
+    svg = d.save_figure(plan_fig, tmp_path / "plan.svg")
+    assert svg.read_bytes().lstrip().startswith(b"<?xml")
+    pdf = d.save_figure(plan_fig, tmp_path / "plan.pdf")
+    assert pdf_page_count(pdf) == 1
+    # atomic writes leave no temporary siblings behind
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["plan.pdf", "plan.png", "plan.svg"]
+
+
+def test_advisory_notice_is_text_in_the_svg(plan_fig, tmp_path):
+    svg = d.save_figure(plan_fig, tmp_path / "plan.svg")
+    root = ET.parse(svg).getroot()
+    words = norm(" ".join("".join(el.itertext()) for el in root.iter()
+                          if el.tag.endswith("}text")))
+    assert norm(ADVISORY_NOTICE) in words
+    assert "Test Clinic (invented)" in words
+
+
+def test_contour_levels_appear_as_labels_in_mT(plan_fig):
+    labels = {t.get_text() for t in texts_with_gid(plan_fig, "contour-label")}
+    # the dipole grid spans 0.5 mT to well above 40 mT, so the lines exist
+    for lv in ("1 mT", "3 mT", "10 mT"):
+        assert lv in labels
+    assert "0.5 mT: controlled access area boundary" in labels
+    legend_texts = [t.get_text() for leg in plan_fig.findobj(
+        lambda a: a.__class__.__name__ == "Legend") for t in leg.get_texts()]
+    band_labels = [t for t in legend_texts if " to " in t or t.startswith("at least")]
+    assert band_labels and all(t.endswith(" mT") for t in band_labels)
+
+
+def test_scale_bar_spans_its_stated_length(plan_fig):
+    # common practice, no source: a scale bar must measure what its label says
+    ax = next(a for a in plan_fig.axes if a.get_label() == "map")
+    segs = sorted((p for p in ax.patches if str(p.get_gid()).startswith("scale-bar-")
+                   and p.get_gid()[-1].isdigit()), key=lambda p: p.get_x())
+    assert len(segs) == 4
+    for a, b in zip(segs, segs[1:], strict=False):
+        assert b.get_x() == pytest.approx(a.get_x() + a.get_width(), abs=1e-12)
+    span_m = segs[-1].get_x() + segs[-1].get_width() - segs[0].get_x()
+    label = texts_with_gid(plan_fig, "scale-bar-label")[0].get_text()
+    stated_m = float(label.removesuffix(" m"))
+    assert span_m == pytest.approx(stated_m, rel=1e-12)
+    # and in display units it is as long as the same distance between axis ticks
+    px = ax.transData.transform([(0.0, 0.0), (stated_m, 0.0)])
+    seg_px = ax.transData.transform([(segs[0].get_x(), 0), (segs[0].get_x() + span_m, 0)])
+    assert np.diff(seg_px[:, 0]) == pytest.approx(np.diff(px[:, 0]))
+    assert ax.get_aspect() == 1.0
+
+
+def test_every_sheet_kind_carries_title_block_and_advisory():
+    x, y, f = plan_grid(41, 31)
+    t = np.linspace(0, 10, 20)
+    sheets = [
+        d.map_sheet(x, y, f * 1e3, [0.5, 1, 3], INFO, unit="mT"),
+        d.curve_sheet([d.CurvePanel("t, s", "I, A", (d.Curve("I", t, np.exp(-t)),))], INFO),
+        d.cover_sheet(INFO, [("Stored energy", "4 MJ")], ["all rooms within 0.5 mT"]),
+        *d.table_sheet("Rooms", ["a", "b"], [(1, "x")], INFO),
+    ]
+    for fig in sheets:
+        adv = texts_with_gid(fig, "fringe-advisory")
+        assert len(adv) == 1 and norm(adv[0].get_text()) == norm(ADVISORY_NOTICE)
+        texts = all_text(fig)
+        assert "Test Clinic (invented)" in texts and "2026-12-02" in texts
+
+
+def test_write_pdf_counts_and_numbers_sheets(tmp_path):
+    x, y, f = plan_grid(41, 31)
+    rows = [(f"room {i}", "open", 0.1 * i, "ok") for i in range(150)]
+    tables = d.table_sheet("Rooms", ["room", "access", "largest field, mT", "verdict"],
+                           rows, INFO)
+    assert len(tables) >= 2
+    cover = d.cover_sheet(INFO, [("Magnets", "MR 1")], [])
+    plan = d.plan_sheet(x, y, f, INFO)
+    out = d.write_pdf([cover, plan, tables], tmp_path / "set.pdf", title="test set")
+    n = 2 + len(tables)
+    assert pdf_page_count(out) == n
+    numbers = [texts_with_gid(fig, "fringe-sheet-number-auto")[0].get_text()
+               for fig in [cover, plan, *tables]]
+    assert numbers == [f"Sheet {k} of {n}" for k in range(1, n + 1)]
+    # an explicit sheet number is kept
+    fixed = d.cover_sheet(d.SheetInfo(site_name="S", title="T", sheet_number="A-01"), [])
+    d.write_pdf([fixed], tmp_path / "one.pdf")
+    assert "A-01" in all_text(fixed)
+
+
+def test_table_pages_hold_every_row_once():
+    rows = [(f"row-{i:03d}", "long text " * (i % 4)) for i in range(120)]
+    figs = d.table_sheet("Equipment", ["name", "note"], rows, INFO)
+    seen = [s for fig in figs for s in all_text(fig) if s.startswith("row-")]
+    assert sorted(seen) == [f"row-{i:03d}" for i in range(120)]
+
+
+def test_many_rooms_labels_stay_apart():
+    # common practice, no source: labels must not overlap unreadably
+    x = np.linspace(0.0, 40.0, 161)
+    y = np.linspace(0.0, 24.0, 97)
+    X, Y = np.meshgrid(x, y)
+    r = np.hypot(X - 20.0, Y - 12.0) + 0.3
+    field_T = 0.5e-3 * (7.0 / r) ** 3
+    rooms, k = [], 0
+    for i in range(8):
+        for j in range(4):
+            w = 5.0
+            h = 6.0
+            name = f"room {k} " + ("with a long descriptive name" if k % 5 == 0 else "")
+            rooms.append(d.RoomMark(name.strip(), box(i * w, j * h, (i + 1) * w, (j + 1) * h),
+                                    "controlled" if k % 7 == 0 else "open",
+                                    "exceeds" if k % 3 == 0 else "ok", 1e-4 * (k + 1), 5e-4))
+            k += 1
+    equipment = [d.EquipmentMark(f"monitor {m}", (2.5 + 5.0 * (m % 8), 3.0 + 6.0 * (m // 8)),
+                                 1e-4, 5e-4, "ok") for m in range(12)]
+    fig = d.plan_sheet(x, y, field_T, INFO, rooms=rooms, equipment=equipment)
+    r_ = fig.canvas.get_renderer()
+    from matplotlib.text import Text
+
+    room_boxes = [Text.get_window_extent(t, r_) for t in texts_with_gid(fig, "room-label")]
+    eq_boxes = [Text.get_window_extent(t, r_) for t in texts_with_gid(fig, "equipment-label")]
+    cl_boxes = [Text.get_window_extent(t, r_) for t in texts_with_gid(fig, "contour-label")]
+    assert len(room_boxes) == len(rooms) and len(eq_boxes) == len(equipment)
+    assert cl_boxes
+
+    def overlap(a, b):
+        w = min(a.x1, b.x1) - max(a.x0, b.x0)
+        h = min(a.y1, b.y1) - max(a.y0, b.y0)
+        return max(w, 0) * max(h, 0)
+
+    labels = room_boxes + eq_boxes + cl_boxes
+    for i, a in enumerate(labels):
+        for b in labels[i + 1:]:
+            assert overlap(a, b) <= 0.02 * min(a.width * a.height, b.width * b.height)
+    # each room label sits inside its room (in display space) or is clipped to it
+    ax = next(a for a in fig.axes if a.get_label() == "map")
+    for t, room in zip(texts_with_gid(fig, "room-label"), rooms, strict=True):
+        bb = Text.get_window_extent(t, r_)
+        corners = ax.transData.inverted().transform([(bb.x0, bb.y0), (bb.x1, bb.y1)])
+        inside = box(*corners[0], *corners[1]).within(room.polygon.buffer(1e-6))
+        assert inside or t.get_clip_path() is not None
+        assert t.get_fontsize() >= 4.5
+
+
+def test_map_sheet_draws_generic_units():
+    x, y, f = plan_grid(61, 41)
+    w = f**2 / (2 * 4e-7 * np.pi)  # B²/2μ0, J/m³ (any positive map will do here)
+    fig = d.map_sheet(x, y, w, [0.1, 1, 10, 100], INFO, unit="J/m³", quantity="w")
+    labels = {t.get_text() for t in texts_with_gid(fig, "contour-label")}
+    assert {"1 J/m³", "10 J/m³"} <= labels
+    assert "w in J/m³" in all_text(fig)
+
+
+def test_section_sheet_floors_windings_and_exposure_lines():
+    s = np.linspace(-6.0, 6.0, 121)
+    z = np.linspace(-2.0, 5.0, 71)
+    S, Z = np.meshgrid(s, z)
+    f = dipole_field_T(np.stack([CENTRE[0] + S, np.full_like(S, CENTRE[1]), Z], axis=-1))
+    winding = box(-0.5, CENTRE[2] + 0.25, 0.5, CENTRE[2] + 0.45)
+    fig = d.section_sheet(s, z, f, INFO, floors=[d.FloorLevel("ground", 0.0),
+                                                   d.FloorLevel("first", 3.6)],
+                          windings=[("coil", winding)],
+                          exposure_lines=d.ICNIRP_2009_EXPOSURE_LINES)
+    texts = norm(" ".join(all_text(fig)))
+    assert "ground: floor at 0 m" in texts and "first: floor at 3.6 m" in texts
+    # the source of the exposure values is printed on the sheet
+    assert "ICNIRP (2009) Guidelines on limits of exposure to static magnetic fields" in texts
+    # 400 mT is reached (the grid comes within 0.1 m of the dipole): its line is labelled
+    assert "400 mT" in {t.get_text() for t in texts_with_gid(fig, "contour-label")}
+
+
+def test_curve_and_cover_sheets_build():
+    t = np.linspace(0, 60, 50)
+    fig = d.curve_sheet([
+        d.CurvePanel("time, s", "current, A", (d.Curve("I(t)", t, 300 * np.exp(-t / 12)),),
+                     title="Current decay", marks=(("L/R", 12.0),)),
+        d.CurvePanel("time, s", "energy left, MJ", (d.Curve("W(t)", t, 4 * np.exp(-t / 6)),),
+                     log_y=True)], INFO)
+    assert {"Current decay", "I(t)", "W(t)", "L/R"} <= set(all_text(fig))
+    cover = d.cover_sheet(INFO, [("Stored energy", "4.0 MJ")],
+                          ["plant room: EXCEEDS 0.5 mT", "corridor: within 0.5 mT"])
+    from matplotlib.text import Text
+
+    bold = [t for t in cover.findobj(Text) if "EXCEEDS" in t.get_text()]
+    assert bold and all(t.get_fontweight() in ("bold", 700) for t in bold)
+
+
+@pytest.mark.parametrize("call, key", [
+    (lambda x, y, f: d.plan_sheet(x, y, f.T, INFO), "`values` must be an array of shape"),
+    (lambda x, y, f: d.plan_sheet(x, y, f, INFO, thresholds_mT=[]),
+     "`thresholds_mT` must be a non-empty list"),
+    (lambda x, y, f: d.plan_sheet(x[::-1], y, f, INFO), "`x_m` must be a 1-D strictly"),
+    (lambda x, y, f: d.plan_sheet(x, y, f, INFO, thresholds_mT=[0.5, -1]),
+     "`thresholds_mT` must be finite positive numbers"),
+    (lambda x, y, f: d.map_sheet(x, y, f, [], INFO, unit="T"), "`levels` must be a non-empty"),
+    (lambda x, y, f: d.plan_sheet(x, y, f, INFO, overlays=[("z", box(0, 0, 1, 1), "glow")]),
+     "`overlays[0].kind` must be one of ['contour', 'hazard', 'outline']; got 'glow'"),
+    (lambda x, y, f: d.plan_sheet(x, y, f, INFO, rooms=[d.RoomMark("r", None)]),
+     "`rooms[0].polygon (r)` must be a non-empty shapely Polygon"),
+    (lambda x, y, f: d.section_sheet(x, y, f[:, :-1], INFO), "`field_T` must be an array"),
+    (lambda x, y, f: d.curve_sheet([], INFO), "`panels` must be a non-empty list"),
+    (lambda x, y, f: d.table_sheet("t", ["a", "b"], [(1,)], INFO),
+     "`rows[0]` must be a row of 2 cells; got '1 cells'"),
+    (lambda x, y, f: d.write_pdf([], "x.pdf"), "`figures` must be at least one sheet"),
+])
+def test_bad_inputs_raise_with_the_message_form(call, key):
+    x, y, f = plan_grid(21, 11)
+    with pytest.raises(FringeInputError) as e:
+        call(x, y, f)
+    assert str(e.value).startswith(key)
+    assert "; got " in str(e.value)
+
+
+def test_save_figure_rejects_unknown_suffix_and_missing_folder(tmp_path):
+    fig = d.cover_sheet(INFO, [])
+    with pytest.raises(FringeInputError, match=r"^`path` must be a file name ending in one of"):
+        d.save_figure(fig, tmp_path / "sheet.jpg")
+    with pytest.raises(FringeIOError):
+        d.save_figure(fig, tmp_path / "missing" / "sheet.png")
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_drawing_module_knows_nothing_of_the_field_engine():
+    # DESIGN.md: outputs know nothing of magpylib; no pyplot global state
+    src = Path(d.__file__).read_text(encoding="utf-8")
+    names = set()
+    for node in ast.walk(ast.parse(src)):
+        if isinstance(node, ast.Import):
+            names.update(a.name for a in node.names)
+        elif isinstance(node, ast.ImportFrom):
+            names.add(("." * node.level) + (node.module or ""))
+    assert not {n for n in names if "magpylib" in n or n in (".field", ".coils",
+                                                                 "matplotlib.pyplot")}
+
+
+def test_format_and_helpers():
+    assert [d.format_value(v) for v in (0.5, 1.0, 200.0, 1500.0, 0.0012)] == \
+        ["0.5", "1", "200", "1500", "0.0012"]
+    assert d.scale_bar_length_m(22.0) == 5.0
+    fp = d.footprint_rectangle((5.0, 4.0), (0.0, 2.0), 1.7, 2.0)
+    assert fp.area == pytest.approx(3.4)
+    assert fp.bounds == pytest.approx((4.0, 3.15, 6.0, 4.85))
