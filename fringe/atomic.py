@@ -39,14 +39,22 @@ def atomic_file(path: str | Path, suffix: str | None = None) -> Iterator[Path]:
     parent = path.parent if str(path.parent) else Path(".")
     if not parent.is_dir():
         raise FringeIOError(f"{path}: the folder {parent} does not exist")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=suffix or path.suffix,
-                               dir=parent)
+    if path.is_dir():
+        raise FringeIOError(f"{path}: exists and is a folder, not a file")
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=suffix or path.suffix,
+                                   dir=parent)
+    except OSError as e:
+        raise FringeIOError(f"{path}: cannot write in {parent} ({e.strerror or e})") from None
     os.close(fd)
     tmp_path = Path(tmp)
     try:
         yield tmp_path
         os.chmod(tmp_path, _default_file_mode())
-        os.replace(tmp_path, path)
+        try:
+            os.replace(tmp_path, path)
+        except OSError as e:
+            raise FringeIOError(f"{path}: cannot replace it ({e.strerror or e})") from None
     except BaseException:
         with contextlib.suppress(OSError):
             tmp_path.unlink()
@@ -79,7 +87,10 @@ def atomic_directory(path: str | Path) -> Iterator[Path]:
         raise FringeIOError(f"{path}: cannot create the output folder ({e.strerror})") from None
     if path.exists() and not path.is_dir():
         raise FringeIOError(f"{path}: exists and is not a folder")
-    tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}.partial.", dir=parent))
+    try:
+        tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}.partial.", dir=parent))
+    except OSError as e:
+        raise FringeIOError(f"{path}: cannot write in {parent} ({e.strerror or e})") from None
     try:
         yield tmp
     except BaseException:
@@ -91,6 +102,12 @@ def atomic_directory(path: str | Path) -> Iterator[Path]:
         old = Path(tempfile.mkdtemp(prefix=f".{path.name}.old.", dir=parent))
         os.rmdir(old)
         os.replace(path, old)
-    os.replace(tmp, path)
+    try:
+        os.replace(tmp, path)
+    except OSError as e:  # put the previous results back before reporting
+        if old is not None:
+            os.replace(old, path)
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise FringeIOError(f"{path}: cannot replace it ({e.strerror or e})") from None
     if old is not None:
         shutil.rmtree(old, ignore_errors=True)

@@ -78,7 +78,8 @@ __all__ = [
     "loop_axial_field_T", "loop_axial_gradient_T_per_m", "axial_field_T",
     "axial_gradient_T_per_m", "field_and_gradient", "AttractionSample", "attraction_at",
     "attraction_extents_m", "attraction_reach_m", "REACH_FACTOR", "plan_attraction",
-    "section_attraction", "AttractionMap",
+    "section_attraction", "AttractionMap", "zone_geometry", "FloorAttraction",
+    "floor_attraction", "SiteAttraction", "site_attraction",
 ]
 
 #: Default finite-difference step in m (with Richardson extrapolation from 2h and h).
@@ -730,3 +731,102 @@ def section_attraction(site, origin_m, direction, s_m, z_m,
     a = _screened(site, pts, obj, mat, step_m, screen)
     return AttractionMap(s, z, a.ratio, a.force_product_T2_per_m, a.field_T,
                          criterion_text(obj, mat))
+
+
+def zone_geometry(amap: AttractionMap):
+    """The zone (pull ≥ weight) of a map as a shapely (Multi)Polygon in the map's (u, v) m.
+
+    Contoured at ratio 1 by :func:`fringe.zones.superlevel_polygons` (marching squares,
+    holes kept). Nodes inside windings (NaN) count as inside the zone, so the zone is
+    drawn across the cryostat rather than with holes at the coils (conservative).
+    """
+    from .zones import superlevel_polygons
+
+    r = np.where(np.isnan(amap.ratio), np.inf, amap.ratio)
+    return superlevel_polygons(amap.u_m, amap.v_m, np.minimum(r, 1e6), 1.0)
+
+
+@dataclass(frozen=True)
+class FloorAttraction:
+    """The attraction zone on one floor.
+
+    Attributes
+    ----------
+    floor : str
+    map : AttractionMap
+        Largest ratio over the floor's sampled band levels.
+    geometry : shapely Polygon or MultiPolygon
+        Site x-y, m.
+    area_m2 : float
+    criterion : str
+        Which criterion drew it (print it beside the zone).
+    """
+
+    floor: str
+    map: AttractionMap
+    geometry: object
+    area_m2: float
+    criterion: str
+
+
+def floor_attraction(site, floor_name: str, x_m, y_m, z_levels_m,
+                     obj: str | ObjectKind = DEFAULT_OBJECT,
+                     mat: str | SteelMaterial = DEFAULT_MATERIAL, *,
+                     step_m: float = DEFAULT_STEP_M) -> FloorAttraction:
+    """Plan map, zone polygon and zone area of one floor (e.g. from a
+    :class:`fringe.zones.FloorMap`: ``fm.floor.name, fm.x_m, fm.y_m, fm.z_levels_m``)."""
+    amap = plan_attraction(site, x_m, y_m, z_levels_m, obj, mat, step_m=step_m)
+    geom = zone_geometry(amap)
+    return FloorAttraction(floor_name, amap, geom, float(geom.area), amap.criterion)
+
+
+@dataclass(frozen=True)
+class SiteAttraction:
+    """The attraction hazard of a whole site, as a report shows it.
+
+    Attributes
+    ----------
+    object_kind, material : str
+        Registry names of the object and material used.
+    criterion : str
+        :func:`criterion_text` — print it wherever the zone is drawn.
+    extents_m : tuple of (magnet name, axial_extent_m, radial_extent_m)
+        Each magnet alone (:func:`attraction_extents_m`).
+    floors : dict of floor name → FloorAttraction
+    sections : tuple of (AttractionMap, geometry)
+        One per section given, in the same order; geometry in the section's (s, z), m.
+    """
+
+    object_kind: str
+    material: str
+    criterion: str
+    extents_m: tuple[tuple[str, float, float], ...]
+    floors: dict
+    sections: tuple
+
+
+def site_attraction(site, floor_maps=None, sections=(), obj: str | ObjectKind = DEFAULT_OBJECT,
+                    mat: str | SteelMaterial = DEFAULT_MATERIAL, *,
+                    step_m: float = DEFAULT_STEP_M) -> SiteAttraction:
+    """Extents per magnet, zone per floor and per section, for a report.
+
+    Parameters
+    ----------
+    site : Site
+    floor_maps : dict of floor name → fringe.zones.FloorMap, optional
+        Their grids and band levels are reused, so the zone matches the footprints.
+    sections : sequence of fringe.zones.Section
+        Vertical sections (``origin_m``, ``unit``, ``s_m``, ``z_m``).
+    """
+    o, m = object_kind(obj), material(mat)
+    ext = tuple((mg.name, *attraction_extents_m(mg, o, m)) for mg in site.magnets)
+    floors = {}
+    for name, fm in (floor_maps or {}).items():
+        floors[name] = floor_attraction(site, name, fm.x_m, fm.y_m, fm.z_levels_m, o, m,
+                                        step_m=step_m)
+    secs = []
+    for sec in sections:
+        amap = section_attraction(site, sec.origin_m, sec.unit, sec.s_m, sec.z_m, o, m,
+                                  step_m=step_m)
+        secs.append((amap, zone_geometry(amap)))
+    return SiteAttraction(o.name, m.name, criterion_text(o, m), ext, floors, tuple(secs))

@@ -229,7 +229,8 @@ def read_dxf_plan(path: str | Path, options: Mapping | None = None,
         The DXF drawing.
     options : mapping, optional
         ``floor`` (str, required for rooms), ``layers`` (layer name or fnmatch pattern
-        → role in :data:`LAYER_ROLES`; without it every layer holds ``"open"`` rooms),
+        → role in :data:`LAYER_ROLES`; without it every layer holds ``"open"`` rooms;
+        layers named ``FRINGE-…`` — the ones fringe writes — are always ignored),
         ``units`` (a key of :data:`UNIT_CHOICES`, overriding ``$INSUNITS``; required
         when the drawing is unitless), ``offset_m`` ([x, y] added after scaling),
         ``name_from`` (``"text"``, default, or ``"layer"``).
@@ -266,8 +267,8 @@ def read_dxf_plan(path: str | Path, options: Mapping | None = None,
     walls: list[Any] = []
     for e in msp.query("LWPOLYLINE POLYLINE LINE"):
         layer = e.dxf.layer
-        role = _role(layer, layers)
-        if role == "ignore":
+        role = "ignore" if layer.upper().startswith(LAYER_PREFIX) else _role(layer, layers)
+        if role == "ignore":  # our own zone layers are never rooms
             continue
         if e.dxftype() == "LINE":
             if role == "wall":
@@ -347,6 +348,9 @@ def load_dxf_rooms(path: str | Path, options: dict, file_for_errors: str) -> lis
     return list(read_dxf_plan(path, options, file_for_errors).rooms)
 
 
+#: The scenario keys this loader takes from its ``[[room_file]]`` table (the parser
+#: forwards every key listed here that the table has).
+load_dxf_rooms.option_keys = DXF_ROOM_OPTION_KEYS  # type: ignore[attr-defined]
 ROOM_LOADERS["dxf"] = load_dxf_rooms
 
 

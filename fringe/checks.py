@@ -55,7 +55,7 @@ def _ring_samples(poly, spacing_m: float) -> np.ndarray:
     rings = [poly.exterior, *poly.interiors]
     pts = []
     for ring in rings:
-        n = max(4, int(np.ceil(ring.length / spacing_m)))
+        n = max(4, int(np.ceil(ring.length / spacing_m - 1e-9)))
         d = np.linspace(0.0, ring.length, n, endpoint=False)
         pts.append(shapely.get_coordinates(shapely.line_interpolate_point(ring, d)))
     return np.concatenate(pts)

@@ -12,6 +12,7 @@ import importlib
 import json
 import os
 import sys
+import warnings
 from collections.abc import Sequence
 from pathlib import Path
 
@@ -19,7 +20,7 @@ import numpy as np
 
 from . import __version__
 from .constants import ADVISORY_NOTICE
-from .errors import FringeError, ScenarioError
+from .errors import FringeError, FringeWarning, ScenarioError
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_EXCEEDS = 0, 1, 2, 3
 
@@ -31,6 +32,9 @@ COMMAND_MODULES: tuple[str, ...] = (
     "fringe.cmd_report",
     "fringe.cmd_quench",
     "fringe.cmd_energy",
+    "fringe.cmd_map",
+    "fringe.cmd_fit",
+    "fringe.cmd_place",
 )
 
 
@@ -66,7 +70,10 @@ def main(argv: Sequence[str] | None = None) -> int:
         parser.print_help()
         return EXIT_INPUT
     try:
-        return int(args.func(args) or 0)
+        with warnings.catch_warnings():
+            warnings.simplefilter("always", FringeWarning)
+            warnings.showwarning = _show_warning
+            return int(args.func(args) or 0)
     except FringeError as e:
         sys.stderr.write(f"fringe: error: {e}\n")
         return EXIT_INPUT
@@ -81,26 +88,44 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_INTERNAL
 
 
+_default_showwarning = warnings.showwarning
+
+
+def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
+    """Print a :class:`FringeWarning` as one ``fringe: warning: …`` line on stderr."""
+    if issubclass(category, FringeWarning):
+        sys.stderr.write(f"fringe: warning: {message}\n")
+    else:
+        _default_showwarning(message, category, filename, lineno, file, line)
+
+
 # -- helpers shared by command modules ---------------------------------------------------
 
 def read_points_file(path: str) -> np.ndarray:
     """Read (N, 3) points in m from a ``.npy`` or ``.csv`` file (x,y,z; header allowed)."""
     p = Path(path)
     try:
-        if p.suffix.lower() == ".npy":
-            arr = np.load(p, allow_pickle=False)
-        elif p.suffix.lower() == ".csv":
-            try:
-                arr = np.loadtxt(p, delimiter=",", ndmin=2)
-            except ValueError:
-                arr = np.loadtxt(p, delimiter=",", ndmin=2, skiprows=1)
-        else:
-            raise ScenarioError(f"`--points` must be a .npy or .csv file; got {p.name!r}")
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", UserWarning)  # numpy: "input contained no data"
+            if p.suffix.lower() == ".npy":
+                arr = np.load(p, allow_pickle=False)
+            elif p.suffix.lower() == ".csv":
+                try:
+                    arr = np.loadtxt(p, delimiter=",", ndmin=2)
+                except ValueError:
+                    arr = np.loadtxt(p, delimiter=",", ndmin=2, skiprows=1)
+            else:
+                raise ScenarioError(f"`--points` must be a .npy or .csv file; got {p.name!r}")
     except OSError as e:
         raise ScenarioError(f"cannot read the points file: {e.strerror or e}", str(p)) from None
-    except ValueError as e:
+    except (ValueError, EOFError) as e:
         raise ScenarioError(f"`--points` must hold numbers x,y,z per row; {e}", str(p)) from None
+    if not isinstance(arr, np.ndarray) or arr.dtype.kind not in "iuf":
+        kind = getattr(arr, "dtype", type(arr).__name__)
+        raise ScenarioError(f"`--points` must hold real numbers x,y,z in m; got {kind}", str(p))
     arr = np.asarray(arr, dtype=float)
+    if arr.size == 0:
+        raise ScenarioError("`--points` must hold at least one row x,y,z; got none", str(p))
     if arr.ndim != 2 or arr.shape[1] != 3:
         raise ScenarioError(f"`--points` must have 3 columns (x, y, z in m); got shape {arr.shape}",
                             str(p))

@@ -22,12 +22,18 @@ def register(sub) -> None:
                                    "(whatever the verdicts) unless something breaks.")
     p.add_argument("--out", default=DEMO_OUT, metavar="DIR",
                    help=f"output folder (default ./{DEMO_OUT}/)")
+    p.add_argument("--grid-step-m", type=float, metavar="M", default=None,
+                   help="plan grid step in m (default: the demo's 0.1 m)")
+    p.add_argument("--no-drawings", action="store_true",
+                   help="write only the JSON, GeoJSON and CSV outputs")
     p.add_argument("--quiet", action="store_true", help="no progress messages on stderr")
     p.set_defaults(func=run)
 
 
 def run(args) -> int:
     with resources.as_file(demo_scenario_path()) as path:
-        result = run_report(path, args.out, quiet=getattr(args, "quiet", False))
+        result = run_report(path, args.out, grid_step_m=getattr(args, "grid_step_m", None),
+                            drawings=not getattr(args, "no_drawings", False),
+                            quiet=getattr(args, "quiet", False))
     print(terminal_summary(result, args.out))
     return 0

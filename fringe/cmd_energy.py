@@ -17,12 +17,13 @@ from .energy import (
     DEFAULT_ENERGY_LEVELS_J_PER_M3,
     DEFAULT_ENVELOPE_MARGIN_M,
     MagnetEnergy,
+    check_box,
     energy_density_plan_map,
     energy_density_section_map,
     magnet_energy,
     site_mutual_energies,
 )
-from .errors import ScenarioError, must_be
+from .errors import FringeIOError, ScenarioError, must_be
 from .scenario import load_site
 
 #: Largest accepted |field route − circuit route| / circuit route for ``--verify``
@@ -111,20 +112,28 @@ def format_magnet(e: MagnetEnergy) -> str:
     return "\n".join(lines)
 
 
-def _write_maps(site, magnets, out_dir: Path, levels) -> list[Path]:
-    from .drawing import SheetInfo, map_sheet, save_figure
+def energy_density_sheets(site, magnets=None, levels=DEFAULT_ENERGY_LEVELS_J_PER_M3):
+    """Plan and section sheets of u = B²/2μ₀ for each magnet, ready for a report.
+
+    Returns a list of ``(file_stem, Figure)``: ``energy-plan-<magnet>`` (horizontal plane
+    at the centre height) and ``energy-section-<magnet>`` (vertical plane through the
+    centre along the axis), drawn with :func:`fringe.drawing.map_sheet`. The window is
+    1.2× the reach of the lowest level's field |B| = √(2μ₀u).
+    """
+    from .drawing import SheetInfo, map_sheet
     from .report import magnet_plan_outline, slug
     from .zones import reach_m, section_directions
 
+    magnets = list(site.magnets if magnets is None else magnets)
+    levels = [float(v) for v in levels]
     b_low = math.sqrt(2 * MU0_T_M_PER_A * min(levels))  # |B| of the lowest level
-    out_dir.mkdir(parents=True, exist_ok=True)
-    written = []
+    sheets = []
     taken: set[str] = set()
     notes = ("u = |B|²/2μ₀ of all magnets superposed (vacuum; Jackson Eq. 5.148).",
              "Blank inside windings.")
     for m in magnets:
         half = 1.2 * reach_m(m, b_low)
-        step = half / 80.0
+        step = half / 60.0
         c = np.asarray(m.center_m)
         ax = np.arange(-half, half + step / 2, step)
         plan = energy_density_plan_map(site, c[2], c[0] + ax, c[1] + ax, levels)
@@ -141,13 +150,25 @@ def _write_maps(site, magnets, out_dir: Path, levels) -> list[Path]:
                                        if kind == "plan" else
                                        "vertical plane through the centre along the axis"),
                              magnets=(m.name,))
-            fig = map_sheet(mp.u_m, mp.v_m, mp.energy_density_J_per_m3, list(levels), info,
+            fig = map_sheet(mp.u_m, mp.v_m, mp.energy_density_J_per_m3, levels, info,
                             unit="J/m³", quantity="u", notes=notes,
                             magnets=outlines if kind == "plan" else (),
                             x_label=labels[0], y_label=labels[1],
                             north_arrow=kind == "plan")
-            written.append(save_figure(fig, out_dir / f"energy-{kind}-{name}.png"))
-    return written
+            sheets.append((f"energy-{kind}-{name}", fig))
+    return sheets
+
+
+def _write_maps(site, magnets, out_dir: Path, levels) -> list[Path]:
+    from .drawing import save_figure
+
+    try:
+        out_dir.mkdir(parents=True, exist_ok=True)
+    except OSError as e:
+        raise FringeIOError(must_be("--maps", "a directory that can be created or written",
+                                    f"{out_dir} ({e.strerror or e})")) from None
+    return [save_figure(fig, out_dir / f"{stem}.png")
+            for stem, fig in energy_density_sheets(site, magnets, levels)]
 
 
 def run(args) -> int:
@@ -167,6 +188,8 @@ def run(args) -> int:
             raise ScenarioError(must_be("--box", "XMIN YMIN ZMIN XMAX YMAX ZMAX with each min "
                                         "< max", args.box))
         box = (b[:3], b[3:])
+        for m in magnets:
+            check_box(m, *box, key="--box")
     results = [magnet_energy(m, envelope_margin_m=args.envelope_margin_m, verify=args.verify,
                              box_m=box) for m in magnets]
     mutual = site_mutual_energies(magnets) if len(magnets) > 1 else []

@@ -56,7 +56,10 @@ def terminal_summary(result, out_dir: str | Path) -> str:
         for t, a, rr in m.boundaries:
             if abs(t - r.boundary.value_mT) < 1e-9 * t:
                 lines.append(f"magnet {m.name}: centre {m.center_field_T:.3g} T; {t:g} mT line "
-                             f"{a:.2f} m along, {rr:.2f} m across the axis")
+                             f"{a:.2f} m along, {rr:.2f} m across the axis; stored energy "
+                             f"{m.stored_energy_J / 1e6:.3g} MJ")
+        if m.origin != "coils" and m.description:
+            lines.append(f"  model: {m.description}")
     for name, fps in r.footprints.items():
         b = next(fp for fp in fps if abs(fp.threshold_mT - r.boundary.value_mT)
                  < 1e-9 * fp.threshold_mT)
@@ -78,6 +81,15 @@ def terminal_summary(result, out_dir: str | Path) -> str:
         for e in r.equipment:
             lines.append(f"  {e.name:<{w}}  {e.field_T * 1e3:10.4g} mT  limit "
                          f"{e.limit_T * 1e3:g} mT  {e.verdict}")
+    for b in r.quench:
+        below = [t["threshold"] for t in b.to_dict()["oxygen_thresholds"]
+                 if t["worst_case"] == "falls below"]
+        lines.append(f"quench {b.magnet}: energy-limited boil-off {b.helium_boiled_kg:.3g} kg; "
+                     f"whole inventory {b.inventory_kg:.3g} kg; worst-case room oxygen "
+                     f"{100 * b.oxygen_fraction_worst_case:.2g} % in {b.room_volume_m3:g} m³"
+                     + (f" — falls below {', '.join(below)} oxygen if the vent fails: the quench "
+                        "vent and oxygen monitoring must be in place per local code and the "
+                        "supplier" if below else ""))
     n_ex = sum(c.verdict == "exceeds" for c in r.rooms) + sum(
         e.verdict == "exceeds" for e in r.equipment)
     lines.append(f"verdict: {n_ex} item(s) exceed their limit" if n_ex

@@ -29,6 +29,7 @@ from __future__ import annotations
 
 import datetime as _dt
 import math
+import os
 import re
 import textwrap
 from collections.abc import Iterable, Sequence
@@ -46,7 +47,7 @@ from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, PathPatch, Rectangle
 from matplotlib.path import Path as MplPath
-from matplotlib.text import Text
+from matplotlib.text import Annotation, Text
 from matplotlib.transforms import Bbox
 from shapely.geometry import LineString, Point, Polygon, box
 from shapely.ops import polylabel
@@ -565,13 +566,22 @@ def _draw_title_block(fig: Figure, info: SheetInfo, *, kind: str) -> None:
 
 
 def _draw_key_column(fig: Figure, handles: list, labels: list[str], title: str,
-                     notes: Sequence[str]) -> None:
-    """Legend (top of the key column) and numbered notes right below it."""
+                     notes: Sequence[str], contents: Sequence[str] = ()) -> None:
+    """Legend (top of the key column), then a contents list, then numbered notes."""
     ax = fig.add_axes(_KEY, label="key")
     ax.set_axis_off()
     fs = 8.0
     width = _chars_for(_KEY[2] * 0.78, fs)
     top = 1.0
+    if contents:
+        wc = _chars_for(_KEY[2] * 0.92, fs)
+        body = "\n".join(_wrap(f"{i}. {c}", wc) for i, c in enumerate(contents, 1))
+        ax.text(0.0, top, "CONTENTS", transform=ax.transAxes, fontsize=8.5,
+                fontweight="bold", va="top", ha="left", color=_INK)
+        t = ax.text(0.0, top - 0.03, body, transform=ax.transAxes, fontsize=fs, va="top",
+                    ha="left", color=_INK, linespacing=1.3)
+        bb = t.get_window_extent(_renderer(fig))
+        top = ax.transAxes.inverted().transform((bb.x0, bb.y0))[1] - 0.04
     if handles:
         leg = ax.legend(handles, [_wrap(lb, width) for lb in labels], loc="upper left",
                         bbox_to_anchor=(0.0, 1.0), fontsize=fs, title=title,
@@ -619,6 +629,8 @@ class _LineSet:
     fontsize: float
     weight: str
     color: Any
+    beside: bool = False  # label alongside the line (line left unbroken), not inline
+    near_fallback: list[str] | None = None  # level labels set next to small loops
 
 
 def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | None,
@@ -658,8 +670,9 @@ def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | 
         if vmin < boundary_level < vmax:
             csb = ax.contour(x, y, Z, levels=_log_or_linear([boundary_level], log_contours),
                              colors=_INK, linewidths=2.6, linestyles="solid", zorder=4)
-            sets.append(_LineSet(csb, [blabel], [f"{format_value(boundary_level)} {unit}"],
-                                 8.5, "bold", _INK))
+            short = f"{format_value(boundary_level)} {unit}"
+            sets.append(_LineSet(csb, [blabel], [short + " boundary"], 8.5, "bold", _INK,
+                                 beside=True, near_fallback=[short]))
         entries.append((Line2D([], [], color=_INK, linewidth=2.6), blabel))
     plain = [lv for lv in levels if vmin < lv < vmax and (boundary_level is None or not
              math.isclose(lv, boundary_level, rel_tol=1e-9))]
@@ -691,7 +704,7 @@ def _clearance(box: Bbox, occupied: list[Bbox]) -> float:
 
 
 def _label_lines(ax, renderer, line_sets: Sequence[_LineSet], occupied: list[Bbox],
-                 max_per_level: int = 2) -> list:
+                 max_per_level: int = 2, walls=None) -> list:
     """Label contour lines inline where the label is clear of everything already placed.
 
     For each level, candidate points are sampled along every line piece long enough to
@@ -721,20 +734,35 @@ def _label_lines(ax, renderer, line_sets: Sequence[_LineSet], occupied: list[Bbo
                     if len(chosen) >= max_per_level:
                         break
                     pt = _best_point_on_piece(ax, piece, w, h, inner, occupied + [
-                        b for _, b in chosen])
+                        c[2] for c in chosen], offset_px=(h / 2 + 3) if ls.beside else 0.0,
+                        walls=walls)
                     if pt is not None:
                         chosen.append(pt)
                 if chosen:
                     fmt[float(cs.levels[i])] = text
-                    for p, b in chosen:
-                        plan.append(tuple(p))
+                    for p, ang, b in chosen:
+                        plan.append((p, ang, text))
                         occupied.append(b)
                     break
         if not plan:
+            if ls.beside and ls.near_fallback:
+                out.extend(_label_near_pieces(ax, renderer, ls, inner, occupied, walls,
+                                              max_per_level))
+            continue
+        if ls.beside:
+            to_data = ax.transData.inverted()
+            for p, ang, text in plan:
+                deg = math.degrees(ang)
+                deg = deg - 180 if deg > 90 else (deg + 180 if deg < -90 else deg)
+                xd, yd = to_data.transform(p)
+                out.append(ax.text(xd, yd, text, rotation=deg, rotation_mode="anchor",
+                                   ha="center", va="center", fontsize=ls.fontsize,
+                                   fontweight=ls.weight, color=ls.color, zorder=8,
+                                   path_effects=_HALO, gid="contour-label"))
             continue
         cs.clabel(levels=list(fmt), fmt=fmt, fontsize=ls.fontsize, inline=True,
                   inline_spacing=3, manual=[], colors=[ls.color] * len(fmt))
-        for px, py in plan:
+        for (px, py), _ang, _text in plan:
             cs.add_label_near(px, py, inline=True, inline_spacing=3, transform=False)
         for t in cs.labelTexts:
             t.set_gid("contour-label")
@@ -745,7 +773,63 @@ def _label_lines(ax, renderer, line_sets: Sequence[_LineSet], occupied: list[Bbo
     return out
 
 
-def _best_point_on_piece(ax, piece, w, h, inner: Bbox, occupied: list[Bbox]):
+def _label_near_pieces(ax, renderer, ls: _LineSet, inner: Bbox, occupied: list[Bbox],
+                       walls, max_per_level: int) -> list:
+    """Horizontal labels just outside small closed loops (above, below, right, left).
+
+    Used when a line is too short or too curved for a label alongside it; the line is
+    left unbroken.
+    """
+    out = []
+    inv = ax.transData.inverted()
+    sx, _ = _display_per_metre(ax)
+    for i, path in enumerate(ls.cs.get_paths()):
+        if i >= len(ls.near_fallback):
+            break
+        text = ls.near_fallback[i]
+        w, h = _text_size_px(ax, renderer, text, ls.fontsize, ls.weight)
+        pieces = sorted((np.asarray(p) for p in path.to_polygons(closed_only=False)
+                         if len(p) >= 2), key=lambda p: -len(p))
+        for piece in pieces[:max_per_level]:
+            d = ax.transData.transform(piece)
+            d = d[np.all(np.isfinite(d), axis=1)]
+            if len(d) < 2:
+                continue
+            x0, y0 = d.min(axis=0)
+            x1, y1 = d.max(axis=0)
+            cx, cy = (x0 + x1) / 2, (y0 + y1) / 2
+            best = None
+            for px, py in ((cx, y1 + h / 2 + 3), (cx, y0 - h / 2 - 3),
+                           (x1 + w / 2 + 4, cy), (x0 - w / 2 - 4, cy)):
+                b = Bbox.from_bounds(px - w / 2 - 2, py - h / 2 - 2, w + 4, h + 4)
+                if b.x0 < inner.x0 or b.x1 > inner.x1 or b.y0 < inner.y0 or b.y1 > inner.y1:
+                    continue
+                c = _clearance(b, occupied)
+                if c <= 0:
+                    continue
+                cost = 0.0
+                if walls is not None and not walls.is_empty:
+                    lo, hi = inv.transform([(b.x0, b.y0), (b.x1, b.y1)])
+                    cost = walls.intersection(box(lo[0], lo[1], hi[0], hi[1])).length * sx
+                if best is None or cost < best[0]:
+                    best = (cost, (px, py), b)
+            if best is None:
+                continue
+            occupied.append(best[2])
+            xd, yd = inv.transform(best[1])
+            out.append(ax.text(xd, yd, text, ha="center", va="center", fontsize=ls.fontsize,
+                               fontweight=ls.weight, color=ls.color, zorder=8,
+                               path_effects=_HALO, gid="contour-label"))
+    return out
+
+
+def _best_point_on_piece(ax, piece, w, h, inner: Bbox, occupied: list[Bbox],
+                         offset_px: float = 0.0, walls=None):
+    """Best label spot on one contour piece: ((x, y) px, angle rad, box) or None.
+
+    With ``offset_px`` the label centre is moved off the line along its normal, to the
+    convex side (where a straight label clears a curved line).
+    """
     d = ax.transData.transform(piece)
     good = np.all(np.isfinite(d), axis=1)
     d = d[good]
@@ -763,26 +847,73 @@ def _best_point_on_piece(ax, piece, w, h, inner: Bbox, occupied: list[Bbox]):
         return None
     px = np.interp(ts, s, d[:, 0])
     py = np.interp(ts, s, d[:, 1])
-    # local direction over about one label width
+    # local direction over about one label width (the chord under the label)
     ta = np.clip(ts - w / 2, 0, length)
     tb = np.clip(ts + w / 2, 0, length)
-    ang = np.arctan2(np.interp(tb, s, d[:, 1]) - np.interp(ta, s, d[:, 1]),
-                     np.interp(tb, s, d[:, 0]) - np.interp(ta, s, d[:, 0]))
+    ax_, ay_ = np.interp(ta, s, d[:, 0]), np.interp(ta, s, d[:, 1])
+    bx_, by_ = np.interp(tb, s, d[:, 0]), np.interp(tb, s, d[:, 1])
+    ang = np.arctan2(by_ - ay_, bx_ - ax_)
+    nx, ny = -np.sin(ang), np.cos(ang)
+    sag = (px - (ax_ + bx_) / 2) * nx + (py - (ay_ + by_) / 2) * ny  # curvature under label
+    bad = np.zeros(ts.shape, dtype=bool)
+    side_cost = np.zeros(ts.shape)
+    if offset_px:
+        if closed:  # outward side of a closed loop, from its orientation (shoelace)
+            area2 = float(np.sum(d[:-1, 0] * d[1:, 1] - d[1:, 0] * d[:-1, 1]))
+            sign = np.full(ts.shape, -1.0 if area2 > 0 else 1.0)
+        else:
+            sign = np.where(sag >= 0, 1.0, -1.0)
+        # both sides are candidates; the outward (convex) side is preferred a little
+        n0 = ts.size
+        ts, ta, tb = (np.concatenate([v, v]) for v in (ts, ta, tb))
+        px, py, ang, nx, ny, sag = (np.concatenate([v, v]) for v in (px, py, ang, nx, ny,
+                                                                     sag))
+        sign = np.concatenate([sign, -sign])
+        side_cost = np.concatenate([np.zeros(n0), np.full(n0, 4.0)])
+        # a straight label beside the line must not be crossed by the line itself: no
+        # point of the line under the label may bulge towards it past the anchor point
+        u = np.linspace(0.0, 1.0, 9)
+        tu = np.clip(ta[:, None] + (tb - ta)[:, None] * u[None, :], 0, length)
+        qx = np.interp(tu, s, d[:, 0])
+        qy = np.interp(tu, s, d[:, 1])
+        dev = (qx - px[:, None]) * nx[:, None] + (qy - py[:, None]) * ny[:, None]
+        bad = (sign[:, None] * dev).max(axis=1) > 2.0
+        px = px + sign * offset_px * nx
+        py = py + sign * offset_px * ny
     ew = np.abs(w * np.cos(ang)) + np.abs(h * np.sin(ang)) + 6
     eh = np.abs(w * np.sin(ang)) + np.abs(h * np.cos(ang)) + 6
     cap = 1.5 * h
+    wall_px = np.zeros(ts.shape)
+    if walls is not None and not walls.is_empty:
+        # length of wall (display px) under each candidate's box: labels keep off walls
+        # (the label's own rotated rectangle, not its axis-aligned box)
+        inv = ax.transData.inverted()
+        tx, ty = np.cos(ang), np.sin(ang)
+        hw, hh = w / 2 + 3, h / 2 + 3
+        corners = np.stack([np.column_stack([px + a * hw * tx - b * hh * ty,
+                                             py + a * hw * ty + b * hh * tx])
+                            for a, b in ((-1, -1), (1, -1), (1, 1), (-1, 1), (-1, -1))],
+                           axis=1)
+        corners = inv.transform(corners.reshape(-1, 2)).reshape(corners.shape)
+        boxes = shapely.polygons(corners)
+        sx, _ = _display_per_metre(ax)
+        wall_px = shapely.length(shapely.intersection(walls, boxes)) * sx
     best = None
     for k in range(ts.size):
+        # a label set beside a line must not touch a wall (it would read as the wall's)
+        if bad[k] or (offset_px and wall_px[k] > 0):
+            continue
         b = Bbox.from_bounds(px[k] - ew[k] / 2, py[k] - eh[k] / 2, ew[k], eh[k])
         if b.x0 < inner.x0 or b.x1 > inner.x1 or b.y0 < inner.y0 or b.y1 > inner.y1:
             continue
         c = min(_clearance(b, occupied), cap)
         if c <= 0:
             continue
-        score = c - 1e-4 * (px[k] + py[k])
+        score = (c - 0.5 * abs(sag[k]) - 0.25 * wall_px[k] - side_cost[k]
+                 - 1e-4 * (px[k] + py[k]))
         if best is None or score > best[0]:
-            best = (score, (px[k], py[k]), b)
-    return None if best is None else (best[1], best[2])
+            best = (score, (px[k], py[k]), float(ang[k]), b)
+    return None if best is None else best[1:]
 
 
 def _add_polygon(ax, geom, **kw):
@@ -792,17 +923,22 @@ def _add_polygon(ax, geom, **kw):
 
 
 def _fit_label(ax, renderer, poly, lines: list[str], bold_first: bool,
-               avoid=None, fs_max: float = 7.5, fs_min: float = 4.5):
-    """Place a multi-line label inside ``poly``, shrinking/rotating it to fit.
+               avoid=(), fs_max: float = 7.5, fs_min: float = 5.0):
+    """Place a multi-line label inside ``poly``, shrinking, wrapping or turning it to fit.
 
-    The label is centred on the pole of inaccessibility of ``poly`` minus ``avoid``
-    and clipped to ``poly`` whatever happens.
+    ``avoid`` is a sequence of geometries in decreasing order of strictness: the label
+    is centred on the pole of inaccessibility of ``poly`` minus the first of them that
+    leaves at least 15 % of the room (else of ``poly`` itself), and clipped to ``poly``
+    whatever happens.
     """
     region = poly
-    if avoid is not None and not avoid.is_empty:
-        rest = poly.difference(avoid)
+    for geom in avoid:
+        if geom is None or geom.is_empty:
+            continue
+        rest = poly.difference(geom)
         if not rest.is_empty and rest.area > 0.15 * poly.area:
             region = rest
+            break
     parts = _polygons_of(region) or _polygons_of(poly)
     core = max(parts, key=lambda p: p.area)
     span = max(core.bounds[2] - core.bounds[0], core.bounds[3] - core.bounds[1])
@@ -824,32 +960,33 @@ def _fit_label(ax, renderer, poly, lines: list[str], bold_first: bool,
     patch = PathPatch(_polygon_path(poly), transform=ax.transData, visible=False)
     ax.add_patch(patch)
     t.set_clip_path(patch)
-    chosen = None
+    rotations = (0, 90) if h_m > 1.3 * w_m else (0,)
+    name = lines[0]
+    name_forms = [name] + [textwrap.fill(name, max(6, math.ceil(len(name) / k)))
+                           for k in (2, 3) if len(name) > 12]
+    chosen = False
     for n_keep in range(len(lines), 0, -1):
-        text = "\n".join(lines[:n_keep])
-        t.set_text(text)
-        for rot in (0, 90):
-            if rot == 90 and not (h_m > 1.3 * w_m):
-                continue
-            t.set_rotation(rot)
-            aw, ah = (avail[1], avail[0]) if rot == 90 else avail
-            fs = fs_max
-            while fs >= fs_min - 1e-9:
-                t.set_fontsize(fs)
-                bb = t.get_window_extent(renderer)
-                bw, bh = (bb.height, bb.width) if rot == 90 else (bb.width, bb.height)
-                if bw <= aw and bh <= ah:
-                    chosen = (text, rot, fs)
+        fs = fs_max
+        while fs >= fs_min - 1e-9 and not chosen:
+            t.set_fontsize(fs)
+            for form in dict.fromkeys(name_forms):
+                t.set_text("\n".join([form, *lines[1:n_keep]]))
+                for rot in rotations:
+                    t.set_rotation(rot)
+                    bb = t.get_window_extent(renderer)
+                    if bb.width <= avail[0] and bb.height <= avail[1]:
+                        chosen = True
+                        break
+                if chosen:
                     break
+            if not chosen:
                 fs -= 0.5
-            if chosen:
-                break
         if chosen:
             break
-    if chosen is None:
-        t.set_text(lines[0])
-        t.set_rotation(90 if h_m > 1.3 * w_m else 0)
-        t.set_fontsize(fs_min)
+    if not chosen:  # does not fit: smallest size, clipped to the room
+        t.set_text(name_forms[-1])
+        t.set_rotation(rotations[-1])
+        t.set_fontsize(fs_min - 0.5)
     return t
 
 
@@ -887,7 +1024,7 @@ def _draw_rooms(ax, renderer, rooms: Sequence[RoomMark], avoid) -> tuple[list, l
         any_controlled |= controlled
         if exceeds:
             _add_polygon(ax, r.polygon, facecolor="none", edgecolor=_INK, linewidth=0.0,
-                         hatch="///", alpha=0.55, zorder=5)
+                         hatch="//", alpha=0.55, zorder=5)
         _add_polygon(ax, r.polygon, facecolor="none", edgecolor=_INK,
                      linewidth=2.8 if exceeds else (1.5 if controlled else 1.0),
                      linestyle="-", zorder=6)
@@ -902,7 +1039,7 @@ def _draw_rooms(ax, renderer, rooms: Sequence[RoomMark], avoid) -> tuple[list, l
         if exceeds:
             lim = (f" {format_value(r.limit_T * 1e3)} mT" if r.limit_T is not None else "")
             lines.append(f"EXCEEDS LIMIT{lim}")
-        elif r.verdict:
+        elif r.verdict and r.verdict.lower() not in {x.lower() for x in detail}:
             lines.append(str(r.verdict))
         texts.append(_fit_label(ax, renderer, r.polygon, lines, bold_first=True,
                                 avoid=avoid))
@@ -916,7 +1053,7 @@ def _draw_rooms(ax, renderer, rooms: Sequence[RoomMark], avoid) -> tuple[list, l
         handles.append(Patch(facecolor="none", edgecolor=_INK, linewidth=1.5))
         labels.append("controlled room (may hold fields above the boundary)")
     if any_exceeds:
-        handles.append(Patch(facecolor="none", edgecolor=_INK, linewidth=2.8, hatch="///"))
+        handles.append(Patch(facecolor="none", edgecolor=_INK, linewidth=2.8, hatch="//"))
         labels.append("room whose field reaches its limit: hatched, bold, EXCEEDS")
     return texts, list(zip(handles, labels, strict=True))
 
@@ -927,7 +1064,7 @@ def _draw_magnets(ax, magnets, *, section: bool = False) -> tuple[list, list]:
         name, poly = (m.name, m.polygon) if isinstance(m, MagnetOutline) else tuple(m)
         _check_geometry(f"magnets[{i}].polygon ({name})", poly, area=True)
         _add_polygon(ax, poly, facecolor="0.35" if section else "white",
-                     edgecolor=_INK, linewidth=1.8, alpha=0.95, zorder=6.5)
+                     edgecolor=_INK, linewidth=1.8, zorder=6.5)
         if not section:
             c = poly.centroid
             t = ax.text(c.x, c.y, name, ha="center", va="center", fontsize=7,
@@ -980,6 +1117,34 @@ def _draw_overlays(ax, overlays) -> list:
     return entries
 
 
+def _text_box(t, renderer) -> Bbox:
+    """Display box of a Text or of an Annotation's text alone (without its leader)."""
+    if isinstance(t, Annotation):
+        t.update_positions(renderer)
+    return Text.get_window_extent(t, renderer)
+
+
+def _overlay_geometries(overlays) -> list:
+    out = []
+    for ov in overlays:
+        geom = ov.geometry if isinstance(ov, Overlay) else tuple(ov)[1]
+        if isinstance(geom, shapely.Geometry) and not geom.is_empty:
+            out.append(geom)
+    return out
+
+
+def _line_hulls(line_set: _LineSet, pad_m: float) -> list:
+    """Convex hulls (padded) of each piece of a line set, in data coordinates."""
+    out = []
+    for path in line_set.cs.get_paths():
+        for piece in path.to_polygons(closed_only=False):
+            pts = np.asarray(piece)
+            pts = pts[np.all(np.isfinite(pts), axis=1)]
+            if len(pts) >= 2:
+                out.append(shapely.MultiPoint(pts).convex_hull.buffer(pad_m))
+    return out
+
+
 def _overlap_area(a: Bbox, b: Bbox) -> float:
     w = min(a.x1, b.x1) - max(a.x0, b.x0)
     h = min(a.y1, b.y1) - max(a.y0, b.y0)
@@ -991,8 +1156,17 @@ _OFFSETS_PT = [(d * cx, d * cy) for d in (9, 18, 30, 44)
                               (0, 1.2), (0, -1.2))]
 
 
-def _draw_equipment(ax, renderer, equipment, occupied: list[Bbox]) -> tuple[list, list]:
+def _draw_equipment(ax, renderer, equipment, occupied: list[Bbox], walls=None
+                    ) -> tuple[list, list]:
+    """Equipment markers with labels placed by a greedy search over offsets.
+
+    Each label takes the first candidate offset that overlaps no occupied box, stays in
+    the axes and crosses no wall (``walls``: room outlines as shapely lines, data m);
+    failing that, the candidate of least overlap.
+    """
     texts = []
+    to_data = ax.transData.inverted()
+    sx, _ = _display_per_metre(ax)
     any_exceeds = False
     axbb = ax.get_window_extent(renderer)
     for i, e in enumerate(equipment):
@@ -1030,10 +1204,14 @@ def _draw_equipment(ax, renderer, equipment, occupied: list[Bbox]) -> tuple[list
                               gid="equipment-label",
                               arrowprops={"arrowstyle": "-", "color": _INK, "linewidth": 0.6,
                                           "shrinkA": 0, "shrinkB": 3})
-            bb = Text.get_window_extent(ann, renderer)  # the text only, not the leader
+            bb = _text_box(ann, renderer)
             cost = sum(_overlap_area(bb, o) for o in occupied)
             outside = (bb.width * bb.height) - _overlap_area(bb, axbb)
             cost += 4 * outside
+            if walls is not None:
+                c = to_data.transform([(bb.x0, bb.y0), (bb.x1, bb.y1)])
+                crossing = walls.intersection(box(c[0][0], c[0][1], c[1][0], c[1][1])).length
+                cost += 0.5 * crossing * sx * bb.height
             if best is None or cost < best[0]:
                 if best is not None:
                     best[1].remove()
@@ -1203,8 +1381,14 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     keep_clear = [g.buffer(6.0 / sx) for g in keep_clear]
     keep_clear += [Point(np.asarray(e.xy_m, float).ravel()[:2]).buffer(14.0 / sx)
                    for e in equipment if isinstance(e, EquipmentMark)]
-    avoid = shapely.union_all(keep_clear) if keep_clear else None
-    room_texts, room_entries = _draw_rooms(ax, renderer, rooms, avoid)
+    basic = shapely.union_all(keep_clear) if keep_clear else None
+    # also keep room names off extra layers and off the boundary line and what it encloses
+    features = [g.buffer(6.0 / sx) for g in _overlay_geometries(overlays)]
+    features += _line_hulls(line_sets[0], 8.0 / sx) if line_sets and line_sets[0].beside \
+        else []
+    strict = shapely.union_all(features + ([basic] if basic is not None else [])) \
+        if features else None
+    room_texts, room_entries = _draw_rooms(ax, renderer, rooms, (strict, basic))
     entries += room_entries + mag_entries
     occupied = [t.get_window_extent(renderer) for t in room_texts + mag_texts
                 if t.get_text()]
@@ -1215,8 +1399,18 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
         if isinstance(e, EquipmentMark):
             p = ax.transData.transform(np.asarray(e.xy_m, float).ravel()[:2])
             occupied.append(Bbox.from_bounds(p[0] - 6, p[1] - 6, 12, 12))
-    _label_lines(ax, renderer, line_sets, occupied)
-    _eq_texts, eq_entries = _draw_equipment(ax, renderer, equipment, occupied)
+    walls = shapely.union_all([r.polygon.boundary for r in rooms]) if rooms else None
+    lines_to_avoid = [g.boundary if g.geom_type in ("Polygon", "MultiPolygon") else g
+                      for g in _overlay_geometries(overlays)]
+    if walls is not None:
+        lines_to_avoid.append(walls)
+    label_walls = shapely.union_all(lines_to_avoid) if lines_to_avoid else None
+    _label_lines(ax, renderer, line_sets, occupied, walls=label_walls)
+    if line_sets and line_sets[0].beside:  # equipment labels keep off the boundary too
+        lines = [shapely.LineString(p) for path in line_sets[0].cs.get_paths()
+                 for p in path.to_polygons(closed_only=False) if len(p) >= 2]
+        walls = shapely.union_all(([walls] if walls is not None else []) + lines)
+    _eq_texts, eq_entries = _draw_equipment(ax, renderer, equipment, occupied, walls)
     entries += eq_entries
     _draw_key_column(fig, [h for h, _ in entries], [lb for _, lb in entries],
                      f"{quantity} in {unit}", list(info.notes) + list(notes))
@@ -1367,7 +1561,7 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
                             textcoords="offset points", fontsize=7, ha="right", va="bottom",
                             color=_INK, zorder=9, path_effects=_HALO,
                             annotation_clip=True)
-            occupied.append(Text.get_window_extent(t, renderer))
+            occupied.append(_text_box(t, renderer))
     if floors:
         entries.append((Line2D([], [], color=_INK, linewidth=1.6), "floor level"))
         entries.append((Patch(facecolor="0.55", alpha=0.16, edgecolor="none"),
@@ -1617,7 +1811,8 @@ def _table_cell(ax, xs, j, y, text, numeric, fs, *, bold):
 
 
 def cover_sheet(info: SheetInfo, key_facts: Sequence[tuple[str, str]],
-                verdict_lines: Sequence[str] = (), *, notes: Sequence[str] = ()) -> Figure:
+                verdict_lines: Sequence[str] = (), *, notes: Sequence[str] = (),
+                contents: Sequence[str] = ()) -> Figure:
     """The first sheet of a set: title, key facts, findings and the advisory notice.
 
     Parameters
@@ -1630,10 +1825,17 @@ def cover_sheet(info: SheetInfo, key_facts: Sequence[tuple[str, str]],
         Lines containing "EXCEEDS" (any case) are set in bold.
     notes : sequence of str
         Extra notes in the key column.
+    contents : sequence of str
+        Titles of the sheets that follow, listed in the key column as "Contents".
 
     Returns
     -------
     matplotlib.figure.Figure
+
+    Raises
+    ------
+    FringeInputError
+        A key fact that is not a (label, value) pair.
     """
     fig = _new_figure()
     _draw_frame(fig, info, kind="cover")
@@ -1678,7 +1880,7 @@ def cover_sheet(info: SheetInfo, key_facts: Sequence[tuple[str, str]],
             ax.text(0.0, y, text, fontsize=9.5, va="top", color=_INK,
                     fontweight="bold" if bold else "normal")
             y -= 9.5 * 1.5 / h_pt * (text.count("\n") + 1) + 0.003
-    _draw_key_column(fig, [], [], "", list(info.notes) + list(notes))
+    _draw_key_column(fig, [], [], "", list(info.notes) + list(notes), contents=contents)
     return fig
 
 
@@ -1717,6 +1919,13 @@ def number_sheets(figures) -> list[Figure]:
                              == _SHEET_NUMBER_GID + "-auto"):
             t.set_text(f"Sheet {k} of {n}")
     return figs
+
+
+def _usual_mode(path: Path) -> None:
+    """Give a temporary file the mode a plain ``open()`` would (mkstemp makes it 0600)."""
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(path, 0o666 & ~umask)
 
 
 def _save_rc() -> dict[str, Any]:
@@ -1763,6 +1972,7 @@ def save_figure(fig: Figure, path: str | Path, *, dpi: int = PNG_DPI) -> Path:
         meta = {"Creator": "fringe", "Description": ADVISORY_NOTICE, "Date": None}
     with matplotlib.rc_context(_save_rc()), atomic_file(path) as tmp:
         fig.savefig(tmp, format=fmt, dpi=dpi, metadata=meta)
+        _usual_mode(tmp)
     return path
 
 
@@ -1799,4 +2009,5 @@ def write_pdf(figures, path: str | Path, *, title: str | None = None) -> Path:
         with PdfPages(tmp, metadata=meta) as pdf:
             for fig in figs:
                 pdf.savefig(fig)
+        _usual_mode(tmp)
     return path

@@ -38,13 +38,14 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 from scipy.special import ellipe, ellipkm1
 
 from .coils import Coil, Magnet
 from .constants import MU0_T_M_PER_A
-from .errors import FringeInputError
+from .errors import FringeInputError, must_be
 
 __all__ = [
     "loop_mutual_inductance_H", "rectangle_log_potential", "coil_pair_inductance_H",
@@ -52,13 +53,24 @@ __all__ = [
     "center_field_T", "winding_field_local_T", "energy_in_cylinder_J",
     "exterior_energy_outside_sphere_J", "field_energy_J", "envelope_cylinder_m",
     "energy_outside_cylinder_J", "energy_outside_sphere_J", "energy_outside_box_J",
-    "mutual_energy_J", "site_mutual_energies", "EnergyDensityMap", "energy_density_plan_map",
-    "energy_density_section_map", "MagnetEnergy", "magnet_energy", "DEFAULT_ORDER",
-    "FIELD_RADIAL_ORDER", "DEFAULT_ENVELOPE_MARGIN_M", "DEFAULT_ENERGY_LEVELS_J_PER_M3",
+    "check_box", "mutual_energy_J", "site_mutual_energies", "EnergyDensityMap",
+    "energy_density_plan_map", "energy_density_section_map", "MagnetEnergy", "magnet_energy",
+    "DEFAULT_ORDER", "INDUCTANCE_RTOL", "MAX_ORDER", "FIELD_RADIAL_ORDER",
+    "DEFAULT_ENVELOPE_MARGIN_M", "DEFAULT_ENERGY_LEVELS_J_PER_M3",
 ]
 
-#: Gauss–Legendre nodes per panel and direction for the inductance integrals.
-DEFAULT_ORDER: int = 6
+#: Starting Gauss–Legendre order (nodes per panel and direction) of the adaptive
+#: inductance integrals; the order grows by 1.5× until two successive values agree to
+#: :data:`INDUCTANCE_RTOL` (at most :data:`MAX_ORDER`).
+DEFAULT_ORDER: int = 8
+
+#: Relative agreement of successive orders at which the adaptive inductance stops.
+#: The convergence is algebraic (~n⁻⁴, from the O(d² ln d) remainder), so the error of
+#: the returned (higher-order) value is about a quarter of this.
+INDUCTANCE_RTOL: float = 1e-5
+
+#: Largest order the adaptive inductance integral tries.
+MAX_ORDER: int = 40
 
 MU0 = MU0_T_M_PER_A
 
@@ -89,7 +101,8 @@ def loop_mutual_inductance_H(r1_m, r2_m, dz_m) -> np.ndarray:
 
     References
     ----------
-    Maxwell 1873, Art. 701; Grover 1946, Ch. 13, Eq. (1); Jackson 1999, Eq. 5.37.
+    Maxwell 1873, Art. 701; Grover 1946, Ch. 13; Jackson 1999, Eq. 5.37 (the loop's
+    vector potential A_φ, of which M = 2πr₂A_φ/I₁).
     """
     r1 = np.asarray(r1_m, dtype=float)
     r2 = np.asarray(r2_m, dtype=float)
@@ -131,8 +144,11 @@ def rectangle_log_potential(x_m, y_m, x0, x1, y0, y1) -> np.ndarray:
 def _regular_kernel(r1, z1, r2, z2) -> np.ndarray:
     """``M_fil + μ₀ (r₁+r₂)/2 · ln d`` (H): the filament kernel minus its log singularity.
 
-    At coincidence the limit ``μ₀ r (ln 8r − 2)`` is used (Maxwell 1873, Art. 705:
-    M ≈ μ₀ r (ln(8r/d) − 2) for d ≪ r).
+    At coincidence the limit ``μ₀ r (ln 8r − 2)`` is used, from the expansion of Maxwell's
+    formula for nearly coincident circles, M ≈ μ₀ r (ln(8r/d) − 2) for d ≪ r (Maxwell
+    1873, Arts. 704–705; Grover 1946, Ch. 13). Proof sketch: K(k) = ln(4/k′) + O(k′² ln k′),
+    E(k) = 1 + O(k′² ln k′), k′ = d/√((r₁+r₂)² + Δz²), and √(r₁r₂) − (r₁+r₂)/2 = O(d²),
+    so the remainder is continuous with an O(d² ln d) leading non-smooth term.
     """
     d2 = (r1 - r2) ** 2 + (z1 - z2) ** 2
     same = d2 <= 1e-28 * (r1 + r2) ** 2
@@ -154,11 +170,19 @@ def _panels(a: float, b: float, order: int, n_panels: int):
 
 
 def _rect_nodes(c: Coil, order: int, cell_m: float):
-    """Tensor Gauss–Legendre nodes (r, z, weight) over a coil section, near-square panels."""
-    n_r = max(1, math.ceil(c.thickness_m / cell_m - 1e-9))
-    n_z = max(1, math.ceil(c.length_m / cell_m - 1e-9))
-    r, wr = _panels(c.r_inner_m, c.r_outer_m, order, n_r)
-    z, wz = _panels(c.z_min_m, c.z_max_m, order, n_z)
+    """Tensor Gauss–Legendre nodes (r, z, weight) over a coil section.
+
+    Panels no larger than ``cell_m``; ``order`` nodes per panel along a side as long as
+    the cell, proportionally fewer (at least 2) along a side much shorter than it (a thin
+    wall needs no more: the kernel varies on the scale of the cell there).
+    """
+    def side(a: float, b: float):
+        n_p = max(1, math.ceil((b - a) / cell_m - 1e-9))
+        n_o = max(2, min(order, math.ceil(order * (b - a) / n_p / cell_m - 1e-9)))
+        return _panels(a, b, n_o, n_p)
+
+    r, wr = side(c.r_inner_m, c.r_outer_m)
+    z, wz = side(c.z_min_m, c.z_max_m)
     R, Z = np.meshgrid(r, z, indexing="ij")
     return R.ravel(), Z.ravel(), np.outer(wr, wz).ravel()
 
@@ -170,7 +194,8 @@ def _cell_size(c: Coil) -> float:
     return min(hi, max(lo, 0.125 * (c.r_inner_m + c.r_outer_m))) * 1.0000001
 
 
-def coil_pair_inductance_H(c1: Coil, c2: Coil, order: int = DEFAULT_ORDER) -> float:
+def coil_pair_inductance_H(c1: Coil, c2: Coil, order: int | None = None,
+                           rtol: float = INDUCTANCE_RTOL) -> float:
     """Mutual (or self, if ``c1 is c2``) inductance in H of two coaxial windings.
 
     Turns included: ``M = N₁N₂/(A₁A₂) ∫∫ M_fil dA₁ dA₂`` for uniform current density.
@@ -179,14 +204,31 @@ def coil_pair_inductance_H(c1: Coil, c2: Coil, order: int = DEFAULT_ORDER) -> fl
     ----------
     c1, c2 : Coil
         Windings in the same local frame (coaxial).
-    order : int
-        Gauss–Legendre nodes per panel and direction (convergence in the tests).
+    order : int, optional
+        Fixed Gauss–Legendre nodes per panel and direction (used by the convergence
+        tests). Default: adaptive — start at :data:`DEFAULT_ORDER` and raise the order
+        by 1.5× until two successive values agree to ``rtol`` (stated error ≈ rtol/4,
+        see :data:`INDUCTANCE_RTOL`); :data:`MAX_ORDER` caps it.
 
     References
     ----------
     Maxwell 1873, Arts. 691–701; Grover 1946, Ch. 13 and 16 (averaging the filament
     formula over the cross-sections).
     """
+    if order is None:
+        n = DEFAULT_ORDER
+        prev = _pair_fixed_order(c1, c2, n)
+        while True:
+            n = min(MAX_ORDER, math.ceil(1.5 * n))
+            val = _pair_fixed_order(c1, c2, n)
+            if abs(val - prev) <= rtol * abs(val) or n >= MAX_ORDER:
+                return val
+            prev = val
+    return _pair_fixed_order(c1, c2, int(order))
+
+
+def _pair_fixed_order(c1: Coil, c2: Coil, order: int) -> float:
+    """:func:`coil_pair_inductance_H` at one fixed Gauss–Legendre order."""
     r1, z1, w1 = _rect_nodes(c1, order, _cell_size(c1))
     r2, z2, w2 = _rect_nodes(c2, order, _cell_size(c2))
     reg = _regular_kernel(r1[:, None], z1[:, None], r2[None, :], z2[None, :])
@@ -213,19 +255,30 @@ def _check_magnet(magnet: Magnet) -> None:
                 f"turns > 0; got {c!r}")
 
 
-def inductance_matrix_H(magnet: Magnet, order: int = DEFAULT_ORDER) -> np.ndarray:
+def inductance_matrix_H(magnet: Magnet, order: int | None = None) -> np.ndarray:
     """Inductance matrix (n, n) in H of a magnet's n windings, turns included.
 
     Diagonal: self-inductances; off-diagonal: mutual inductances (sign by winding
-    sense is carried by the currents, not by M). Symmetric by construction.
+    sense is carried by the currents, not by M). Symmetric by construction. ``order``:
+    see :func:`coil_pair_inductance_H` (default adaptive, relative error ~1e-5/4).
     """
     _check_magnet(magnet)
-    cs = magnet.coils
-    n = len(cs)
+    geometry = tuple((c.r_inner_m, c.r_outer_m, c.z_min_m, c.z_max_m, c.turns)
+                     for c in magnet.coils)
+    return _matrix_cached(geometry, None if order is None else int(order)).copy()
+
+
+@lru_cache(maxsize=64)
+def _matrix_cached(geometry: tuple, order: int | None) -> np.ndarray:
+    """The matrix of :func:`inductance_matrix_H`, cached on the winding geometry
+    (currents do not enter M)."""
+    coils = [Coil(*g, current_A=1.0) for g in geometry]
+    n = len(coils)
     out = np.zeros((n, n))
     for i in range(n):
         for j in range(i, n):
-            out[i, j] = out[j, i] = coil_pair_inductance_H(cs[i], cs[j], order)
+            out[i, j] = out[j, i] = coil_pair_inductance_H(coils[i], coils[j], order)
+    out.flags.writeable = False
     return out
 
 
@@ -234,13 +287,13 @@ def coil_currents_A(magnet: Magnet) -> np.ndarray:
     return np.array([c.current_A for c in magnet.coils], dtype=float)
 
 
-def stored_energy_J(magnet: Magnet, order: int = DEFAULT_ORDER) -> float:
+def stored_energy_J(magnet: Magnet, order: int | None = None) -> float:
     """Stored magnetic energy ``W = ½ IᵀMI`` in J (per-coil currents, turns in M)."""
     i = coil_currents_A(magnet)
     return float(0.5 * i @ inductance_matrix_H(magnet, order) @ i)
 
 
-def circuit_inductance_H(magnet: Magnet, order: int = DEFAULT_ORDER) -> float | None:
+def circuit_inductance_H(magnet: Magnet, order: int | None = None) -> float | None:
     """Series-circuit inductance ``2W/I²`` in H, or None when coil |currents| differ.
 
     Defined only when every winding carries the same magnitude of current (one series
@@ -257,7 +310,7 @@ def center_field_T(magnet: Magnet) -> float:
 
     Closed form for a uniform rectangular winding:
     ``B_z(0) = μ₀J/2 [[ z ln(r + √(r² + z²)) ]]`` over the corners, the double integral
-    of the loop's on-axis field μ₀Ir²/(2(r²+z²)^{3/2}) (Jackson 1999, Eq. 5.40).
+    of the loop's on-axis field μ₀Ir²/(2(r²+z²)^{3/2}) (Jackson 1999, Sec. 5.5).
     """
     total = 0.0
     for c in magnet.coils:
@@ -311,7 +364,7 @@ def winding_field_local_T(magnet: Magnet, rho_m, z_m,
             radii = np.concatenate([ri + (rc - ri)[:, None] * t01,
                                     rc[:, None] + (ro - rc)[:, None] * t01], axis=1)
             wts = np.concatenate([(rc - ri)[:, None] * w01, (ro - rc)[:, None] * w01], axis=1)
-            radii = np.where(radii > 0, radii, 1e-300)
+            radii = np.where(radii > 0, radii, mid)  # zero-length panel: weight 0
             hl = 0.5 * c.length_m
             zc = 0.5 * (c.z_min_m + c.z_max_m)
             out = np.asarray(kernel((hl / radii).ravel(), (p[:, None] / radii).ravel(),
@@ -429,11 +482,16 @@ def field_energy_J(magnet: Magnet, order: int = 8, l_max: int = 40,
 
 
 def _envelope(magnet: Magnet, margin_m: float) -> tuple[float, float, float]:
-    """Smallest coaxial cylinder around the windings grown by margin: (ρ, z_min, z_max)."""
+    """Smallest coaxial cylinder around the windings grown by margin: (ρ, z_min, z_max).
+
+    It always holds the centre strictly inside (at least 1 % of the enclosing radius
+    from its end faces), which the ray construction of the outside region needs.
+    """
     rho = max(c.r_outer_m for c in magnet.coils) + margin_m
     z0 = min(c.z_min_m for c in magnet.coils) - margin_m
     z1 = max(c.z_max_m for c in magnet.coils) + margin_m
-    return rho, min(z0, -margin_m), max(z1, margin_m)
+    eps = max(margin_m, 0.01 * magnet.enclosing_radius_m)
+    return rho, min(z0, -eps), max(z1, eps)
 
 
 #: Radial and axial margin in m added around the windings to stand for the cryostat
@@ -497,6 +555,29 @@ def energy_outside_sphere_J(magnet: Magnet, radius_m: float, l_max: int = 40) ->
     return exterior_energy_outside_sphere_J(zonal_moments_Am(magnet, l_max), radius_m)
 
 
+def check_box(magnet: Magnet, box_min_m, box_max_m, key: str = "box"):
+    """Check that a site box holds a magnet's centre and windings; return the box
+    corners relative to the centre as two (3,) arrays (m). Raises FringeInputError."""
+    _check_magnet(magnet)
+    lo = np.asarray(box_min_m, dtype=float).ravel() - np.asarray(magnet.center_m)
+    hi = np.asarray(box_max_m, dtype=float).ravel() - np.asarray(magnet.center_m)
+    got = f"{[float(v) for v in np.ravel(box_min_m)]} .. {[float(v) for v in np.ravel(box_max_m)]}"
+    if lo.shape != (3,) or hi.shape != (3,) or not np.all(lo < 0) or not np.all(hi > 0):
+        raise FringeInputError(must_be(key, f"a box (min corner, max corner) around the centre "
+                                       f"of {magnet.name!r}", got))
+    phi = np.linspace(0, 2 * math.pi, 48, endpoint=False)
+    ring = []
+    for c in magnet.coils:
+        for z in (c.z_min_m, c.z_max_m):
+            ring.append(np.column_stack([c.r_outer_m * np.cos(phi), c.r_outer_m * np.sin(phi),
+                                         np.full_like(phi, z)]))
+    rel = magnet.vectors_to_site(np.concatenate(ring))
+    if np.any(rel < lo) or np.any(rel > hi):
+        raise FringeInputError(must_be(key, f"a box holding every winding of {magnet.name!r}",
+                                       got))
+    return lo, hi
+
+
 def energy_outside_box_J(magnet: Magnet, box_min_m, box_max_m, order: int = 6,
                          l_max: int = 40) -> float:
     """Energy in J of one magnet's field outside an axis-aligned site box.
@@ -511,23 +592,7 @@ def energy_outside_box_J(magnet: Magnet, box_min_m, box_max_m, order: int = 6,
     from .field import field_at
     from .multipole import zonal_moments_Am
 
-    _check_magnet(magnet)
-    lo = np.asarray(box_min_m, dtype=float) - np.asarray(magnet.center_m)
-    hi = np.asarray(box_max_m, dtype=float) - np.asarray(magnet.center_m)
-    if lo.shape != (3,) or hi.shape != (3,) or not np.all(lo < 0) or not np.all(hi > 0):
-        raise FringeInputError(
-            f"`box` must be (xmin, ymin, zmin) < magnet centre < (xmax, ymax, zmax); got "
-            f"{list(box_min_m)} .. {list(box_max_m)}")
-    phi = np.linspace(0, 2 * math.pi, 48, endpoint=False)
-    ring = []
-    for c in magnet.coils:
-        for z in (c.z_min_m, c.z_max_m):
-            ring.append(np.column_stack([c.r_outer_m * np.cos(phi), c.r_outer_m * np.sin(phi),
-                                         np.full_like(phi, z)]))
-    rel = magnet.vectors_to_site(np.concatenate(ring))
-    if np.any(rel < lo) or np.any(rel > hi):
-        raise FringeInputError(f"`box` must contain every winding of {magnet.name!r}; got "
-                               f"{list(box_min_m)} .. {list(box_max_m)}")
+    lo, hi = check_box(magnet, box_min_m, box_max_m)
     corners = np.array([[x, y, z] for x in (lo[0], hi[0]) for y in (lo[1], hi[1])
                         for z in (lo[2], hi[2])])
     sphere = 1.5 * max(magnet.enclosing_radius_m, float(np.max(np.linalg.norm(corners, axis=1))))
@@ -557,7 +622,7 @@ def energy_outside_box_J(magnet: Magnet, box_min_m, box_max_m, order: int = 6,
 # -- coupling between magnets ---------------------------------------------------------
 
 def mutual_energy_J(magnet_a: Magnet, magnet_b: Magnet, order: int = 8,
-                    n_phi: int = 24) -> float:
+                    n_phi: int = 24, method: str = "direct") -> float:
     """Interaction energy in J of two magnets: ``∫ B_a·B_b/μ₀ dV``.
 
     Computed as the flux of magnet a's field linked by magnet b's windings,
@@ -567,7 +632,8 @@ def mutual_energy_J(magnet_a: Magnet, magnet_b: Magnet, order: int = 8,
     ``∫_{ri}^{ro} Φ dr = ∫_0^{ro} (ro − max(r', ri)) r' dr' ∫ B_a·n dφ``; Gauss–Legendre
     in z and r' (split at ri where the weight kinks) and the trapezoid rule in φ
     (spectrally accurate for a periodic integrand). General orientation; the magnets
-    must not overlap. The total energy of both is W_a + W_b + W_ab.
+    must not overlap. The total energy of both is W_a + W_b + W_ab. ``method`` is passed
+    to :func:`fringe.field.field_at` ("direct": reference sheet sum).
     """
     from .field import field_at
 
@@ -588,7 +654,7 @@ def mutual_energy_J(magnet_a: Magnet, magnet_b: Magnet, order: int = 8,
         wr = wr * r * (c.r_outer_m - np.maximum(r, c.r_inner_m))
         R, Z, P = np.meshgrid(r, z, phi, indexing="ij")
         loc = np.column_stack([(R * np.cos(P)).ravel(), (R * np.sin(P)).ravel(), Z.ravel()])
-        bn = field_at(magnet_a, magnet_b.to_site(loc)) @ normal
+        bn = field_at(magnet_a, magnet_b.to_site(loc), method=method) @ normal
         w = (wr[:, None, None] * wz[None, :, None]
              * np.full(n_phi, 2 * math.pi / n_phi)[None, None, :]).ravel()
         total += c.current_density_A_per_m2 * float(np.sum(bn * w))

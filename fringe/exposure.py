@@ -24,7 +24,7 @@ __all__ = ["ExposureLimit", "EXPOSURE_LIMITS", "ICNIRP_2009_SOURCE", "exposure_l
 
 #: Short citation printed on sheets beside the exposure lines.
 ICNIRP_2009_SOURCE: str = (
-    "ICNIRP 2009, Guidelines on limits of exposure to static magnetic fields, "
+    "ICNIRP (2009) Guidelines on limits of exposure to static magnetic fields. "
     "Health Phys. 96(4):504-514, Table 1")
 
 
@@ -42,12 +42,28 @@ class ExposureLimit:
         Who and which part of the body, in words, as printed on sheets.
     source : str
         Published source (with table).
+    short : str
+        Few-word form of ``applies_to`` for line labels.
+    cite : str
+        Short citation for labels, e.g. ``"ICNIRP 2009"``.
     """
 
     name: str
     field_T: float
     applies_to: str
     source: str
+    short: str = ""
+    cite: str = "ICNIRP 2009"
+
+    @property
+    def value_text(self) -> str:
+        """The value as printed: ``"400 mT"``, ``"2 T"``."""
+        return f"{self.field_T:g} T" if self.field_T >= 1 else f"{self.field_mT:g} mT"
+
+    @property
+    def line_label(self) -> str:
+        """Label printed on the line, e.g. ``"400 mT: general public (ICNIRP 2009)"``."""
+        return f"{self.value_text}: {self.short or self.applies_to} ({self.cite})"
 
     @property
     def field_mT(self) -> float:
@@ -60,11 +76,12 @@ class ExposureLimit:
 EXPOSURE_LIMITS: dict[str, ExposureLimit] = {
     lim.name: lim for lim in (
         ExposureLimit("icnirp-2009-public", 0.4, "general public, any part of the body",
-                      ICNIRP_2009_SOURCE),
+                      ICNIRP_2009_SOURCE, "general public"),
         ExposureLimit("icnirp-2009-occupational-head-trunk", 2.0,
-                      "occupational, head and trunk", ICNIRP_2009_SOURCE),
+                      "occupational, head and trunk", ICNIRP_2009_SOURCE,
+                      "occupational, head and trunk"),
         ExposureLimit("icnirp-2009-occupational-limbs", 8.0, "occupational, limbs",
-                      ICNIRP_2009_SOURCE),
+                      ICNIRP_2009_SOURCE, "occupational, limbs"),
     )
 }
 
@@ -103,5 +120,4 @@ def exposure_label(limit: ExposureLimit) -> str:
     >>> exposure_label(EXPOSURE_LIMITS["icnirp-2009-occupational-limbs"])
     '8 T exposure limit: occupational, limbs (ICNIRP 2009)'
     """
-    value = f"{limit.field_T:g} T" if limit.field_T >= 1 else f"{limit.field_mT:g} mT"
-    return f"{value} exposure limit: {limit.applies_to} ({limit.source.split(',')[0]})"
+    return f"{limit.value_text} exposure limit: {limit.applies_to} ({limit.cite})"

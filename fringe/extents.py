@@ -57,6 +57,9 @@ SERIES_L_MAX: int = 40
 #: closer than this can be merged, the outermost one is never missed by more.
 _GRID_RATIO: float = 1.01
 
+#: Grid points evaluated at once on the inward scan.
+_BLOCK = 48
+
 #: Brent's method absolute tolerance on an extent, m.
 _XTOL_M: float = 1e-4
 
@@ -132,11 +135,14 @@ def _outermost_crossing(f, s_start: float, s_stop: float, include_zero: bool) ->
     grid = np.geomspace(s_start, s_stop, n)
     if include_zero:
         grid = np.append(grid, 0.0)
-    vals = f(grid)
-    above = np.flatnonzero(vals >= 0.0)
-    if above.size == 0:
+    k = -1
+    for a in range(0, grid.size, _BLOCK):  # outside in, stop at the first block with a hit
+        above = np.flatnonzero(f(grid[a:a + _BLOCK]) >= 0.0)
+        if above.size:
+            k = a + int(above[0])
+            break
+    if k < 0:
         return 0.0 if include_zero else math.nan
-    k = int(above[0])
     if k == 0:  # only possible if the bound were wrong; never silently clip
         raise FringeInputError("`threshold_T` bound failed: |B| above threshold at the "
                                f"start distance {s_start:.3g} m")
@@ -152,7 +158,8 @@ def _check_threshold(threshold_T: float) -> float:
     return t
 
 
-def threshold_extents_m(magnet: Magnet, threshold_T: float) -> tuple[float, float]:
+def threshold_extents_m(magnet: Magnet, threshold_T: float, *,
+                        start_m: float | None = None) -> tuple[float, float]:
     """Axial and radial extent in m of the |B| = ``threshold_T`` line of one magnet.
 
     Parameters
@@ -161,6 +168,10 @@ def threshold_extents_m(magnet: Magnet, threshold_T: float) -> tuple[float, floa
         Evaluated alone, in its own local frame (site position and axis are irrelevant).
     threshold_T : float
         Field-line level in T (e.g. 5e-4 for the 0.5 mT line).
+    start_m : float, optional
+        A distance beyond which |B| < threshold is already known on both lines (e.g. from
+        :func:`extents_from_moments`); by default the rigorous bound
+        :func:`field_bound_radius_m`.
 
     Returns
     -------
@@ -180,7 +191,7 @@ def threshold_extents_m(magnet: Magnet, threshold_T: float) -> tuple[float, floa
     q = zonal_moments_Am(magnet, SERIES_L_MAX)
     r_enc = magnet.enclosing_radius_m
     r_safe = SERIES_SAFE_FACTOR * r_enc
-    s_start = field_bound_radius_m(magnet, thr)
+    s_start = field_bound_radius_m(magnet, thr) if start_m is None else float(start_m)
     s_stop = max(1e-3, 0.01 * r_enc)
     coefs = _line_coefficients(q)
     out = []

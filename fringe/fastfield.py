@@ -40,6 +40,7 @@ B = −∇ψ, ψ = μ₀/4π Σ q_l P_l(cosθ)/r^(l+1), and the identities
 from __future__ import annotations
 
 import math
+import os
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -64,12 +65,15 @@ TABLE_RADIUS_FACTOR: float = 1.6
 TABLE_NODES_PER_RADIUS: int = 100
 #: Highest series degree kept in the model (used for table nodes and error bounds).
 L_BIG: int = 120
-#: Coefficient of the cubic-interpolation error estimate from fourth differences:
-#: max |ω(s)|/4! = (9/16)/24 ≈ 0.0234 for the centre cell of a 4-point stencil
-#: (A&S 25.2.2 remainder), times 1.5. On 2·10⁴ random points around the demo magnet the
-#: estimate exceeded the actual error by a factor ≥ 1.7 (median 3); acceptance adds
-#: SAFETY_FACTOR on top.
-_D4_COEFF: float = 1.5 * (9.0 / 16.0) / 24.0
+#: Points per direction of the tensor-product Lagrange stencil (6: quintic). The cell
+#: [x_0, x_1] is interpolated from nodes x_{-2}..x_3.
+STENCIL: int = 6
+#: Coefficient of the interpolation error estimate from sixth differences:
+#: max |ω(s)|/6! = 3.515625/720 ≈ 0.00488 at the centre of the middle cell of a 6-point
+#: stencil (Lagrange remainder, A&S 25.2.2; Δ⁶f ≈ h⁶ f⁽⁶⁾), times 1.5. On 2·10⁴ random
+#: points around the demo magnet the estimate exceeded the actual error wherever the
+#: latter mattered; acceptance adds SAFETY_FACTOR on top.
+_DIFF_COEFF: float = 1.5 * 3.515625 / 720.0
 _K: float = MU0_T_M_PER_A / (4 * math.pi)
 
 
@@ -114,8 +118,9 @@ def series_field_scaled(d: np.ndarray, l_max: int, x: np.ndarray, y: np.ndarray,
 
     Notes
     -----
-    Recurrences of the module docstring; about 12 array operations per degree, no
-    division by ρ (so the axis needs no special case).
+    Recurrences of the module docstring, rescaled (:func:`_scaled_recurrence`) to
+    8 array operations per degree plus 4 for each non-zero moment; no division by ρ
+    (so the axis needs no special case).
     """
     w = x * x
     w += y * y
@@ -123,31 +128,29 @@ def series_field_scaled(d: np.ndarray, l_max: int, x: np.ndarray, y: np.ndarray,
     np.reciprocal(w, out=w)             # 1/r²
     t = np.sqrt(w)                       # 1/r
     u = z * w                            # z/r²
-    s_prev = t                           # S_0
-    s_cur = u * t                        # S_1
-    f_prev = np.zeros_like(t)            # F_0
-    f_cur = t * w                        # F_1
+    beta_s, beta_f, c_z, c_g = _scaled_recurrence(l_max)
+    # scaled harmonics S̃_l = S_l/γ_l, F̃_l = F_l/δ_l obey X̃_{l+1} = u X̃_l − β_l w X̃_{l−1}
+    s_prev = t                           # S̃_0
+    s_cur = u * t                        # S̃_1
+    f_prev = np.zeros_like(t)            # F̃_0
+    f_cur = t * w                        # F̃_1
     bz = np.zeros_like(t)
     g = np.zeros_like(t)
     tmp = np.empty_like(t)
     for l in range(1, l_max + 1):
-        # S_{l+1}
         s_next = u * s_cur
-        s_next *= (2 * l + 1) / (l + 1)
         np.multiply(w, s_prev, out=tmp)
-        tmp *= l / (l + 1)
+        tmp *= beta_s[l]
         s_next -= tmp
-        # F_{l+1}
         f_next = u * f_cur
-        f_next *= (2 * l + 1) / l
         np.multiply(w, f_prev, out=tmp)
-        tmp *= (l + 1) / l
+        tmp *= beta_f[l]
         f_next -= tmp
         dl = d[l]
         if dl != 0.0:
-            np.multiply(s_next, dl * (l + 1), out=tmp)
+            np.multiply(s_next, dl * c_z[l], out=tmp)
             bz += tmp
-            np.multiply(f_next, dl, out=tmp)
+            np.multiply(f_next, dl * c_g[l], out=tmp)
             g += tmp
         s_prev, s_cur = s_cur, s_next
         f_prev, f_cur = f_cur, f_next
@@ -155,6 +158,33 @@ def series_field_scaled(d: np.ndarray, l_max: int, x: np.ndarray, y: np.ndarray,
 
 
 @lru_cache(maxsize=4)
+@lru_cache(maxsize=8)
+def _scaled_recurrence(l_max: int):
+    """Coefficients of the rescaled recurrences used by :func:`series_field_scaled`.
+
+    With S_{l+1} = a_l u S_l − b_l w S_{l−1}, a_l = (2l+1)/(l+1), b_l = l/(l+1) and
+    S_l = γ_l S̃_l, γ_{l+1} = a_l γ_l, the scaled S̃ obey S̃_{l+1} = u S̃_l − β_l w S̃_{l−1}
+    with β_l = b_l γ_{l−1}/γ_{l+1} (one multiplication fewer per degree); likewise F with
+    a'_m = (2m+1)/m, b'_m = (m+1)/m. Returns β^S, β^F and the factors (l+1)γ_{l+1},
+    δ_{l+1} that turn S̃_{l+1}, F̃_{l+1} back into the terms of B_z and B_ρ/ρ.
+    """
+    n = l_max + 2
+    gam = np.ones(n + 1)
+    dlt = np.ones(n + 1)
+    beta_s = np.zeros(n)
+    beta_f = np.zeros(n)
+    for l in range(1, n):
+        gam[l + 1] = gam[l] * (2 * l + 1) / (l + 1)
+        dlt[l + 1] = dlt[l] * (2 * l + 1) / l
+    for l in range(1, n):
+        beta_s[l] = (l / (l + 1)) * gam[l - 1] / gam[l + 1]
+        beta_f[l] = ((l + 1) / l) * dlt[l - 1] / dlt[l + 1]
+    ls = np.arange(n)
+    c_z = (ls + 1.0) * gam[1:n + 1]
+    c_g = dlt[1:n + 1].copy()
+    return beta_s, beta_f, c_z, c_g
+
+
 def _max_abs_assoc_legendre(l_max: int) -> np.ndarray:
     """max over θ of |sinθ P_l'(cosθ)| for l = 0..l_max (dense sampling, +1 %)."""
     th = np.linspace(0.0, math.pi, 4001)
@@ -203,7 +233,7 @@ class _Table:
     n_rho: int
     n_z: int
     values: np.ndarray     # (n_rho * n_z, 2): B_rho, B_z in T
-    error: np.ndarray      # (n_rho * n_z,): error estimate (T) of the cell whose low corner is the node
+    error: np.ndarray      # (n_rho * n_z,): error estimate (T) of the cell at that low corner
 
 
 @dataclass(frozen=True, eq=False)
@@ -232,6 +262,11 @@ class AxisymmetricModel:
     band_err: np.ndarray
     table: _Table
     windings_scaled: np.ndarray  # (C, 4): rho_lo, rho_hi, z_lo, z_hi (scaled)
+
+    @property
+    def band_edges_sq(self) -> np.ndarray:
+        """Squared band edges (compared with r'² to avoid a square root per point)."""
+        return self.band_edges**2
 
 
 def _direct_local(magnet: Magnet, rho_m, z_m, order, panels):
@@ -267,9 +302,17 @@ def _choose_bands(d: np.ndarray, big_d: float):
     return edges[keep], lmax[keep], errs[keep]
 
 
+def _mirror_symmetric(coils) -> bool:
+    """True if the coil set is unchanged by z → −z (each coil has a mirror twin)."""
+    key = sorted((c.r_inner_m, c.r_outer_m, c.z_min_m, c.z_max_m, c.ampere_turns) for c in coils)
+    mirrored = sorted((c.r_inner_m, c.r_outer_m, -c.z_max_m, -c.z_min_m, c.ampere_turns)
+                      for c in coils)
+    return bool(np.allclose(np.array(key), np.array(mirrored), rtol=1e-12, atol=1e-12))
+
+
 def _build_table(magnet: Magnet, d: np.ndarray, big_d: float, scale: float, order, panels):
     h = 1.0 / TABLE_NODES_PER_RADIUS
-    g = 4                                   # ghost/margin nodes for stencils and Δ⁴
+    g = STENCIL                             # ghost/margin nodes for stencils and Δ⁶
     n_r = int(math.ceil(TABLE_RADIUS_FACTOR / h)) + 2 * g + 1
     n_z = 2 * (int(math.ceil(TABLE_RADIUS_FACTOR / h)) + g) + 1
     rho_nodes = (np.arange(n_r) - g) * h
@@ -290,48 +333,105 @@ def _build_table(magnet: Magnet, d: np.ndarray, big_d: float, scale: float, orde
                                             Z[use_series])
         br[use_series], bz[use_series] = bx_s, bz_s
     direct = ~use_series
-    # only non-negative ρ rows are evaluated; ghost rows (ρ < 0) mirror them
+    # only non-negative ρ rows are evaluated; ghost rows (ρ < 0) mirror them. A coil set
+    # symmetric under z → −z has B_ρ odd and B_z even in z: evaluate z ≥ 0 only.
+    mirror = _mirror_symmetric(magnet.coils)
     direct_pos = direct & (rho_nodes[:, None] >= 0)
+    if mirror:
+        direct_pos &= Z >= 0
     b1, b2 = _direct_local(magnet, R[direct_pos] * scale, Z[direct_pos] * scale, order, panels)
     br[direct_pos], bz[direct_pos] = b1, b2
+    if mirror:
+        low = direct & (rho_nodes[:, None] >= 0) & (Z < 0)
+        ii, jj = np.nonzero(low)
+        br[ii, jj] = -br[ii, n_z - 1 - jj]
+        bz[ii, jj] = bz[ii, n_z - 1 - jj]
     for i in range(g):                       # B_rho odd, B_z even in ρ
         br[i] = -br[2 * g - i]
         bz[i] = bz[2 * g - i]
-    # fourth differences along ρ and z (vector magnitude), at nodes 2..n-3
-    d4r = np.full(r.shape, np.inf)
-    d4z = np.full(r.shape, np.inf)
-    coeffs = (1.0, -4.0, 6.0, -4.0, 1.0)
+    # sixth differences along ρ and z (vector magnitude), at nodes 3..n-4
+    dr = np.full(r.shape, np.inf)
+    dz = np.full(r.shape, np.inf)
+    coeffs = (1.0, -6.0, 15.0, -20.0, 15.0, -6.0, 1.0)
+    q = len(coeffs) - 1
 
-    def d4(f, axis):
+    def diff(f, axis):
         n = f.shape[axis]
         acc = 0.0
         for k, c in enumerate(coeffs):
-            acc = acc + c * np.take(f, np.arange(k, n - 4 + k), axis=axis)
+            acc = acc + c * np.take(f, np.arange(k, n - q + k), axis=axis)
         return acc
 
-    d4r[2:-2, :] = np.hypot(d4(br, 0), d4(bz, 0))
-    d4z[:, 2:-2] = np.hypot(d4(br, 1), d4(bz, 1))
-    # cell (i, j) = [ρ_i, ρ_{i+1}] × [z_j, z_{j+1}]; stencil rows i-1..i+2, cols j-1..j+2
+    dr[q // 2:-(q // 2), :] = np.hypot(diff(br, 0), diff(bz, 0))
+    dz[:, q // 2:-(q // 2)] = np.hypot(diff(br, 1), diff(bz, 1))
+    # cell (i, j) = [ρ_i, ρ_{i+1}] × [z_j, z_{j+1}]; stencil rows i-lo..i+hi (lo = P/2-1)
     from scipy.ndimage import maximum_filter
 
-    foot = np.ones((4, 4), bool)
-    # maximum over the stencil: origin shifts so that the window covers i-1..i+2
-    mr = maximum_filter(d4r, footprint=foot, mode="constant", cval=np.inf, origin=(-1, -1))
-    mz = maximum_filter(d4z, footprint=foot, mode="constant", cval=np.inf, origin=(-1, -1))
-    err = _D4_COEFF * (mr + mz)
+    lo, hi = STENCIL // 2 - 1, STENCIL // 2
+    foot = np.ones((STENCIL, STENCIL), bool)
+    # window i-lo..i+hi: scipy centres a window of size P at P//2, so shift by lo-P//2
+    org = (lo - STENCIL // 2, lo - STENCIL // 2)
+    mr = maximum_filter(dr, footprint=foot, mode="constant", cval=np.inf, origin=org)
+    mz = maximum_filter(dz, footprint=foot, mode="constant", cval=np.inf, origin=org)
+    err = _DIFF_COEFF * (mr + mz)
     # cells whose stencil touches a winding (grown by one step) are never used
     windings = []
     for c in magnet.coils:
         wr = np.array([c.r_inner_m, c.r_outer_m, c.z_min_m, c.z_max_m]) / scale
         windings.append(wr)
-        hit_r = ((rho_nodes + 3 * h) >= wr[0] - h) & ((rho_nodes - 2 * h) <= wr[1] + h)
-        hit_z = ((z_nodes + 3 * h) >= wr[2] - h) & ((z_nodes - 2 * h) <= wr[3] + h)
+        hit_r = ((rho_nodes + hi * h) >= wr[0] - h) & ((rho_nodes - lo * h) <= wr[1] + h)
+        hit_z = ((z_nodes + hi * h) >= wr[2] - h) & ((z_nodes - lo * h) <= wr[3] + h)
         err[np.ix_(hit_r, hit_z)] = np.inf
     err[~np.isfinite(err)] = np.inf
-    vals = np.stack([br.ravel(), bz.ravel()], axis=1)
-    table = _Table(float(rho_nodes[0]), float(z_nodes[0]), 1.0 / h, n_r, n_z,
-                   np.ascontiguousarray(vals), err.ravel().copy())
+    vals = np.ascontiguousarray(np.stack([br.ravel(), bz.ravel()], axis=1))
+    table = _Table(float(rho_nodes[0]), float(z_nodes[0]), 1.0 / h, n_r, n_z, vals,
+                   err.ravel().copy())
+    _measure_doubtful_cells(table, magnet, np.hypot(br, bz), rho_nodes, z_nodes, mirror,
+                            scale, order, panels)
     return table, np.array(windings).reshape(-1, 4)
+
+
+def _measure_doubtful_cells(tab: _Table, magnet: Magnet, b_abs: np.ndarray, rho_nodes,
+                            z_nodes, mirror: bool, scale: float, order, panels) -> None:
+    """Replace the fourth-difference estimate by a measured one where it is doubtful.
+
+    Cells whose estimate lies between the acceptance threshold and 100× it (typically a
+    band 3–20 table steps from the windings) get the direct sum at their centre and edge
+    midpoints, where the interpolation error polynomial of a smooth function peaks
+    (ω(s) = (s+1)s(s−1)(s−2) is largest at s = ½; A&S 25.2.2). Their estimate becomes
+    twice the largest measured error. Updates ``tab.error`` in place.
+    """
+    thr = RELATIVE_TOLERANCE / SAFETY_FACTOR
+    n_r, n_z = tab.n_rho, tab.n_z
+    err = tab.error.reshape(n_r, n_z)
+    bmin = b_abs.copy()
+    bmin[:-1] = np.minimum(bmin[:-1], b_abs[1:])
+    bmin[:, :-1] = np.minimum(bmin[:, :-1], bmin[:, 1:])
+    used = (rho_nodes[:, None] >= 0) & (np.hypot(rho_nodes[:, None], z_nodes[None, :])
+                                        < TABLE_RADIUS_FACTOR + 2 / tab.inv_h)
+    if mirror:
+        used &= z_nodes[None, :] >= -0.5 / tab.inv_h
+    doubt = used & np.isfinite(err) & (err > thr * bmin) & (err < 100 * thr * bmin)
+    ii, jj = np.nonzero(doubt)
+    if ii.size == 0:
+        return
+    h = 1.0 / tab.inv_h
+    offsets = ((0.5, 0.5), (0.5, 0.0), (0.0, 0.5), (1.0, 0.5), (0.5, 1.0))
+    # unique sample points on the half-step lattice
+    lattice = np.concatenate([np.column_stack([2 * ii + int(2 * a), 2 * jj + int(2 * b)])
+                              for a, b in offsets])
+    uniq, inverse = np.unique(lattice, axis=0, return_inverse=True)
+    rho = rho_nodes[0] + uniq[:, 0] * (h / 2)
+    z = z_nodes[0] + uniq[:, 1] * (h / 2)
+    d_rho, d_z = _direct_local(magnet, rho * scale, z * scale, order, panels)
+    i_rho, i_z, _ = _table_field(tab, rho, z)
+    miss = np.hypot(i_rho - d_rho, i_z - d_z)[inverse.ravel()].reshape(len(offsets), -1)
+    measured = 2.0 * miss.max(axis=0)
+    err[ii, jj] = np.minimum(err[ii, jj], measured)
+    if mirror:                          # cells below the mid-plane mirror those above
+        jm = n_z - 2 - jj
+        ok = (jm >= 0) & (jm != jj)
+        err[ii[ok], jm[ok]] = np.minimum(err[ii[ok], jm[ok]], measured[ok])
 
 
 @lru_cache(maxsize=32)
@@ -339,9 +439,17 @@ def axisymmetric_model(coils: tuple[Coil, ...], order: int = DEFAULT_RADIAL_ORDE
                        panels: int | None = None) -> AxisymmetricModel:
     """Precomputed fast model of a coil set (cached; independent of position and axis).
 
-    The cost is one direct evaluation of the table nodes inside ~1.1 R_enc
-    (≈ 2·10⁴ points, about 1 s for 64 current sheets).
+    Cached in memory per process and, unless ``FRINGE_CACHE_DIR`` is set to ``off``, on
+    disk (``$FRINGE_CACHE_DIR``, else ``$XDG_CACHE_HOME/fringe`` or ``~/.cache/fringe``)
+    under a key made of the coils, the quadrature and the source of the modules that
+    compute the model, so a changed engine never reads an old table. Building costs one
+    direct evaluation of the table nodes inside ~1.3 R_enc (about 1–2 s for the 64-sheet
+    demo magnet).
     """
+    key = _cache_key(coils, order, panels)
+    cached = _load_cached(key)
+    if cached is not None:
+        return cached
     magnet = Magnet("fast-model", (0.0, 0.0, 0.0), (0.0, 0.0, 1.0), tuple(coils))
     s = current_sheets(magnet, order, panels)
     scale = magnet.enclosing_radius_m
@@ -349,43 +457,160 @@ def axisymmetric_model(coils: tuple[Coil, ...], order: int = DEFAULT_RADIAL_ORDE
                                L_BIG)
     ls = np.arange(L_BIG + 1)
     d = _K * q / scale ** (ls + 2.0)
+    if _mirror_symmetric(coils):
+        d[0::2] = 0.0               # even moments vanish by symmetry (rounding otherwise)
     # |q_l| ≤ 2π Σ|I| a² R^(l−1) · l/2  ⇒ |d_l| ≤ big_d · l
     amp = np.sum(np.abs(s.polarization_T) / MU0_T_M_PER_A * 2 * s.half_length_m * s.radius_m**2)
     big_d = _K * math.pi * amp / scale**3
     edges, lmax, errs = _choose_bands(d, big_d)
     table, windings = _build_table(magnet, d, big_d, scale, order, panels)
-    return AxisymmetricModel(scale, d, edges, lmax, errs, table, windings)
+    model = AxisymmetricModel(scale, d, edges, lmax, errs, table, windings)
+    _store_cached(key, model)
+    return model
+
+
+def _cache_dir():
+    from pathlib import Path
+
+    env = os.environ.get("FRINGE_CACHE_DIR")
+    if env is not None:
+        return None if env.strip().lower() in ("", "off", "0", "none") else Path(env)
+    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
+    return Path(base) / "fringe"
+
+
+@lru_cache(maxsize=1)
+def _source_digest() -> str:
+    """Hash of the source of every module the model depends on (cache invalidation)."""
+    import hashlib
+    import importlib
+    import inspect
+
+    import magpylib
+
+    h = hashlib.sha256(magpylib.__version__.encode())
+    for name in ("fringe.fastfield", "fringe.field", "fringe.quadrature", "fringe.coils",
+                 "fringe.multipole"):
+        try:
+            h.update(inspect.getsource(importlib.import_module(name)).encode())
+        except (OSError, TypeError, ImportError):
+            h.update(name.encode())
+    return h.hexdigest()
+
+
+def _cache_key(coils, order, panels) -> str:
+    import hashlib
+
+    text = repr((tuple((c.r_inner_m, c.r_outer_m, c.z_min_m, c.z_max_m, c.turns, c.current_A)
+                       for c in coils), int(order), panels, np.__version__[:1]))
+    return hashlib.sha256((text + _source_digest()).encode()).hexdigest()[:32]
+
+
+_TABLE_FIELDS = ("rho0", "z0", "inv_h", "n_rho", "n_z")
+#: Model files kept in the disk cache (oldest removed first).
+_CACHE_KEEP = 24
+
+
+def _load_cached(key: str) -> AxisymmetricModel | None:
+    d = _cache_dir()
+    if d is None:
+        return None
+    try:
+        with np.load(d / f"model-{key}.npz", allow_pickle=False) as z:
+            tab = _Table(*(z["t_" + f].item() for f in _TABLE_FIELDS), z["t_values"].copy(),
+                         z["t_error"].copy())
+            return AxisymmetricModel(float(z["scale_m"]), z["d"].copy(), z["band_edges"].copy(),
+                                     z["band_lmax"].copy(), z["band_err"].copy(), tab,
+                                     z["windings"].copy())
+    except (OSError, KeyError, ValueError):
+        return None
+
+
+def _store_cached(key: str, m: AxisymmetricModel) -> None:
+    import io
+
+    from .atomic import write_bytes_atomic
+
+    d = _cache_dir()
+    if d is None:
+        return
+    buf = io.BytesIO()
+    t = m.table
+    np.savez(buf, scale_m=m.scale_m, d=m.d, band_edges=m.band_edges, band_lmax=m.band_lmax,
+             band_err=m.band_err, windings=m.windings_scaled, t_values=t.values,
+             t_error=t.error, **{"t_" + f: getattr(t, f) for f in _TABLE_FIELDS})
+    try:
+        d.mkdir(parents=True, exist_ok=True)
+        write_bytes_atomic(d / f"model-{key}.npz", buf.getvalue())
+        old = sorted(d.glob("model-*.npz"), key=lambda f: f.stat().st_mtime)
+        for f in old[:-_CACHE_KEEP]:            # keep the newest few (≈1.4 MB each)
+            f.unlink(missing_ok=True)
+    except Exception:  # noqa: BLE001 - a cache that cannot be written is just not used
+        pass
 
 
 def _table_field(tab: _Table, rho: np.ndarray, z: np.ndarray):
-    """Cubic Lagrange interpolation of (B_rho, B_z) and the cell error estimate."""
+    """Tensor-product Lagrange interpolation of (B_rho, B_z) and the cell error estimate."""
     fi = (rho - tab.rho0) * tab.inv_h
     fj = (z - tab.z0) * tab.inv_h
     i = fi.astype(np.intp)
     j = fj.astype(np.intp)
     s = fi - i
     t = fj - j
-    base = (i - 1) * tab.n_z + (j - 1)
+    lo = STENCIL // 2 - 1
+    base = (i - lo) * tab.n_z + (j - lo)
     err = tab.error[i * tab.n_z + j]
+    ws = _lagrange_weights(s)
+    wt = _lagrange_weights(t)
+    vr, vz = tab.values[:, 0].copy(), tab.values[:, 1].copy()   # small: ~0.5 MB each
+    acc_r = np.zeros(rho.size)
+    acc_z = np.zeros(rho.size)
+    row_r = np.empty(rho.size)
+    row_z = np.empty(rho.size)
+    tmp = np.empty(rho.size)
+    idx = np.empty(rho.size, dtype=np.intp)
+    for a in range(STENCIL):
+        row_r[:] = 0.0
+        row_z[:] = 0.0
+        for b in range(STENCIL):
+            np.add(base, a * tab.n_z + b, out=idx)
+            np.multiply(wt[b], vr.take(idx), out=tmp)
+            row_r += tmp
+            np.multiply(wt[b], vz.take(idx), out=tmp)
+            row_z += tmp
+        row_r *= ws[a]
+        row_z *= ws[a]
+        acc_r += row_r
+        acc_z += row_z
+    return acc_r, acc_z, err
 
-    def weights(s):
-        sm1 = s - 1.0
-        sm2 = s - 2.0
-        sp1 = s + 1.0
-        return (-(s * sm1 * sm2) / 6.0, sp1 * sm1 * sm2 / 2.0,
-                -(sp1 * s * sm2) / 2.0, sp1 * s * sm1 / 6.0)
 
-    ws = weights(s)
-    wt = weights(t)
-    acc = np.zeros((rho.size, 2))
-    v = tab.values
-    for a in range(4):
-        row = np.zeros((rho.size, 2))
-        off = a * tab.n_z
-        for b in range(4):
-            row += wt[b][:, None] * v[base + (off + b)]
-        acc += ws[a][:, None] * row
-    return acc[:, 0], acc[:, 1], err
+def _lagrange_weights(s: np.ndarray) -> list[np.ndarray]:
+    """Lagrange basis at nodes -lo..hi (lo = STENCIL/2 - 1) for offsets s in [0, 1)."""
+    nodes = np.arange(STENCIL) - (STENCIL // 2 - 1)
+    diffs = [s - k for k in nodes]
+    out = []
+    for k, xk in enumerate(nodes):
+        w = None
+        for m in range(STENCIL):
+            if m != k:
+                w = diffs[m] if w is None else w * diffs[m]
+        out.append(w * (1.0 / np.prod([xk - xm for xm in nodes if xm != xk])))
+    return out
+
+
+def _power_half(q: np.ndarray, m: int) -> np.ndarray:
+    """q^(m/2) for a positive integer m by repeated squaring (faster than np.power)."""
+    out = np.sqrt(q) if m % 2 else np.ones_like(q)
+    k = m // 2
+    base = q
+    while k:
+        if k & 1:
+            out = out * base
+        k >>= 1
+        if k:
+            base = base * base
+    return out
 
 
 def fast_local_field(model: AxisymmetricModel, x: np.ndarray, y: np.ndarray, z: np.ndarray):
@@ -410,11 +635,12 @@ def fast_local_field(model: AxisymmetricModel, x: np.ndarray, y: np.ndarray, z: 
         err[idx_t] = e
     if idx_t.size == n:
         return bx, by, bz, err
-    band = np.searchsorted(model.band_edges**2, r2, side="right") - 1
+    band = np.searchsorted(model.band_edges_sq, r2, side="right") - 1
     band[idx_t] = -1
-    present = np.unique(band)
-    for k in present[present >= 0]:
-        if idx_t.size == 0 and present.size == 1:
+    counts = np.bincount(band + 1, minlength=model.band_edges.size + 1)[1:]
+    present = np.flatnonzero(counts)
+    for k in present:
+        if counts[k] == n:
             sel = slice(None)                 # every point in one band: no gather
             xs, ys, zs, rr = x, y, z, r2
         else:
@@ -425,8 +651,7 @@ def fast_local_field(model: AxisymmetricModel, x: np.ndarray, y: np.ndarray, z: 
         bx[sel], by[sel], bz[sel] = gx, gy, gz
         # tail bound at the band's inner edge; every omitted term decays at least as
         # r'^-(L+3), so the bound scales by (r'_k/r')^(L+3) inside the band
-        r_k2 = model.band_edges[k] ** 2
-        err[sel] = model.band_err[k] * (r_k2 / rr) ** (0.5 * (L + 3))
+        err[sel] = model.band_err[k] * _power_half(model.band_edges_sq[k] / rr, L + 3)
     return bx, by, bz, err
 
 

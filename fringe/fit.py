@@ -58,8 +58,9 @@ from .presets import (
     vertical_lab_magnet,
 )
 
-__all__ = ["FieldLine", "FitResult", "fit_magnet", "EXTENT_TOLERANCE", "DIPOLE_RATIO",
-           "FIT_FAMILIES", "WHOLE_BODY_WARM_BORE_M", "LAB_BORE_LIMIT_M"]
+__all__ = ["FieldLine", "FitResult", "fit_magnet", "check_request", "minimum_dipole_moment_Am2",
+           "EXTENT_TOLERANCE", "DIPOLE_RATIO", "FIT_FAMILIES", "WHOLE_BODY_WARM_BORE_M",
+           "LAB_BORE_LIMIT_M"]
 
 #: Relative extent error above which the fit is reported as not reproducing the request.
 EXTENT_TOLERANCE: float = 0.02
@@ -209,19 +210,49 @@ def _model_extents(magnet: Magnet, thresholds_T) -> np.ndarray:
     out = np.empty((len(thresholds_T), 2))
     for i, thr in enumerate(thresholds_T):
         ax, rad = extents_from_moments(q, thr, r_min)
-        if math.isnan(ax) or math.isnan(rad):
-            ax2, rad2 = threshold_extents_m(magnet, thr)
+        if math.isnan(ax) or math.isnan(rad):  # the series showed |B| < thr beyond r_min
+            try:
+                ax2, rad2 = threshold_extents_m(magnet, thr, start_m=r_min)
+            except FringeInputError:  # direct |B| ≥ thr at r_min (series truncation): full scan
+                ax2, rad2 = threshold_extents_m(magnet, thr)
             ax = ax2 if math.isnan(ax) else ax
             rad = rad2 if math.isnan(rad) else rad
         out[i] = ax, rad
     return out
 
 
-def _request_warnings(center_field_T: float, lines: tuple[FieldLine, ...],
-                      shielded: bool) -> list[str]:
-    """Consistency checks on the data-sheet numbers alone."""
+def minimum_dipole_moment_Am2(center_field_T: float, winding_radius_m: float) -> float:
+    """Smallest dipole moment in A·m² of same-sign windings beyond a radius giving B₀.
+
+    A loop of radius a at height z₀ (R₀² = a² + z₀²) gives B₀ = μ₀Ia²/(2R₀³) at the
+    centre and moment m = Iπa² (Jackson Eq. 5.57, on-axis loop field Sec. 5.5), so
+    m/B₀ = 2πR₀³/μ₀ ≥ 2πa_min³/μ₀ for every loop of the winding; summing same-sign loops,
+    m ≥ 2π B₀ a_min³/μ₀. Holds for every unshielded magnet (all currents one way).
+    """
+    from .constants import MU0_T_M_PER_A
+    return 2 * math.pi * center_field_T * winding_radius_m**3 / MU0_T_M_PER_A
+
+
+def check_request(center_field_T: float, lines: tuple[FieldLine, ...],
+                  shielded: bool, min_winding_radius_m: float | None = None) -> list[str]:
+    """Consistency checks on the data-sheet numbers alone; a list of warning texts.
+
+    ``min_winding_radius_m`` (the smallest winding radius the warm bore allows) adds the
+    unshielded dipole bound: the radial extent of a line at level B_t is at least about
+    (μ₀ m_min / (4π B_t))^{1/3} (dipole field in the centre plane, Jackson Eq. 5.56;
+    10 % margin for the l = 3 term), with m_min from :func:`minimum_dipole_moment_Am2`.
+    """
     out = []
     for ln in lines:
+        if not shielded and min_winding_radius_m is not None:
+            m_min = minimum_dipole_moment_Am2(center_field_T, min_winding_radius_m)
+            r_min = (1e-7 * m_min / ln.threshold_T) ** (1 / 3)  # μ0/4π = 1e-7 T·m/A
+            if ln.radial_m < 0.9 * r_min:
+                out.append(f"the {ln.threshold_T * 1e3:g} mT line: radial extent "
+                           f"{ln.radial_m:g} m is below the ≈{r_min:.3g} m that any unshielded "
+                           f"magnet of {center_field_T:g} T with windings at ≥ "
+                           f"{min_winding_radius_m:.3g} m radius reaches (its dipole moment is "
+                           f"at least 2πB₀a³/μ₀ = {m_min:.3g} A·m²); is the magnet shielded?")
         tag = f"the {ln.threshold_T * 1e3:g} mT line"
         if ln.threshold_T >= center_field_T:
             out.append(f"{tag}: its level is not below the centre field "
@@ -237,7 +268,7 @@ def _request_warnings(center_field_T: float, lines: tuple[FieldLine, ...],
                        f"{DIPOLE_RATIO:.3f}); check the numbers and the shielding type")
         elif shielded and not (1.12 <= r <= 2.3):
             out.append(f"{tag}: axial/radial ratio {r:.3f} is outside the range an actively "
-                       f"shielded magnet produces (about 1.15 to 2.2: the dipole is cancelled "
+                       f"shielded magnet produces (about 1.12 to 2.3: the dipole is cancelled "
                        f"and the l = 3, 5 moments interfere, adding along the axis and "
                        f"cancelling across it); check the numbers and the shielding type")
     srt = sorted(lines, key=lambda ln: ln.threshold_T)
@@ -267,11 +298,11 @@ def _fit_family(family: str, center_field_T: float, a_min_m: float,
 
     starts = [spec.nominal]
     rng = np.random.default_rng(20261202)  # fixed seed: reproducible multi-start
-    starts += [spec.lower + span * rng.uniform(0.1, 0.9, span.size) for _ in range(4)]
+    starts += [spec.lower + span * rng.uniform(0.1, 0.9, span.size) for _ in range(2)]
     best = None
     for x0 in starts:
         sol = least_squares(resid, x0, bounds=(spec.lower, spec.upper), diff_step=1e-4,
-                            x_scale=span, xtol=1e-8, ftol=1e-8, max_nfev=80)
+                            x_scale=span, xtol=1e-8, ftol=1e-8, max_nfev=60)
         if best is None or sol.cost < best.cost:
             best = sol
         if np.max(np.abs(best.fun[:2 * len(lines)])) < _GOOD_ENOUGH:
@@ -361,7 +392,7 @@ def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
         ax, rad = threshold_extents_m(magnet, ln.threshold_T)
         achieved.append(FieldLine(ln.threshold_T, ax, rad))
         residuals.append((ax / ln.axial_m - 1.0, rad / ln.radial_m - 1.0))
-    warn = _request_warnings(b0, lines_t, shielded)
+    warn = check_request(b0, lines_t, shielded, a_min)
     worst = max(max(abs(a), abs(r)) for a, r in residuals)
     if worst > EXTENT_TOLERANCE:
         warn.append(f"the best {fam.replace('_', ' ')} model misses a requested extent by "

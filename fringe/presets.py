@@ -60,13 +60,14 @@ RESISTIVE_J_A_PER_M2: float = 3.0e6
 
 #: Main coil pairs as fractions of the half-length h: each pair occupies
 #: ±[u, v]·h. Chosen here so b₂ = b₄ = 0 is met with all-positive ampere-turns for
-#: 1 ≤ h/a ≤ 3 (checked by tests/test_presets.py).
+#: 1 ≤ h/a ≤ 2.5 (checked by tests/test_presets.py); shorter or longer magnets get a
+#: reverse-wound middle pair (a known homogenising technique), still on one current.
 _MAIN_SPANS: tuple[tuple[float, float], ...] = ((0.03, 0.30), (0.40, 0.64), (0.74, 1.00))
 
 #: Lab-magnet main coils (thick windings): a central section and an end pair, with
 #: b₂ = 0 only (fourth-order homogeneity; sixth order is ill-conditioned for windings as
 #: thick as their radius). All-positive ampere-turns for 0.04 ≤ a ≤ 0.1 m, 1.5 ≤ h/a ≤ 7.
-_LAB_SPANS: tuple[tuple[float, float], ...] = ((0.0, 0.70), (0.80, 1.00))
+_LAB_SPANS: tuple[tuple[float, float], ...] = ((0.0, 0.60), (0.70, 1.00))
 
 #: Shield pair span as fractions of the main half-length.
 _SHIELD_SPAN: tuple[float, float] = (0.55, 0.98)

@@ -36,7 +36,9 @@ from .checks import (
     check_equipment,
     check_rooms,
 )
+from .cmd_quench import budget_for_site
 from .constants import ADVISORY_NOTICE
+from .energy import stored_energy_J
 from .errors import FringeInputError, ScenarioError
 from .extents import threshold_extents_m
 from .plan import Boundary
@@ -81,6 +83,12 @@ class MagnetSummary:
     center_field_T: float
     #: (threshold_mT, axial_extent_m, radial_extent_m) per threshold, ascending.
     boundaries: tuple[tuple[float, float, float], ...]
+    #: Where the coil model comes from ("coils", or a data-sheet fit; see fringe.datasheet).
+    origin: str = "coils"
+    #: Stored energy ½ IᵀMI in J (fringe.energy.stored_energy_J).
+    stored_energy_J: float = float("nan")
+    #: Net axial dipole moment in A·m².
+    dipole_moment_Am2: float = float("nan")
 
 
 @dataclass(frozen=True)
@@ -104,6 +112,8 @@ class ReportResult:
     created_utc: str
     version: str = __version__
     site: object = field(default=None, compare=False, repr=False)
+    #: Quench release budgets for the scenario's [[quench]] tables (fringe.quench).
+    quench: tuple = ()
 
     @property
     def exceeds(self) -> bool:
@@ -144,9 +154,9 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
                             site.source_file or None)
     plan = site_plan(site)
     s = plan.settings
-    step = float(grid_step_m or s.grid_step_m)
-    if not step > 0:
-        raise FringeInputError(f"`grid_step_m` must be a positive number; got {grid_step_m!r}")
+    step = s.grid_step_m if grid_step_m is None else float(grid_step_m)
+    if not (math.isfinite(step) and 0 < step <= 5.0):
+        raise FringeInputError(f"`--grid-step-m` must be a number in (0, 5] m; got {grid_step_m!r}")
     thr_mT = s.thresholds_mT
     thr_T = [t * 1e-3 for t in thr_mT]
     say = progress or (lambda msg: None)
@@ -155,7 +165,8 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     for m in site.magnets:
         b0 = float(field_magnitude_T(m, np.asarray([m.center_m]))[0])
         bounds = tuple((t, *threshold_extents_m(m, t * 1e-3)) for t in thr_mT)
-        mags.append(MagnetSummary(m.name, m.center_m, m.axis, m.description, b0, bounds))
+        mags.append(MagnetSummary(m.name, m.center_m, m.axis, m.description, b0, bounds,
+                                  m.origin, stored_energy_J(m), m.dipole_moment_Am2))
     say("extents of each threshold line done")
 
     extent = s.extent_m or default_extent_m(site.magnets, plan.rooms, plan.equipment,
@@ -186,12 +197,15 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
         half = min(reach_m(m, min(thr_T)) + 1.0, 40.0)
         secs.extend(magnet_sections(site, m, half, (lo, hi), step, progress=progress))
 
+    quench = tuple(budget_for_site(site, q) for q in site.section("quench", ()) or ())
+    if quench:
+        say("quench release budget done")
     rooms = check_rooms(site, plan.rooms, fmaps, fps, s.boundary)
     equip = check_equipment(site, plan.equipment, plan.floor_of_point)
     say("room and equipment verdicts done")
     return ReportResult(site.name, site.source_file, plan, s.boundary, thr_mT, step, extent,
                         tuple(mags), fmaps, fps, outside, tuple(secs), rooms, equip, _now_utc(),
-                        __version__, site)
+                        __version__, site, quench)
 
 
 # -- machine-readable outputs --------------------------------------------------------------
@@ -223,7 +237,10 @@ def summary_dict(r: ReportResult) -> dict:
                  "frame": "site frame: x east, y north, z up, m"},
         "magnets": [{
             "name": m.name, "center_m": list(m.center_m), "axis": list(m.axis),
-            "description": m.description, "center_field_T": _num(m.center_field_T),
+            "description": m.description, "origin": m.origin,
+            "center_field_T": _num(m.center_field_T),
+            "stored_energy_J": _num(m.stored_energy_J),
+            "dipole_moment_Am2": _num(m.dipole_moment_Am2),
             "boundaries": [{"threshold_mT": t, "axial_extent_m": _num(a, 5),
                             "radial_extent_m": _num(rr, 5)} for t, a, rr in m.boundaries],
         } for m in r.magnets],
@@ -251,6 +268,7 @@ def summary_dict(r: ReportResult) -> dict:
             "field_T": _num(e.field_T), "limit_T": _num(e.limit_T), "verdict": e.verdict,
             "note": e.note,
         } for e in r.equipment],
+        "quench": [b.to_dict() for b in r.quench],
         "verdict_counts": counts,
         "exceeds": r.exceeds,
     }
@@ -351,6 +369,7 @@ def write_report(r: ReportResult, out_dir: str | Path, *, drawings: bool = True,
     existing ``out_dir`` is replaced whole.
     """
     say = progress or (lambda msg: None)
+    _check_out_dir(Path(out_dir), r.scenario_file)
     with atomic_directory(out_dir) as tmp:
         (tmp / "summary.json").write_text(json.dumps(summary_dict(r), indent=2,
                                                      ensure_ascii=False) + "\n", "utf-8")
@@ -363,6 +382,23 @@ def write_report(r: ReportResult, out_dir: str | Path, *, drawings: bool = True,
         _usual_permissions(tmp)
         names = sorted(p.name for p in tmp.iterdir())
     return names
+
+
+def _check_out_dir(out: Path, scenario_file: str) -> None:
+    """Refuse to replace a folder that is not a previous report (it is replaced whole)."""
+    if not out.exists():
+        return
+    if not out.is_dir():
+        raise FringeInputError(f"`--out` must be a folder; {out} is a file")
+    res = out.resolve()
+    if scenario_file and Path(scenario_file).resolve().is_relative_to(res):
+        raise FringeInputError(f"`--out` must not hold the scenario file; got {out}")
+    if res == Path.cwd().resolve() or res in Path.cwd().resolve().parents:
+        raise FringeInputError(f"`--out` must not be the current folder or one above it; "
+                               f"got {out}")
+    if any(out.iterdir()) and not (out / "summary.json").is_file():
+        raise FringeInputError(f"`--out` must be a new or empty folder or a previous report "
+                               f"(it is replaced whole); {out} holds other files")
 
 
 def _usual_permissions(folder: Path) -> None:
@@ -439,8 +475,11 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
 
     date = r.created_utc[:10]
     mag_names = tuple(m.name for m in r.magnets)
+    model_notes = tuple(f"{m.name}: {m.description}" for m in r.magnets
+                        if m.origin != "coils" and m.description)
     base = dict(site_name=r.site_name, magnets=mag_names, date_iso=date,
-                tool_version=f"fringe {r.version}", boundary_note=_boundary_note(r))
+                tool_version=f"fringe {r.version}", boundary_note=_boundary_note(r),
+                notes=model_notes)
     site_mags = {m.name: m for m in r.site.magnets} if r.site is not None else {}
     plan = r.plan
     sheets: list[tuple[str | None, object]] = []  # (file stem or None, figure)
@@ -456,7 +495,10 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
                   if math.isclose(x[0], r.boundary.value_mT, rel_tol=1e-9)), None)
         ext = (f"; {b[0]:g} mT line {b[1]:.2f} m along, {b[2]:.2f} m across the axis"
                if b else "")
-        facts.append((f"Magnet {m.name}", f"centre field {m.center_field_T:.3g} T{ext}"))
+        facts.append((f"Magnet {m.name}", f"centre field {m.center_field_T:.3g} T{ext}; "
+                      f"stored energy {m.stored_energy_J / 1e6:.3g} MJ"))
+        if m.description:
+            facts.append((f"  model of {m.name}", m.description))
     findings = []
     for fl, area in r.outside_controlled_m2.items():
         if area > 0.005:
@@ -502,9 +544,11 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
         clipped = [f"{fp.threshold_mT:g}" for fp in r.footprints[name] if fp.clipped]
         notes = [f"Coordinates: site frame, x east, y north, m. Grid step {r.grid_step_m:g} m.",
                  f"Occupied band {fl.band_bottom_m:g} to {fl.band_top_m:g} m above the floor "
-                 f"at {fl.elevation_m:g} m, sampled at {fm.z_levels_m.size} levels and refined "
-                 f"near peaks (raised |B| by up to {100 * fm.band_correction_rel:.2g} %); "
-                 f"estimated remaining error {100 * fm.band_error_rel:.2g} %.",
+                 f"at {fl.elevation_m:g} m, sampled at {fm.z_levels_m.size} levels"
+                 + (f" and refined near peaks (raising |B| by up to "
+                    f"{100 * fm.band_correction_rel:.2g} %)" if fm.band_correction_rel > 0
+                    else "") + f"; estimated remaining error of |B| "
+                 f"{100 * fm.band_error_rel:.2g} %.",
                  f"Area of the {r.boundary.value_mT:g} mT footprint outside controlled rooms: "
                  f"{r.outside_controlled_m2[name]:.2f} m²."]
         if clipped:
@@ -537,13 +581,20 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
                 if projected:
                     notes.append("The section plane passes between the coils; the windings "
                                  "are drawn projected onto it.")
+        vertical = m is not None and math.hypot(m.axis[0], m.axis[1]) < 1e-9
+        if vertical:
+            s_label = f"s towards +{'x (east)' if sec.direction == 'along' else 'y (north)'}, m"
+            notes.append("The axis is vertical: both planes contain it; they run east-west "
+                         "and north-south.")
+        else:
+            s_label = f"s {sec.direction} the magnet axis, m"
         info = dr.SheetInfo(title=f"Section {sec.direction} the axis of {sec.magnet}",
                             subtitle="|B| in the vertical plane through the magnet centre",
                             **base)
         fig = dr.section_sheet(sec.s_m, sec.z_m, sec.field_T, info,
                                thresholds_mT=r.thresholds_mT, boundary_mT=r.boundary.value_mT,
                                floors=list(plan.floors), windings=windings, notes=notes,
-                               s_label=f"s {sec.direction} the magnet axis, m")
+                               s_label=s_label)
         stem = sec.magnet if sec.direction == "along" else f"{sec.magnet}-{sec.direction}"
         sheets.append((f"section-{slug(stem, taken)}", fig))
 
@@ -575,6 +626,17 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
         [[fp.floor, fp.threshold_mT, fp.area_m2, fp.sampled_area_m2,
           "yes" if fp.clipped else "no"] for fps in r.footprints.values() for fp in fps],
         info_t))
+    # energy density (fringe.energy) and quench budgets (fringe.quench)
+    if r.site is not None:
+        from .cmd_energy import energy_density_sheets
+
+        say("drawing the energy-density maps")
+        sheets.extend(energy_density_sheets(r.site))
+    for b in r.quench:
+        from .quench_drawing import quench_sheets
+
+        say(f"drawing the quench release budget of {b.magnet!r}")
+        sheets.extend((None, f) for f in quench_sheets(b, r.site_name, date_iso=date))
     return sheets + [(None, f) for t in tables for f in t]
 
 
@@ -589,6 +651,9 @@ def _write_drawings(r: ReportResult, folder: Path, say) -> None:
     for stem, fig in sheets:
         if stem is None:
             continue
-        say(f"writing {stem}.png and .svg")
         dr.save_figure(fig, folder / f"{stem}.png")
+        if stem.startswith("energy-"):  # energy maps: PNG and PDF only
+            say(f"writing {stem}.png")
+            continue
+        say(f"writing {stem}.png and .svg")
         dr.save_figure(fig, folder / f"{stem}.svg")

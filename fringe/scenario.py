@@ -20,7 +20,6 @@ from pathlib import Path
 from typing import Any
 
 from .coils import Coil, Magnet
-from .constants import MU0_T_M_PER_A
 from .errors import FringeWarning, ScenarioError, must_be
 
 __all__ = ["Site", "load_site", "parse_site", "Reader"]
@@ -244,42 +243,17 @@ def parse_magnet(r: Reader) -> Magnet:
 PLAUSIBLE_CENTRE_FIELD_T: float = 30.0
 
 
-def centre_field_T(coils: tuple[Coil, ...]) -> float:
-    """Axial flux density in T at the magnet centre (local origin), closed form.
-
-    For a winding of uniform current density J over r₁ ≤ r ≤ r₂, z₁ ≤ z ≤ z₂, the field
-    at the origin is ``μ₀J/2 · [F(z₂) − F(z₁)]`` with
-    ``F(z) = z ln((r₂ + √(r₂² + z²)) / (r₁ + √(r₁² + z²)))`` (and F(0) = 0): the loop's
-    on-axis field integrated over the cross-section.
-
-    References
-    ----------
-    D. B. Montgomery, *Solenoid Magnet Design*, Wiley (1969), Ch. 1 (field at the centre
-    of a thick solenoid, the Fabry factor).
-    """
-    total = 0.0
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", RuntimeWarning)
-        for c in coils:
-            def f(z: float, c: Coil = c) -> float:
-                if z == 0.0:
-                    return 0.0
-                return z * math.log((c.r_outer_m + math.hypot(c.r_outer_m, z))
-                                    / (c.r_inner_m + math.hypot(c.r_inner_m, z)))
-            try:
-                total += (MU0_T_M_PER_A * c.current_density_A_per_m2 / 2.0
-                          * (f(c.z_max_m) - f(c.z_min_m)))
-            except (OverflowError, ZeroDivisionError, ValueError):
-                return math.nan
-    return total
-
-
 def _check_centre_field(r: Reader, name: str, coils: tuple[Coil, ...]) -> None:
     """Refuse a magnet whose field overflows; warn when its centre field is implausible."""
-    b = centre_field_T(coils)
+    from .energy import center_field_T  # closed form (Jackson Sec. 5.5); imported lazily
+
+    try:
+        b = center_field_T(Magnet(name, (0.0, 0.0, 0.0), (0.0, 0.0, 1.0), coils))
+    except (OverflowError, ZeroDivisionError, ValueError):
+        b = math.nan
     if not math.isfinite(b):
-        r.fail(r.key("coil"), "windings whose field is finite (check `current_A`, `turns` "
-               "and the coil sizes); the centre field", b)
+        raise ScenarioError(f"`{r.key('coil')}` must give a finite field (check `current_A`, "
+                            f"`turns` and the coil sizes); got a centre field of {b} T", r.file)
     if abs(b) > PLAUSIBLE_CENTRE_FIELD_T:
         where = f"{r.file}: " if r.file else ""
         warnings.warn(f"{where}magnet {name!r} (`{r.path}`) has a centre field of {abs(b):.4g} T, "
@@ -350,6 +324,7 @@ def load_site(path: str | Path) -> Site:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as e:
         raise ScenarioError(f"the file must be UTF-8 text; byte {e.start} is not", str(p)) from None
+    text = text.removeprefix("\ufeff")  # a UTF-8 byte-order mark (some Windows editors)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as e:

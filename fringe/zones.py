@@ -28,11 +28,12 @@ import shapely
 
 from .coils import Magnet
 from .errors import FringeInputError
-from .field import as_magnets, field_at
+from .field import as_magnets, field_at, points_in_windings
 from .plan import Floor
 
 __all__ = ["FloorMap", "Footprint", "Section", "plan_axes_m", "band_levels_m",
-           "band_envelope", "band_max_T", "BAND_REFINE_TOL", "field_magnitude_T", "slice_map_T", "floor_map",
+           "band_envelope", "band_max_T", "BAND_REFINE_TOL", "field_magnitude_T",
+           "occupied_field_T", "slice_map_T", "floor_map",
            "band_max_at_xy_T", "superlevel_polygons", "footprints", "magnet_sections",
            "section_directions", "default_extent_m", "reach_m"]
 
@@ -120,11 +121,25 @@ def field_magnitude_T(site, points_m) -> np.ndarray:
     return np.linalg.norm(field_at(site, points_m), axis=1)
 
 
+def occupied_field_T(site, points_m) -> np.ndarray:
+    """|B| in T at site points, NaN at points inside a winding.
+
+    Nobody occupies a winding, and the quadrature is least accurate there
+    (:func:`fringe.field.points_in_windings`), so plan maps and room maxima leave those
+    points out; sections show the full field.
+    """
+    p = np.asarray(points_m, dtype=float).reshape(-1, 3)
+    b = field_magnitude_T(site, p)
+    b[points_in_windings(as_magnets(site), p)] = np.nan
+    return b
+
+
 def slice_map_T(site, x_m: np.ndarray, y_m: np.ndarray, z_m: float) -> np.ndarray:
-    """|B| in T on the horizontal grid (ny, nx) at height ``z_m``."""
+    """|B| in T on the horizontal grid (ny, nx) at height ``z_m`` (NaN inside windings,
+    see :func:`occupied_field_T`)."""
     X, Y = np.meshgrid(x_m, y_m)
     pts = np.column_stack([X.ravel(), Y.ravel(), np.full(X.size, float(z_m))])
-    return field_magnitude_T(site, pts).reshape(X.shape)
+    return occupied_field_T(site, pts).reshape(X.shape)
 
 
 def band_envelope(values: np.ndarray, z_m: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -203,6 +218,9 @@ def band_max_T(site, xy_m: np.ndarray, z_levels_m: np.ndarray, *,
                ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Largest |B| over a vertical band at plan points, adaptively refined.
 
+    Points inside windings are left out (:func:`occupied_field_T`); no parabola is
+    fitted through them, and a point whose every sample lies in a winding gets 0.
+
     The band is sampled at ``z_levels_m``; where the parabolic correction of
     :func:`band_envelope` exceeds ``tol_rel`` (relative) and the value is at least
     ``relevant_T``, the bracket around the peak is re-sampled at ``n_sub`` levels, up to
@@ -232,10 +250,11 @@ def band_max_T(site, xy_m: np.ndarray, z_levels_m: np.ndarray, *,
     z = np.asarray(z_levels_m, dtype=float)
     if values_T is None:
         pts = np.concatenate([np.column_stack([xy, np.full(len(xy), zi)]) for zi in z])
-        values_T = field_magnitude_T(site, pts).reshape(z.size, len(xy))
+        values_T = occupied_field_T(site, pts).reshape(z.size, len(xy))
     v = np.asarray(values_T, dtype=float).reshape(z.size, len(xy))
-    sampled, env = band_envelope(v, z)
+    v = np.where(np.isnan(v), -np.inf, v)  # windings: never the maximum, no parabola
     with np.errstate(divide="ignore", invalid="ignore"):
+        sampled, env = band_envelope(v, z)
         err = np.where(env > 0, (env - sampled) / env, 0.0)
     lo, hi = _bracket(z, v)
     todo = np.flatnonzero((err > tol_rel) & (env >= relevant_T))
@@ -245,14 +264,18 @@ def band_max_T(site, xy_m: np.ndarray, z_levels_m: np.ndarray, *,
             break
         zz = lo[todo, None] + (hi[todo] - lo[todo])[:, None] * t[None, :]  # (M, n_sub)
         pts = np.column_stack([np.repeat(xy[todo], n_sub, axis=0), zz.ravel()])
-        vals = field_magnitude_T(site, pts).reshape(todo.size, n_sub).T  # (n_sub, M)
-        s2, r2 = band_envelope(vals, zz.T)
+        vals = occupied_field_T(site, pts).reshape(todo.size, n_sub).T  # (n_sub, M)
+        vals = np.where(np.isnan(vals), -np.inf, vals)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            s2, r2 = band_envelope(vals, zz.T)
+            err[todo] = np.where(r2 > 0, (r2 - s2) / r2, 0.0)
         best = np.maximum(env[todo], r2)
-        err[todo] = np.where(r2 > 0, (r2 - s2) / r2, 0.0)
         env[todo] = best
         lo2, hi2 = _bracket(zz.T, vals)
         lo[todo], hi[todo] = lo2, hi2
         todo = todo[err[todo] > tol_rel]
+    env = np.where(np.isfinite(env), env, 0.0)
+    sampled = np.where(np.isfinite(sampled), sampled, 0.0)
     return env, sampled, err
 
 

@@ -21,6 +21,7 @@ from fringe.attraction import (
     axial_gradient_T_per_m,
     criterion_text,
     field_and_gradient,
+    floor_attraction,
     loop_axial_field_T,
     loop_axial_gradient_T_per_m,
     plan_attraction,
@@ -28,6 +29,7 @@ from fringe.attraction import (
     pull_ratio,
     saturation_field_T,
     section_attraction,
+    site_attraction,
 )
 from fringe.coils import Coil, Magnet
 from fringe.errors import FringeInputError
@@ -294,6 +296,13 @@ def test_demo_plan_and_section_maps(demo_site, demo_magnet):
     inside = pm.ratio >= 1.0
     assert inside.any() and not np.isnan(pm.ratio[0, 0])
     assert np.all(pm.field_T[inside] >= 3e-3)
+    # the zone polygon spans the axial extent along the axis (site x here), within the
+    # marching-squares interpolation on the 0.25 m grid
+    fa = floor_attraction(demo_site, "ground", x, y, [c[2]])
+    x0, _, x1, _ = fa.geometry.bounds
+    ax0, _ = attraction_extents_m(demo_magnet)
+    assert x0 == pytest.approx(c[0] - ax0, abs=0.05) and x1 == pytest.approx(c[0] + ax0, abs=0.05)
+    assert fa.area_m2 == pytest.approx(fa.geometry.area) and "45.1 mT/m" in fa.criterion
     ax, _ = attraction_extents_m(demo_magnet)
     s = np.linspace(-3.0, 3.0, 61)
     sec = section_attraction(demo_site, c, demo_magnet.axis, s, [c[2] - 0.05, c[2], c[2] + 0.05])
@@ -301,3 +310,26 @@ def test_demo_plan_and_section_maps(demo_site, demo_magnet):
     reach = np.max(np.abs(s[np.nan_to_num(row) >= 1.0]))
     assert reach == pytest.approx(ax, abs=0.1)  # grid step 0.1 m
     assert "mT/m" in sec.criterion
+
+
+def test_site_attraction_for_a_report(demo_site, demo_magnet):
+    # consistency: the report bundle reuses the zone helper's grids; the section along the
+    # axis spans the axial extent, the one across it the radial extent (0.2 m grid, so
+    # within the marching-squares interpolation of one step)
+    from fringe.plan import Floor
+    from fringe.zones import floor_map, magnet_sections
+
+    c = np.asarray(demo_magnet.center_m)
+    x = c[0] + np.arange(-3.0, 3.01, 0.2)
+    y = c[1] + np.arange(-2.4, 2.41, 0.2)
+    fm = floor_map(demo_site, Floor("ground", 0.0), x, y, 1.0)
+    secs = magnet_sections(demo_site, demo_magnet, 3.0, (c[2] - 2.0, c[2] + 2.0), 0.2)
+    sa = site_attraction(demo_site, {"ground": fm}, secs)
+    ax, rad = attraction_extents_m(demo_magnet)
+    assert sa.extents_m == ((demo_magnet.name, ax, rad),) and sa.object_kind == DEFAULT_OBJECT
+    assert sa.floors["ground"].area_m2 > 0
+    (along, g_along), (across, g_across) = sa.sections
+    s0, _, s1, _ = g_along.bounds
+    assert (s1 - s0) / 2 == pytest.approx(ax, abs=0.1)
+    s0, _, s1, _ = g_across.bounds
+    assert (s1 - s0) / 2 == pytest.approx(rad, abs=0.1)

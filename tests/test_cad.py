@@ -7,6 +7,7 @@ import math
 import ezdxf
 import pytest
 import shapely
+import shapely.affinity
 
 from fringe.cad import (
     ATTRACTION_LAYER,
@@ -163,6 +164,9 @@ def test_zones_round_trip_into_the_users_drawing(tmp_path):
     assert len(doc2.modelspace().query(f'LWPOLYLINE[layer=="{ATTRACTION_LAYER}"]')) == 1
     rooms = read_dxf_plan(again, {"floor": "ground", "layers": LAYERS}).rooms
     assert {r.name for r in rooms} == set(EXPECTED_M)
+    # without a layer map every layer holds rooms — except the FRINGE- layers we wrote
+    everything = read_dxf_plan(again, {"floor": "ground"}).rooms
+    assert len(everything) == 5  # 4 rooms + the table on A-FURN; no zone rings
 
 
 def test_new_drawing_in_metres_and_layer_names():
@@ -190,3 +194,36 @@ def test_scenario_room_file_uses_the_dxf_loader(tmp_path):
     rooms = site.section("room")
     assert [r.name for r in rooms] == ["Store"]
     assert math.isclose(rooms[0].outline.area, 12.0, rel_tol=1e-12)
+
+
+def _forwards_loader_options() -> bool:
+    import inspect
+
+    from fringe import plan_scenario
+
+    return "option_keys" in inspect.getsource(plan_scenario)
+
+
+@pytest.mark.skipif(not _forwards_loader_options(),
+                    reason="the [[room_file]] parser does not forward loader option keys yet")
+def test_scenario_room_file_with_layer_map_and_units(tmp_path):
+    from fringe.scenario import load_site
+
+    make_mm_plan(tmp_path / "clinic.dxf", insunits=0)  # unitless: `units` must be given
+    scen = tmp_path / "site.toml"
+    scen.write_text(
+        '[site]\nname = "t"\n[[magnet]]\nname = "m"\ncenter_m = [50, 50, 1]\n'
+        '[[magnet.coil]]\nr_inner_m = 0.5\nr_outer_m = 0.6\nz_min_m = -0.5\nz_max_m = 0.5\n'
+        'turns = 100\ncurrent_A = 100\n[[floor]]\nname = "ground"\nelevation_m = 0\n'
+        '[[room_file]]\npath = "clinic.dxf"\nformat = "dxf"\nfloor = "ground"\nunits = "mm"\n'
+        'offset_m = [10.0, 0.0]\n[room_file.layers]\n"A-MRI" = "controlled"\n'
+        '"A-ROOM*" = "open"\n"A-WALL" = "wall"\n')
+    rooms = {r.name: r for r in load_site(scen).section("room")}
+    assert set(rooms) == set(EXPECTED_M)
+    assert rooms["Magnet room"].access == "controlled"
+    moved = shapely.affinity.translate(EXPECTED_M["Magnet room"], 10.0, 0.0)
+    assert shapely.hausdorff_distance(rooms["Magnet room"].outline, moved) < MM
+    bad = scen.read_text().replace('"A-WALL" = "wall"', '"A-WALL" = "partition"')
+    scen.write_text(bad)
+    with pytest.raises(ScenarioError, match=r"clinic\.dxf: `room_file.layers.A-WALL` must be one"):
+        load_site(scen)

@@ -31,6 +31,9 @@ def test_selection_order_and_labels():
     assert [x.field_T for x in picked] == [0.4, 8.0]
     assert exposure_label(exposure_limit("icnirp-2009-public")).startswith("400 mT exposure limit")
     assert exposure_limit("icnirp-2009-public").field_mT == pytest.approx(400.0)
+    assert [x.line_label for x in exposure_limits()] == [
+        "400 mT: general public (ICNIRP 2009)", "2 T: occupational, head and trunk (ICNIRP 2009)",
+        "8 T: occupational, limbs (ICNIRP 2009)"]
 
 
 def test_unknown_limit_names_the_choices():

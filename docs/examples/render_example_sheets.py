@@ -110,7 +110,9 @@ def example_sheets(out: Path) -> list:
         [("Magnets", "MR 1 (1.5 T)"), ("0.5 mT line along the axis", "4.0 m"),
          ("Stored energy", "4.0 MJ (invented)")],
         ["equipment (ground): 1.3 mT, EXCEEDS its 0.5 mT limit",
-         "CT room (ground): 0.30 mT, within 0.5 mT"])
+         "CT room (ground): 0.30 mT, within 0.5 mT"],
+        contents=["Cover", "Floor plan: ground floor", "Section along the MR 1 axis",
+                  "Quench: current and energy", "Room table"])
     out.mkdir(parents=True, exist_ok=True)
     d.save_figure(plan, out / "example-plan.png")
     d.save_figure(plan, out / "example-plan.svg")

@@ -1,0 +1,225 @@
+"""Bad-input corpus for scenario files, run through the real CLI (``fringe probe``).
+
+Every case: exit code 2, one ``fringe: error:`` line naming the file and the key path,
+no traceback, nothing on stdout, and the previous output file untouched (no temporary
+files left beside it). Cases are edits of one small valid scenario, so each file differs
+from a good one by exactly the fault under test.
+"""
+
+from __future__ import annotations
+
+import os
+
+import numpy as np
+import pytest
+from conftest import SMALL_SCENARIO_TOML
+
+OLD_OUTPUT = b"previous results: must survive every failed run\n"
+
+
+def edit(*pairs: tuple[str, str]) -> str:
+    """SMALL_SCENARIO_TOML with each (old, new) replaced exactly once."""
+    text = SMALL_SCENARIO_TOML
+    for old, new in pairs:
+        assert text.count(old) == 1, old
+        text = text.replace(old, new)
+    return text
+
+
+MAGNET_HEAD = '[[magnet]]\nname = "m1"\ncenter_m = [0.0, 0.0, 1.0]\n'
+
+# (id, scenario text, substrings the error message must contain)
+CORPUS: list[tuple[str, str, list[str]]] = [
+    # -- syntax ------------------------------------------------------------------------
+    ("malformed-header", edit(("[[magnet]]\n", "[[magnet]\n")), ["not valid TOML", "line 4"]),
+    ("unterminated-string", edit(('name = "m1"', 'name = "m1')), ["not valid TOML"]),
+    ("duplicate-key", edit(("turns = 1000", "turns = 1000\n  turns = 2")), ["not valid TOML"]),
+    ("nested-too-deep", "a = " + "[" * 3000 + "]" * 3000 + "\n", ["nested too deeply"]),
+    # -- missing and unknown keys (with the "did you mean" the user needs) ---------------
+    ("typo-required-key", edit(("current_A =", "curent_A =")),
+     ["`magnet[0].coil[0].current_A` is missing", "found `magnet[0].coil[0].curent_A`",
+      "did you mean `magnet[0].coil[0].current_A`"]),
+    ("typo-optional-key", edit(("axis =", "axsi =")),
+     ["`magnet[0].axsi` is not a known key", "did you mean `magnet[0].axis`"]),
+    ("typo-site-key", edit(('name = "small', 'nmae = "small')),
+     ["`site.nmae` is not a known key", "did you mean `site.name`"]),
+    ("typo-top-level", edit(("[[magnet]]", "[[magnets]]"), ("[[magnet.coil]]", "[[magnets.coil]]")),
+     ["`magnets` is not a known key", "did you mean `magnet`"]),
+    ("unknown-key", edit(("turns = 1000", "turns = 1000\n  colour = 'blue'")),
+     ["`magnet[0].coil[0].colour` is not a known key"]),
+    ("missing-center", edit(("center_m = [0.0, 0.0, 1.0]\n", "")),
+     ["`magnet[0].center_m` is missing"]),
+    ("missing-name", edit(('name = "m1"\n', "")), ["`magnet[0].name` is missing"]),
+    ("missing-coil", MAGNET_HEAD, ["`magnet[0].coil` is missing"]),
+    ("empty-coil-list", MAGNET_HEAD + "coil = []\n", ["`magnet[0].coil` is missing"]),
+    # -- wrong types ---------------------------------------------------------------------
+    ("turns-string", edit(("turns = 1000", 'turns = "many"')),
+     ["`magnet[0].coil[0].turns` must be a number", "'many'"]),
+    ("turns-bool", edit(("turns = 1000", "turns = true")),
+     ["`magnet[0].coil[0].turns` must be a number", "True"]),
+    ("current-array", edit(("current_A = 100.0", "current_A = [100.0]")),
+     ["`magnet[0].coil[0].current_A` must be a number"]),
+    ("center-two-values", edit(("center_m = [0.0, 0.0, 1.0]", "center_m = [0.0, 1.0]")),
+     ["`magnet[0].center_m` must be an array of 3 numbers"]),
+    ("center-string", edit(("center_m = [0.0, 0.0, 1.0]", 'center_m = "origin"')),
+     ["`magnet[0].center_m` must be an array of 3 numbers"]),
+    ("axis-mixed", edit(("axis = [0, 0, 1]", 'axis = [0, 0, "z"]')),
+     ["`magnet[0].axis` must be an array of 3 numbers"]),
+    ("name-number", edit(('name = "m1"', "name = 5")),
+     ["`magnet[0].name` must be a non-empty string"]),
+    ("name-blank", edit(('name = "m1"', 'name = "  "')),
+     ["`magnet[0].name` must be a non-empty string"]),
+    ("coil-scalar", MAGNET_HEAD + "coil = 5\n", ["`magnet[0].coil` must be an array of tables"]),
+    ("magnet-string", 'magnet = "big"\n', ["`magnet` must be an array of tables"]),
+    ("site-scalar", edit(('[site]\nname = "small test site (invented)"\n', "site = 3\n")),
+     ["`site` must be a table"]),
+    ("coil-item-scalar", MAGNET_HEAD + "coil = [1, 2]\n", ["`magnet[0].coil[0]` must be a table"]),
+    # -- NaN, inf and overflow -----------------------------------------------------------
+    ("current-nan", edit(("current_A = 100.0", "current_A = nan")),
+     ["`magnet[0].coil[0].current_A` must be a finite number", "nan"]),
+    ("current-inf", edit(("current_A = 100.0", "current_A = -inf")),
+     ["`magnet[0].coil[0].current_A` must be a finite number", "-inf"]),
+    ("center-inf", edit(("center_m = [0.0, 0.0, 1.0]", "center_m = [inf, 0.0, 1.0]")),
+     ["`magnet[0].center_m` must be an array of 3 finite numbers"]),
+    ("turns-huge-int", edit(("turns = 1000", "turns = 1" + "0" * 400)),
+     ["`magnet[0].coil[0].turns` must be a finite number", "…"]),
+    ("field-overflow", edit(("current_A = 100.0", "current_A = 1e308")),
+     ["`magnet[0].coil` must give a finite field", "inf"]),
+    # -- sizes and geometry --------------------------------------------------------------
+    ("r-inner-negative", edit(("r_inner_m = 0.30", "r_inner_m = -0.1")),
+     ["`magnet[0].coil[0].r_inner_m` must be a number ≥ 0", "-0.1"]),
+    ("r-outer-zero", edit(("r_inner_m = 0.30", "r_inner_m = 0.0"),
+                          ("r_outer_m = 0.32", "r_outer_m = 0")),
+     ["`magnet[0].coil[0].r_outer_m` must be a number > 0"]),
+    ("turns-zero", edit(("turns = 1000", "turns = 0")),
+     ["`magnet[0].coil[0].turns` must be a number > 0"]),
+    ("turns-negative", edit(("turns = 1000", "turns = -5")),
+     ["`magnet[0].coil[0].turns` must be a number > 0", "-5"]),
+    ("r-inner-equals-outer", edit(("r_inner_m = 0.30", "r_inner_m = 0.32")),
+     ["`magnet[0].coil[0].r_outer_m` must be greater than r_inner_m"]),
+    ("r-inner-above-outer", edit(("r_inner_m = 0.30", "r_inner_m = 0.40")),
+     ["`magnet[0].coil[0].r_outer_m` must be greater than r_inner_m (0.4)", "0.32"]),
+    ("z-min-equals-max", edit(("z_min_m = -0.20", "z_min_m = 0.20")),
+     ["`magnet[0].coil[0].z_max_m` must be greater than z_min_m"]),
+    ("z-min-above-max", edit(("z_min_m = -0.20", "z_min_m = 0.50")),
+     ["`magnet[0].coil[0].z_max_m` must be greater than z_min_m (0.5)"]),
+    ("axis-zero", edit(("axis = [0, 0, 1]", "axis = [0, 0, 0]")),
+     ["`magnet[0].axis` must be a non-zero vector"]),
+    ("duplicate-magnet-names", SMALL_SCENARIO_TOML + SMALL_SCENARIO_TOML.split("[site]")[1]
+     .split("\n", 2)[2], ["`magnet[1].name` must be unique among magnets", "'m1'"]),
+    # -- empty sites ---------------------------------------------------------------------
+    ("empty-file", "", ["`magnet` must list at least one magnet"]),
+    ("site-table-only", '[site]\nname = "nothing here"\n',
+     ["`magnet` must list at least one magnet"]),
+    ("comments-only", "# nothing\n\n# at all\n", ["`magnet` must list at least one magnet"]),
+]
+
+
+def test_duplicate_case_really_has_two_magnets():
+    # guard on the corpus itself: the duplicate-name case holds two [[magnet]] tables
+    text = dict((c[0], c[1]) for c in CORPUS)["duplicate-magnet-names"]
+    assert text.count("[[magnet]]") == 2 and text.count('name = "m1"') == 2
+
+
+def assert_refused(code, out, err, expected, file_name, out_dir, before):
+    """The common assertions of every bad-input case."""
+    assert code == 2, err
+    assert "Traceback" not in err
+    assert out == ""
+    assert err.startswith("fringe: error: "), err
+    assert file_name in err
+    for s in expected:
+        assert s in err, f"{s!r} not in {err!r}"
+    assert (out_dir / "field.npy").read_bytes() == OLD_OUTPUT
+    assert sorted(os.listdir(out_dir)) == before, "a temporary or partial file was left"
+
+
+@pytest.mark.parametrize("text,expected", [c[1:] for c in CORPUS], ids=[c[0] for c in CORPUS])
+def test_bad_scenario_is_refused_with_key_path(text, expected, tmp_path, write_file, run_cli):
+    scen = write_file(text, "bad_scenario.toml")
+    out_dir = tmp_path / "out"
+    out_dir.mkdir()
+    (out_dir / "field.npy").write_bytes(OLD_OUTPUT)
+    before = sorted(os.listdir(out_dir))
+    code, out, err = run_cli("probe", scen, "--at", 1, 0, 1, "--out", out_dir / "field.npy")
+    assert_refused(code, out, err, expected, "bad_scenario.toml", out_dir, before)
+    assert err.count("\n") == 1, "one message, one line"
+
+
+# -- files that cannot be read ---------------------------------------------------------
+
+def _prepare(tmp_path):
+    out_dir = tmp_path / "out"
+    out_dir.mkdir()
+    (out_dir / "field.npy").write_bytes(OLD_OUTPUT)
+    return out_dir, sorted(os.listdir(out_dir))
+
+
+def test_missing_file(tmp_path, run_cli):
+    out_dir, before = _prepare(tmp_path)
+    code, out, err = run_cli("probe", tmp_path / "nowhere.toml", "--at", 1, 0, 0,
+                             "--out", out_dir / "field.npy")
+    assert_refused(code, out, err, ["cannot read the scenario file", "No such file"],
+                   "nowhere.toml", out_dir, before)
+
+
+def test_directory_instead_of_file(tmp_path, run_cli):
+    out_dir, before = _prepare(tmp_path)
+    (tmp_path / "adir.toml").mkdir()
+    code, out, err = run_cli("probe", tmp_path / "adir.toml", "--at", 1, 0, 0,
+                             "--out", out_dir / "field.npy")
+    assert_refused(code, out, err, ["cannot read the scenario file", "directory"],
+                   "adir.toml", out_dir, before)
+
+
+@pytest.mark.skipif(not hasattr(os, "geteuid") or os.geteuid() == 0,
+                    reason="root reads files whatever their permission bits")
+def test_unreadable_file(tmp_path, write_file, run_cli):
+    out_dir, before = _prepare(tmp_path)
+    scen = write_file(SMALL_SCENARIO_TOML, "locked.toml")
+    scen.chmod(0)
+    code, out, err = run_cli("probe", scen, "--at", 1, 0, 0, "--out", out_dir / "field.npy")
+    assert_refused(code, out, err, ["cannot read the scenario file", "Permission denied"],
+                   "locked.toml", out_dir, before)
+
+
+@pytest.mark.parametrize("payload,byte", [
+    (SMALL_SCENARIO_TOML.replace("invented", "inv\xe9nted").encode("latin-1"), None),
+    (b"\xff\xfe" + SMALL_SCENARIO_TOML.encode("utf-16-le"), 0),
+    (b"\x89PNG\r\n\x1a\n" + bytes(range(256)), 0),
+], ids=["latin-1", "utf-16", "binary"])
+def test_non_utf8_file(payload, byte, tmp_path, write_file, run_cli):
+    out_dir, before = _prepare(tmp_path)
+    scen = write_file(payload, "encoded.toml")
+    try:
+        payload.decode("utf-8")
+        raise AssertionError("test payload must not be UTF-8")
+    except UnicodeDecodeError as e:
+        first_bad = e.start  # independent of fringe: Python's own decoder
+    code, out, err = run_cli("probe", scen, "--at", 1, 0, 0, "--out", out_dir / "field.npy")
+    assert_refused(code, out, err, ["must be UTF-8", f"byte {first_bad} "], "encoded.toml",
+                   out_dir, before)
+    if byte is not None:
+        assert first_bad == byte
+
+
+# -- inputs that must be accepted (the corpus must not refuse good files) ------------------
+
+@pytest.mark.parametrize("transform", [
+    lambda t: t.encode("utf-8"),
+    lambda t: t.replace("\n", "\r\n").encode("utf-8"),
+    lambda t: b"\xef\xbb\xbf" + t.encode("utf-8"),
+], ids=["plain", "crlf", "utf8-bom"])
+def test_good_file_variants_load_alike(transform, write_file, run_cli):
+    """Windows line ends and a UTF-8 byte-order mark (Notepad) are not input errors."""
+    from fringe.field import field_at
+    from fringe.scenario import load_site
+
+    ref = load_site(write_file(SMALL_SCENARIO_TOML, "ref.toml"))
+    scen = write_file(transform(SMALL_SCENARIO_TOML), "variant.toml")
+    code, out, err = run_cli("probe", scen, "--at", 0, 0, 1, "--json")
+    assert code == 0, err
+    site = load_site(scen)
+    assert site.magnets == ref.magnets
+    p = np.array([[0.5, 0.2, 1.3]])
+    assert np.array_equal(field_at(site, p), field_at(ref, p))  # same model, same numbers
