@@ -727,7 +727,10 @@ def _label_lines(ax, renderer, line_sets: Sequence[_LineSet], occupied: list[Bbo
             pieces = [np.asarray(p) for p in path.to_polygons(closed_only=False)
                       if len(p) >= 2]
             pieces.sort(key=lambda p: -len(p))
-            for text in dict.fromkeys([ls.labels[i], ls.short_labels[i]]):
+            forms = [ls.labels[i], ls.short_labels[i]]
+            if ls.beside and len(ls.labels[i]) > 20:  # a long label may go on two lines
+                forms.insert(1, textwrap.fill(ls.labels[i], math.ceil(len(ls.labels[i]) / 2)))
+            for text in dict.fromkeys(forms):
                 w, h = _text_size_px(ax, renderer, text, ls.fontsize, ls.weight)
                 chosen = []
                 for piece in pieces:
@@ -757,6 +760,7 @@ def _label_lines(ax, renderer, line_sets: Sequence[_LineSet], occupied: list[Bbo
                 xd, yd = to_data.transform(p)
                 out.append(ax.text(xd, yd, text, rotation=deg, rotation_mode="anchor",
                                    ha="center", va="center", fontsize=ls.fontsize,
+                                   multialignment="center", linespacing=1.05,
                                    fontweight=ls.weight, color=ls.color, zorder=8,
                                    path_effects=_HALO, gid="contour-label"))
             continue
@@ -1012,7 +1016,13 @@ def _display_per_metre(ax) -> tuple[float, float]:
 
 
 def _draw_rooms(ax, renderer, rooms: Sequence[RoomMark], avoid) -> tuple[list, list]:
+    """Room outlines (hatched and bold when ``exceeds``) and their fitted labels.
+
+    Rooms wholly outside the drawing get no label.
+    """
     texts = []
+    (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
+    view = box(x0, y0, x1, y1)
     any_exceeds = any_controlled = False
     for i, r in enumerate(rooms):
         if not isinstance(r, RoomMark):
@@ -1041,10 +1051,13 @@ def _draw_rooms(ax, renderer, rooms: Sequence[RoomMark], avoid) -> tuple[list, l
             lines.append(f"EXCEEDS LIMIT{lim}")
         elif r.verdict and r.verdict.lower() not in {x.lower() for x in detail}:
             lines.append(str(r.verdict))
-        texts.append(_fit_label(ax, renderer, r.polygon, lines, bold_first=True,
+        visible = r.polygon.intersection(view)  # label the part inside the drawing
+        if visible.is_empty or visible.area < 1e-9 * view.area:
+            continue
+        if visible.geom_type not in ("Polygon", "MultiPolygon"):
+            visible = shapely.union_all(_polygons_of(visible))
+        texts.append(_fit_label(ax, renderer, visible, lines, bold_first=True,
                                 avoid=avoid))
-        if exceeds:
-            texts[-1].set_fontweight("bold")
     handles, labels = [], []
     if rooms:
         handles.append(Patch(facecolor="none", edgecolor=_INK, linewidth=1.0))
@@ -1822,7 +1835,8 @@ def cover_sheet(info: SheetInfo, key_facts: Sequence[tuple[str, str]],
         E.g. ("Stored energy", "4.1 MJ"); values already formatted with units.
     verdict_lines : sequence of str
         Findings, one per line (e.g. "Office 1.12 (first floor): within 0.5 mT").
-        Lines containing "EXCEEDS" (any case) are set in bold.
+        Lines containing "exceeds" (any case) come first, in bold; if the list is too
+        long for the sheet it is cut with a line pointing to the tables.
     notes : sequence of str
         Extra notes in the key column.
     contents : sequence of str
@@ -1874,12 +1888,20 @@ def cover_sheet(info: SheetInfo, key_facts: Sequence[tuple[str, str]],
         y -= 0.02
         ax.text(0, y, "FINDINGS", fontsize=10, fontweight="bold", va="top", color=_INK)
         y -= 0.04
-        for line in verdict_lines:
+        # findings that exceed come first, so none is lost if the list must be cut
+        ordered = sorted(verdict_lines, key=lambda ln: "exceeds" not in ln.lower())
+        step = 9.5 * 1.5 / h_pt
+        for k, line in enumerate(ordered):
             bold = "exceeds" in line.lower()
             text = _wrap(("\u25a0 " if bold else "\u25a1 ") + line, 120)
+            n_lines = text.count("\n") + 1
+            if y - step * (n_lines + 1) < 0 and k < len(ordered) - 1:
+                ax.text(0.0, y, f"... and {len(ordered) - k} more findings: see the tables",
+                        fontsize=9.5, va="top", color=_INK, style="italic")
+                break
             ax.text(0.0, y, text, fontsize=9.5, va="top", color=_INK,
                     fontweight="bold" if bold else "normal")
-            y -= 9.5 * 1.5 / h_pt * (text.count("\n") + 1) + 0.003
+            y -= step * n_lines + 0.003
     _draw_key_column(fig, [], [], "", list(info.notes) + list(notes), contents=contents)
     return fig
 

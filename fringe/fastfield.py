@@ -374,13 +374,13 @@ def _build_table(magnet: Magnet, d: np.ndarray, big_d: float, scale: float, orde
     mr = maximum_filter(dr, footprint=foot, mode="constant", cval=np.inf, origin=org)
     mz = maximum_filter(dz, footprint=foot, mode="constant", cval=np.inf, origin=org)
     err = _DIFF_COEFF * (mr + mz)
-    # cells whose stencil touches a winding (grown by one step) are never used
+    # cells whose stencil reaches into a winding are never used
     windings = []
     for c in magnet.coils:
         wr = np.array([c.r_inner_m, c.r_outer_m, c.z_min_m, c.z_max_m]) / scale
         windings.append(wr)
-        hit_r = ((rho_nodes + hi * h) >= wr[0] - h) & ((rho_nodes - lo * h) <= wr[1] + h)
-        hit_z = ((z_nodes + hi * h) >= wr[2] - h) & ((z_nodes - lo * h) <= wr[3] + h)
+        hit_r = ((rho_nodes + hi * h) >= wr[0]) & ((rho_nodes - lo * h) <= wr[1])
+        hit_z = ((z_nodes + hi * h) >= wr[2]) & ((z_nodes - lo * h) <= wr[3])
         err[np.ix_(hit_r, hit_z)] = np.inf
     err[~np.isfinite(err)] = np.inf
     vals = np.ascontiguousarray(np.stack([br.ravel(), bz.ravel()], axis=1))

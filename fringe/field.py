@@ -104,7 +104,7 @@ def _magnet_field_site_T(magnet: Magnet, points_m: np.ndarray, **kw) -> np.ndarr
     return magnet.vectors_to_site(b_loc)
 
 
-def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 32_768,
+def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
              **options) -> np.ndarray:
     """Flux density B in T at site points, all magnets superposed.
 

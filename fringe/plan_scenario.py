@@ -366,11 +366,15 @@ def parse_rooms(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Room, 
         default_floor = fr.string("floor", None)
         if default_floor is not None:
             check_floor(default_floor, fr.key("floor"), fr.file)
+        # Further keys are options of the chosen loader, which declares them in its
+        # ``option_keys`` attribute and validates their values itself.
+        option_keys = tuple(getattr(ROOM_LOADERS[fmt], "option_keys", ()))
+        options = {k: fr.raw(k) for k in option_keys if k != "floor" and fr.has(k)}
         fr.finish()
         p = Path(rel)
         if not p.is_absolute():
             p = Path(file).parent / p
-        loaded = ROOM_LOADERS[fmt](p, {"floor": default_floor}, str(p))
+        loaded = ROOM_LOADERS[fmt](p, {"floor": default_floor, **options}, str(p))
         for j, room in enumerate(loaded):
             check_floor(room.floor, f"{fr.key('path')} → room {room.name!r} floor", fr.file)
             rooms.append((room, f"{fr.key('path')} → features[{j}].properties.name"))

@@ -554,7 +554,8 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
         if clipped:
             notes.append(f"The {', '.join(clipped)} mT footprint(s) reach the edge of the "
                          "drawing: enlarge plan.extent_m to see them whole.")
-        info = dr.SheetInfo(title=f"Floor plan: {name} floor",
+        floor_word = name if name.lower().endswith("floor") else f"{name} floor"
+        info = dr.SheetInfo(title=f"Floor plan: {floor_word}",
                             subtitle=f"Floor level {fl.elevation_m:g} m. Largest |B| over the "
                                      f"occupied band {fl.band_bottom_m:g} to "
                                      f"{fl.band_top_m:g} m above the floor", **base)

@@ -216,6 +216,8 @@ def parse_magnet(r: Reader) -> Magnet:
     axis = r.vector("axis", 3, (0.0, 0.0, 1.0))
     if math.hypot(*axis) == 0.0:
         r.fail(r.key("axis"), "a non-zero vector", list(axis))
+    big = max(abs(x) for x in axis)  # pre-scale: huge or subnormal axes normalise cleanly
+    axis = tuple(x / big for x in axis)
     description = r.string("description", "", nonempty=False)
     builders = [k for k in MAGNET_BUILDERS if r.has(k)]
     if r.has("coil") and builders:

@@ -196,16 +196,6 @@ def test_scenario_room_file_uses_the_dxf_loader(tmp_path):
     assert math.isclose(rooms[0].outline.area, 12.0, rel_tol=1e-12)
 
 
-def _forwards_loader_options() -> bool:
-    import inspect
-
-    from fringe import plan_scenario
-
-    return "option_keys" in inspect.getsource(plan_scenario)
-
-
-@pytest.mark.skipif(not _forwards_loader_options(),
-                    reason="the [[room_file]] parser does not forward loader option keys yet")
 def test_scenario_room_file_with_layer_map_and_units(tmp_path):
     from fringe.scenario import load_site
 

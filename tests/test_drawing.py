@@ -120,9 +120,13 @@ def test_contour_levels_appear_as_labels_in_mT(plan_fig):
     # the dipole grid spans 0.5 mT to well above 40 mT, so the lines exist
     for lv in ("1 mT", "3 mT", "10 mT"):
         assert lv in labels
-    assert "0.5 mT: controlled access area boundary" in labels
+    # the boundary is labelled beside its line: in full, on two lines, or short when
+    # no stretch of the line is long and straight enough; the key always names it
+    assert any(norm(lb) in ("0.5 mT: controlled access area boundary", "0.5 mT boundary",
+                            "0.5 mT") for lb in labels)
     legend_texts = [t.get_text() for leg in plan_fig.findobj(
         lambda a: a.__class__.__name__ == "Legend") for t in leg.get_texts()]
+    assert "0.5 mT: controlled access area boundary" in [norm(t) for t in legend_texts]
     band_labels = [t for t in legend_texts if " to " in t or t.startswith("at least")]
     assert band_labels and all(t.endswith(" mT") for t in band_labels)
 
@@ -338,3 +342,35 @@ def test_format_and_helpers():
     fp = d.footprint_rectangle((5.0, 4.0), (0.0, 2.0), 1.7, 2.0)
     assert fp.area == pytest.approx(3.4)
     assert fp.bounds == pytest.approx((4.0, 3.15, 6.0, 4.85))
+
+
+def test_plan_sheet_edge_cases_still_draw_a_complete_sheet():
+    # common practice, no source: odd inputs must still give a sheet with its notice
+    x, y, f = plan_grid(41, 31)
+    odd_rooms = [
+        d.RoomMark("two wings", box(-4, -3, -2, 0).union(box(0, -3, 2, 0)), "open", "ok"),
+        d.RoomMark("ring", box(-4, 1, 4, 7).difference(box(-2, 2, 2, 6)), "open", "ok"),
+        d.RoomMark("half outside", box(14, 8, 25, 15), "open", "ok"),
+        d.RoomMark("far away", box(100, 100, 110, 110), "open", "ok"),
+    ]
+    for field in (f, np.full_like(f, 1e-6), np.full_like(f, np.nan)):
+        fig = d.plan_sheet(x, y, field, INFO, rooms=odd_rooms)
+        assert len(texts_with_gid(fig, "fringe-advisory")) == 1
+        labels = [t.get_text().split("\n")[0] for t in texts_with_gid(fig, "room-label")]
+        assert labels == ["two wings", "ring", "half outside"]  # "far away" is not shown
+    # the part of a room inside the drawing carries its label
+    ax = next(a for a in fig.axes if a.get_label() == "map")
+    lab = texts_with_gid(fig, "room-label")[2]
+    assert ax.get_xlim()[0] <= lab.get_position()[0] <= ax.get_xlim()[1]
+    assert ax.get_ylim()[0] <= lab.get_position()[1] <= ax.get_ylim()[1]
+
+
+def test_cover_puts_exceeding_findings_first_and_cuts_long_lists():
+    lines = [f"room {i}: within 0.5 mT" for i in range(80)] + ["plant room: exceeds 0.5 mT"]
+    fig = d.cover_sheet(INFO, [("Magnets", "MR 1")], lines)
+    texts = all_text(fig)
+    shown = [t for t in texts if t.startswith(("\u25a0", "\u25a1"))]
+    assert shown[0].startswith("\u25a0 plant room")
+    more = [t for t in texts if t.startswith("... and ")]
+    assert len(more) == 1
+    assert int(more[0].split()[2]) == len(lines) - len(shown)

@@ -180,6 +180,23 @@ def check_site(site: Site) -> None:
             assert 0 <= c.r_inner_m < c.r_outer_m and c.z_min_m < c.z_max_m and c.turns > 0
 
 
+#: Bugs found by this fuzzer in modules owned elsewhere, each pinned by a strict xfail
+#: test (named here) that fails loudly once the bug is fixed, so the entry can go:
+#: (exception type, module file where it escapes).
+KNOWN_BUGS: list[tuple[type, str]] = [
+    # test_bad_input_plan.py::test_huge_integer_in_outline_is_refused
+    (OverflowError, "plan_scenario.py"),
+]
+
+
+def _known_bug(e: BaseException) -> bool:
+    import traceback
+
+    frames = [f.filename for f in traceback.extract_tb(e.__traceback__) if "fringe" in f.filename]
+    return any(isinstance(e, t) and frames and frames[-1].endswith(f)
+               for t, f in KNOWN_BUGS)
+
+
 def parse_or_clear_error(fn, *args, file: str) -> None:
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")  # FringeWarnings are fine; only errors matter here
@@ -190,6 +207,10 @@ def parse_or_clear_error(fn, *args, file: str) -> None:
             assert e.file and str(e).startswith(e.file), f"the message must name a file: {e}"
             assert str(e)[len(e.file):].strip(": ")
             return
+        except Exception as e:
+            if _known_bug(e):
+                return
+            raise
     check_site(site)
 
 
