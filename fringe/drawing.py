@@ -1,14 +1,11 @@
-"""Drawing sheets: floor plans, sections, curves, tables and a cover, as matplotlib figures.
+"""Drawing sheets: floor plans and sections of a field (or any scalar map), in mT.
 
-Every sheet is an A3-landscape :class:`matplotlib.figure.Figure` built without pyplot
-(no global state, Agg canvas attached) and carries the same frame:
-
-* a drawing area on the left (plan, section, curves or table);
-* a key column on the right (legend in the drawing's unit, then notes);
-* the advisory notice (:data:`fringe.constants.ADVISORY_NOTICE`) in a boxed strip along
-  the bottom left;
-* a title block in the bottom right (site, drawing title, magnets, boundary value and its
-  source, date, tool version, sheet number).
+Plans and sections are filled-band maps with labelled threshold lines, the controlled
+access area boundary drawn emphasised, rooms with verdicts, magnet outlines, equipment
+markers, extra layers (attraction zone, energy-density lines), scale bar and north arrow,
+on the common sheet frame of :mod:`fringe.sheets` (title block, key column, advisory
+notice). This module also re-exports the rest of the sheet set (curves, tables, cover,
+saving, PDF sets), so one import serves every caller.
 
 The functions take plain numpy arrays, shapely geometries and the small frozen
 dataclasses below; they know nothing of magpylib or the field engine.
@@ -18,133 +15,72 @@ Public functions
 ``map_sheet``       generic filled-band map (any quantity, any unit) in plan x-y
 ``plan_sheet``      field map of a floor in mT (thin wrapper of ``map_sheet``)
 ``section_sheet``   vertical section with floors, windings and exposure lines
-``curve_sheet``     x-y curves (quench current decay, energy left, ...)
-``table_sheet``     a table paged over as many sheets as it needs
-``cover_sheet``     the first sheet of a set
-``save_figure``     one sheet to PNG/SVG/PDF, atomically
-``write_pdf``       a sheet set to one PDF, atomically, numbered "Sheet k of n"
+``curve_sheet``, ``table_sheet``, ``tables_sheets``, ``cover_sheet``, ``save_figure``,
+``write_pdf``, ``number_sheets``
+                    from :mod:`fringe.sheets`
 """
 
 from __future__ import annotations
 
-import datetime as _dt
+import dataclasses
 import math
-import os
-import re
 import textwrap
-from collections.abc import Iterable, Sequence
-from dataclasses import dataclass, field
-from pathlib import Path
+from collections.abc import Sequence
+from dataclasses import dataclass
 from typing import Any
 
 import matplotlib
 import numpy as np
 import shapely
 from matplotlib import patheffects
-from matplotlib.backends.backend_agg import FigureCanvasAgg
-from matplotlib.backends.backend_pdf import PdfPages
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, PathPatch, Rectangle
 from matplotlib.path import Path as MplPath
 from matplotlib.text import Annotation, Text
-from matplotlib.transforms import Bbox
+from matplotlib.transforms import Affine2D, Bbox, ScaledTranslation, blended_transform_factory
 from shapely.geometry import LineString, Point, Polygon, box
 from shapely.ops import polylabel
 
-from .atomic import atomic_file
-from .constants import ADVISORY_NOTICE, DEFAULT_THRESHOLDS_MT
+from .constants import DEFAULT_THRESHOLDS_MT
 from .errors import FringeInputError, must_be
+from .sheets import (
+    _HALO,
+    _INK,
+    A3_LANDSCAPE_IN,
+    PNG_DPI,
+    VERDICT_EXCEEDS,
+    Curve,
+    CurvePanel,
+    SheetInfo,
+    _draw_frame,
+    _draw_key_column,
+    _new_figure,
+    _renderer,
+    _short,
+    cover_sheet,
+    curve_sheet,
+    format_value,
+    number_sheets,
+    save_figure,
+    table_sheet,
+    tables_sheets,
+    write_pdf,
+)
 
 __all__ = [
     "SheetInfo", "RoomMark", "EquipmentMark", "MagnetOutline", "Overlay", "FloorLevel",
     "ExposureLine", "Curve", "CurvePanel", "OVERLAY_KINDS", "ICNIRP_2009_EXPOSURE_LINES",
-    "VERDICT_EXCEEDS", "A3_LANDSCAPE_IN", "map_sheet", "plan_sheet", "section_sheet",
-    "curve_sheet", "table_sheet", "cover_sheet", "save_figure", "write_pdf",
-    "number_sheets", "footprint_rectangle", "format_value", "scale_bar_length_m",
+    "VERDICT_EXCEEDS", "A3_LANDSCAPE_IN", "PNG_DPI", "map_sheet", "plan_sheet",
+    "section_sheet", "curve_sheet", "table_sheet", "tables_sheets", "cover_sheet",
+    "save_figure", "write_pdf", "number_sheets", "footprint_rectangle", "format_value",
+    "scale_bar_length_m",
 ]
 
-#: Sheet size: ISO A3 landscape, 420 mm x 297 mm, in inches.
-A3_LANDSCAPE_IN: tuple[float, float] = (420 / 25.4, 297 / 25.4)
 
-#: The verdict that is drawn emphasised (hatching, bold outline, upper-case text).
-VERDICT_EXCEEDS = "exceeds"
-
-#: Raster resolution used by :func:`save_figure` for PNG, dots per inch.
-PNG_DPI = 170
-
-_SAVE_FORMATS = ("png", "svg", "pdf")
-_HALO = [patheffects.withStroke(linewidth=2.4, foreground="white")]
-_INK = "0.08"
-_SHEET_NUMBER_GID = "fringe-sheet-number"
 _EXPOSURE_COLOR = "#3d0b57"
-
-# Layout of every sheet, in figure fractions (left, bottom, width, height).
-_FRAME = (0.012, 0.015, 0.976, 0.97)
+_EXPOSURE_STYLES = [(0, (7, 2, 1.5, 2)), (0, (4, 1.5)), (0, (1.2, 1.5)), (0, (9, 3))]
 _MAIN = (0.055, 0.185, 0.655, 0.775)
-_KEY = (0.738, 0.285, 0.238, 0.675)
-_TITLE = (0.738, 0.03, 0.238, 0.235)
-_ADVISORY = (0.03, 0.03, 0.69, 0.085)
-_WIDE = (0.045, 0.16, 0.67, 0.79)  # table/curve area without map axis labels
-
-
-# --------------------------------------------------------------------------- data
-
-
-def _today_iso() -> str:
-    return _dt.datetime.now(_dt.UTC).date().isoformat()
-
-
-def _tool_version() -> str:
-    from . import __version__
-
-    return f"fringe {__version__}"
-
-
-@dataclass(frozen=True)
-class SheetInfo:
-    """What the title block of a sheet says.
-
-    Parameters
-    ----------
-    site_name : str
-        The site (e.g. "Riverside Imaging Centre (invented)").
-    title : str
-        Drawing title (e.g. "Floor plan: ground floor").
-    subtitle : str
-        One more line (e.g. "Largest |B| over the occupied band 0-2 m above the floor").
-    magnets : tuple of str
-        Names of the magnets drawn.
-    date_iso : str
-        Date of the drawing, ISO 8601 (default: today, UTC).
-    tool_version : str
-        Tool and version that computed it (default: "fringe <version>").
-    boundary_note : str
-        The controlled-area boundary value and its source, printed on the sheet, e.g.
-        "Controlled access area boundary: 0.5 mT (ICNIRP 2009; IEC 60601-2-33 ed. 3)".
-    notes : tuple of str
-        Numbered notes printed in the key column (model assumptions, sources).
-    sheet_number : str or None
-        Printed as given; ``None`` lets :func:`write_pdf` / :func:`number_sheets` write
-        "Sheet k of n".
-    """
-
-    site_name: str
-    title: str
-    subtitle: str = ""
-    magnets: tuple[str, ...] = ()
-    date_iso: str = field(default_factory=_today_iso)
-    tool_version: str = field(default_factory=_tool_version)
-    boundary_note: str = ""
-    notes: tuple[str, ...] = ()
-    sheet_number: str | None = None
-
-    def __post_init__(self) -> None:
-        for name in ("magnets", "notes"):
-            value = getattr(self, name)
-            if isinstance(value, str):
-                value = (value,)
-            object.__setattr__(self, name, tuple(str(v) for v in value))
 
 
 @dataclass(frozen=True)
@@ -268,7 +204,6 @@ class ExposureLine:
 
 _ICNIRP_2009 = ("ICNIRP (2009) Guidelines on limits of exposure to static magnetic fields. "
                 "Health Phys. 96(4):504-514")
-
 #: ICNIRP 2009 static-field exposure limits (Table 1 of the guideline): 400 mT general
 #: public (continuous, whole body); 2 T occupational, head and trunk; 8 T occupational,
 #: limbs.
@@ -277,61 +212,6 @@ ICNIRP_2009_EXPOSURE_LINES: tuple[ExposureLine, ...] = (
     ExposureLine(2.0, "2 T: occupational, head and trunk (ICNIRP 2009)", _ICNIRP_2009),
     ExposureLine(8.0, "8 T: occupational, limbs (ICNIRP 2009)", _ICNIRP_2009),
 )
-
-
-@dataclass(frozen=True)
-class Curve:
-    """One labelled x-y series for :func:`curve_sheet`."""
-
-    label: str
-    x: Any
-    y: Any
-
-
-@dataclass(frozen=True)
-class CurvePanel:
-    """One plot panel of a :func:`curve_sheet`.
-
-    Parameters
-    ----------
-    x_label, y_label : str
-        Axis labels with units (e.g. "time after quench onset, s").
-    curves : tuple of Curve
-    title : str
-    log_y : bool
-    marks : tuple of (str, float)
-        Labelled vertical lines at x values (e.g. ("time constant L/R", 12.0)).
-    """
-
-    x_label: str
-    y_label: str
-    curves: tuple[Curve, ...]
-    title: str = ""
-    log_y: bool = False
-    marks: tuple[tuple[str, float], ...] = ()
-
-
-# --------------------------------------------------------------------------- helpers
-
-
-def format_value(v: float) -> str:
-    """Short human format: three significant digits, no exponent between 0.001 and 10⁶.
-
-    >>> [format_value(v) for v in (0.5, 1.0, 3, 200, 1500, 0.0012)]
-    ['0.5', '1', '3', '200', '1500', '0.0012']
-    """
-    v = float(v)
-    if v == 0 or not math.isfinite(v):
-        return f"{v:g}"
-    a = abs(v)
-    if a >= 1000 and a < 1e6:
-        return f"{v:.0f}"
-    if a >= 1e-3 and a < 1e6:
-        s = f"{v:.3g}"
-        if "e" in s:
-            s = f"{v:.4f}".rstrip("0").rstrip(".")
-        return s
-    return f"{v:.2g}"
 
 
 def scale_bar_length_m(span_m: float) -> float:
@@ -379,26 +259,6 @@ def footprint_rectangle(center_xy_m: Sequence[float], axis_xy: Sequence[float],
     hl, hw = length_m / 2, width_m / 2
     pts = [c + su * hl * u + sv * hw * v for su, sv in ((-1, -1), (1, -1), (1, 1), (-1, 1))]
     return Polygon(pts)
-
-
-def _new_figure() -> Figure:
-    fig = Figure(figsize=A3_LANDSCAPE_IN)
-    FigureCanvasAgg(fig)
-    return fig
-
-
-def _renderer(fig: Figure):
-    return fig.canvas.get_renderer()
-
-
-def _chars_for(width_frac: float, fontsize: float) -> int:
-    """How many average characters of ``fontsize`` fit in a width (figure fraction)."""
-    width_pt = width_frac * A3_LANDSCAPE_IN[0] * 72
-    return max(8, int(width_pt / (0.56 * fontsize)))
-
-
-def _wrap(text: str, width: int) -> str:
-    return "\n".join(textwrap.fill(p, width) for p in str(text).split("\n"))
 
 
 def _polygon_path(geom) -> MplPath:
@@ -470,13 +330,6 @@ def _check_axis(key: str, a) -> np.ndarray:
     return arr
 
 
-def _short(a) -> str:
-    arr = np.asarray(a)
-    if arr.size <= 6:
-        return np.array2string(arr, precision=4)
-    return f"array of shape {arr.shape}"
-
-
 def _check_levels(key: str, levels, *, positive: bool) -> np.ndarray:
     try:
         lv = np.asarray(levels, dtype=float).ravel()
@@ -489,119 +342,6 @@ def _check_levels(key: str, levels, *, positive: bool) -> np.ndarray:
                                        + " numbers", list(lv)))
     lv = np.unique(lv)
     return lv
-
-
-# --------------------------------------------------------------------------- frame
-
-
-def _draw_frame(fig: Figure, info: SheetInfo, *, kind: str) -> None:
-    """Border, title block and advisory strip: the parts every sheet shares."""
-    if not isinstance(info, SheetInfo):
-        raise FringeInputError(must_be("info", "a fringe.drawing.SheetInfo", type(info)))
-    fig.patches.append(Rectangle(_FRAME[:2], _FRAME[2], _FRAME[3], transform=fig.transFigure,
-                                 fill=False, edgecolor=_INK, linewidth=1.4, zorder=-10))
-    _draw_advisory(fig)
-    _draw_title_block(fig, info, kind=kind)
-
-
-def _draw_advisory(fig: Figure) -> None:
-    ax = fig.add_axes(_ADVISORY, label="advisory")
-    ax.set_axis_off()
-    ax.add_patch(Rectangle((0, 0), 1, 1, transform=ax.transAxes, fill=False,
-                           edgecolor=_INK, linewidth=1.6))
-    ax.add_patch(Rectangle((0, 0), 0.012, 1, transform=ax.transAxes, facecolor=_INK,
-                           edgecolor="none"))
-    fs = 10.0
-    ax.text(0.024, 0.5, _wrap(ADVISORY_NOTICE, _chars_for(_ADVISORY[2] * 0.95, fs)),
-            transform=ax.transAxes, ha="left", va="center", fontsize=fs, color=_INK,
-            linespacing=1.35, gid="fringe-advisory")
-
-
-def _draw_title_block(fig: Figure, info: SheetInfo, *, kind: str) -> None:
-    ax = fig.add_axes(_TITLE, label="title block")
-    ax.set_axis_off()
-    ax.add_patch(Rectangle((0, 0), 1, 1, transform=ax.transAxes, fill=False,
-                           edgecolor=_INK, linewidth=1.6))
-    h_pt = _TITLE[3] * A3_LANDSCAPE_IN[1] * 72
-    pad = 0.035
-    chars_small = _chars_for(_TITLE[2] * (1 - 2 * pad), 7.5)
-    chars_title = _chars_for(_TITLE[2] * (1 - 2 * pad), 11.5)
-    rows: list[tuple[str, str, float, str]] = [
-        ("drawing", info.title, 11.5, "bold"),
-        ("", info.subtitle, 8.0, "normal"),
-        ("site", info.site_name, 9.0, "bold"),
-        ("magnets", ", ".join(info.magnets) if info.magnets else "", 8.0, "normal"),
-        ("boundary", info.boundary_note, 7.5, "normal"),
-    ]
-    y = 1.0 - pad * 1.2
-    for label, value, fs, weight in rows:
-        if not value:
-            continue
-        width = chars_title if fs > 10 else chars_small
-        text = _wrap(value, width)
-        n_lines = text.count("\n") + 1
-        if label:
-            ax.text(pad, y, label.upper(), transform=ax.transAxes, fontsize=5.5,
-                    color="0.35", ha="left", va="top")
-            y -= 7.0 / h_pt
-        ax.text(pad, y, text, transform=ax.transAxes, fontsize=fs, fontweight=weight,
-                color=_INK, ha="left", va="top", linespacing=1.15)
-        y -= (n_lines * fs * 1.2 + 4.0) / h_pt
-    # bottom row: date | tool | sheet, in three cells
-    row_h = 24.0 / h_pt
-    ax.plot([0, 1], [row_h, row_h], transform=ax.transAxes, color=_INK, linewidth=0.8)
-    for x in (0.30, 0.64):
-        ax.plot([x, x], [0, row_h], transform=ax.transAxes, color=_INK, linewidth=0.8)
-    sheet = info.sheet_number if info.sheet_number is not None else "Sheet -"
-    cells = (("date", info.date_iso or "(undated)", 0.0), ("computed with",
-             info.tool_version, 0.30), ("sheet", sheet, 0.64))
-    for label, value, x0 in cells:
-        ax.text(x0 + pad * 0.7, row_h - 3.0 / h_pt, label.upper(), transform=ax.transAxes,
-                fontsize=5.5, color="0.35", ha="left", va="top")
-        t = ax.text(x0 + pad * 0.7, 4.0 / h_pt, value, transform=ax.transAxes, fontsize=8.0,
-                    color=_INK, ha="left", va="bottom", fontweight="bold")
-        if label == "sheet":
-            t.set_gid(_SHEET_NUMBER_GID if info.sheet_number is not None
-                      else _SHEET_NUMBER_GID + "-auto")
-
-
-def _draw_key_column(fig: Figure, handles: list, labels: list[str], title: str,
-                     notes: Sequence[str], contents: Sequence[str] = ()) -> None:
-    """Legend (top of the key column), then a contents list, then numbered notes."""
-    ax = fig.add_axes(_KEY, label="key")
-    ax.set_axis_off()
-    fs = 8.0
-    width = _chars_for(_KEY[2] * 0.78, fs)
-    top = 1.0
-    if contents:
-        wc = _chars_for(_KEY[2] * 0.92, fs)
-        body = "\n".join(_wrap(f"{i}. {c}", wc) for i, c in enumerate(contents, 1))
-        ax.text(0.0, top, "CONTENTS", transform=ax.transAxes, fontsize=8.5,
-                fontweight="bold", va="top", ha="left", color=_INK)
-        t = ax.text(0.0, top - 0.03, body, transform=ax.transAxes, fontsize=fs, va="top",
-                    ha="left", color=_INK, linespacing=1.3)
-        bb = t.get_window_extent(_renderer(fig))
-        top = ax.transAxes.inverted().transform((bb.x0, bb.y0))[1] - 0.04
-    if handles:
-        leg = ax.legend(handles, [_wrap(lb, width) for lb in labels], loc="upper left",
-                        bbox_to_anchor=(0.0, 1.0), fontsize=fs, title=title,
-                        title_fontsize=9.5, frameon=True, edgecolor=_INK, fancybox=False,
-                        alignment="left", handlelength=2.6, handleheight=1.3,
-                        borderpad=0.8, labelspacing=0.55)
-        leg.get_frame().set_linewidth(1.0)
-        bb = leg.get_window_extent(_renderer(fig))
-        top = ax.transAxes.inverted().transform((bb.x0, bb.y0))[1] - 0.03
-    if notes:
-        fs_n = 7.5
-        wn = _chars_for(_KEY[2] * 0.95, fs_n)
-        body = "\n".join(_wrap(f"{i}. {n}", wn) for i, n in enumerate(notes, 1))
-        ax.text(0.0, top, "NOTES", transform=ax.transAxes, fontsize=8.5, fontweight="bold",
-                va="top", ha="left", color=_INK)
-        ax.text(0.0, top - 0.03, body, transform=ax.transAxes, fontsize=fs_n, va="top",
-                ha="left", color=_INK, linespacing=1.25)
-
-
-# --------------------------------------------------------------------------- map parts
 
 
 def _band_colors(cmap: str, n: int) -> list:
@@ -673,7 +413,9 @@ def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | 
             short = f"{format_value(boundary_level)} {unit}"
             sets.append(_LineSet(csb, [blabel], [short + " boundary"], 8.5, "bold", _INK,
                                  beside=True, near_fallback=[short]))
-        entries.append((Line2D([], [], color=_INK, linewidth=2.6), blabel))
+        reached = vmin < boundary_level < vmax
+        entries.append((Line2D([], [], color=_INK, linewidth=2.6),
+                        blabel if reached else blabel + " (not reached on this sheet)"))
     plain = [lv for lv in levels if vmin < lv < vmax and (boundary_level is None or not
              math.isclose(lv, boundary_level, rel_tol=1e-9))]
     if plain:
@@ -1247,43 +989,61 @@ def _draw_equipment(ax, renderer, equipment, occupied: list[Bbox], walls=None
     return texts, entries
 
 
-def _draw_scale_bar(ax, x_range, y_range, renderer) -> Bbox:
-    """Scale bar in data metres at the lower left; returns its box in display px.
+def _below_axes(ax, fig):
+    """Transform with x in the axes' data metres and y in inches below the axes' bottom."""
+    bottom_in = ax.get_position().y0 * fig.get_figheight()
+    return blended_transform_factory(
+        ax.transData, Affine2D().translate(0, bottom_in) + fig.dpi_scale_trans)
 
-    The bar is ``scale_bar_length_m`` long in data coordinates, in four alternating
-    segments (artists with gid "scale-bar-0" ... "scale-bar-3").
+
+def _draw_scale_bar(ax, x_range, y_range, renderer) -> Bbox:
+    """Scale bar under the lower-left corner of the drawing, outside it.
+
+    The bar is ``scale_bar_length_m`` long in the drawing's data metres (x follows the
+    map's data transform exactly), in four alternating segments (artists with gid
+    "scale-bar-0" ... "scale-bar-3"), so it stays true at any print size. Returns its
+    box in display px.
     """
+    del y_range
+    fig = ax.get_figure()
+    tr = _below_axes(ax, fig)
     span = x_range[1] - x_range[0]
     length = scale_bar_length_m(span)
-    h = 0.012 * (y_range[1] - y_range[0])
-    x0 = x_range[0] + 0.035 * span
-    y0 = y_range[0] + 0.045 * (y_range[1] - y_range[0])
+    x0 = x_range[0]
+    y0, h = -0.50, 0.075  # inches below the axes: clear of the tick labels
     n = 4
-    bg = Rectangle((x0 - 0.015 * span, y0 - 2.2 * h), length + 0.06 * span, 6.2 * h,
-                   facecolor="white", edgecolor="0.5", linewidth=0.6, alpha=0.9, zorder=10,
-                   gid="scale-bar-background")
-    ax.add_patch(bg)
+    segs = []
     for k in range(n):
-        ax.add_patch(Rectangle((x0 + k * length / n, y0), length / n, h,
-                               facecolor=_INK if k % 2 == 0 else "white", edgecolor=_INK,
-                               linewidth=0.8, zorder=11, gid=f"scale-bar-{k}"))
-    ax.text(x0, y0 + 1.6 * h, "0", ha="center", va="bottom", fontsize=7.5, zorder=11)
-    ax.text(x0 + length, y0 + 1.6 * h, f"{format_value(length)} m", ha="center",
-            va="bottom", fontsize=7.5, zorder=11, gid="scale-bar-label")
-    ax.text(x0 + length / 2, y0 - 0.6 * h, "scale", ha="center", va="top", fontsize=6.5,
-            color="0.3", zorder=11)
-    return bg.get_window_extent(renderer)
+        r = Rectangle((x0 + k * length / n, y0), length / n, h, transform=tr,
+                      facecolor=_INK if k % 2 == 0 else "white", edgecolor=_INK,
+                      linewidth=0.8, zorder=11, gid=f"scale-bar-{k}", clip_on=False)
+        ax.add_patch(r)
+        segs.append(r)
+    kw = {"transform": tr, "fontsize": 7.5, "zorder": 11, "clip_on": False}
+    ax.text(x0, y0 + h + 0.03, "0", ha="center", va="bottom", **kw)
+    ax.text(x0 + length, y0 + h + 0.03, f"{format_value(length)} m", ha="center",
+            va="bottom", gid="scale-bar-label", **kw)
+    width_in = ax.get_position().width * fig.get_figwidth()
+    ratio = span / (width_in * 0.0254)  # metres of site per metre of paper on A3
+    ax.text(x0 + length + 0.02 * span, y0 + h / 2, f"scale about 1:{ratio:.0f} on A3 paper",
+            ha="left", va="center", color="0.3", gid="scale-ratio", **{**kw,
+                                                                      "fontsize": 6.5})
+    return Bbox.union([r.get_window_extent(renderer) for r in segs])
 
 
 def _draw_north_arrow(ax, renderer) -> Bbox:
-    ax.annotate("", xy=(0.965, 0.975), xytext=(0.965, 0.885), xycoords="axes fraction",
-                arrowprops={"arrowstyle": "-|>,head_width=0.45,head_length=0.9",
-                            "color": _INK, "linewidth": 1.8}, zorder=11)
-    t = ax.text(0.965, 0.87, "N", transform=ax.transAxes, ha="center", va="top",
-                fontsize=11, fontweight="bold", zorder=11, path_effects=_HALO)
-    bb = t.get_window_extent(renderer)
-    top = ax.transAxes.transform((0.965, 0.975))
-    return Bbox.from_extents(bb.x0 - 8, bb.y0 - 2, bb.x1 + 8, top[1] + 2)
+    """North arrow (site y is north) just right of the drawing's top-right corner."""
+    fig = ax.get_figure()
+    tr = ax.transAxes + ScaledTranslation(0.16, 0, fig.dpi_scale_trans)
+    ax.annotate("", xy=(1.0, 1.0), xytext=(1.0, 1.0), xycoords=tr, textcoords=(
+        ax.transAxes + ScaledTranslation(0.16, -0.45, fig.dpi_scale_trans)),
+        arrowprops={"arrowstyle": "-|>,head_width=0.4,head_length=0.8", "color": _INK,
+                    "linewidth": 1.6, "shrinkA": 0, "shrinkB": 0},
+        zorder=11, annotation_clip=False)
+    t = ax.text(1.0, 1.0, "N", transform=ax.transAxes + ScaledTranslation(
+        0.16, -0.50, fig.dpi_scale_trans), ha="center", va="top", fontsize=10,
+        fontweight="bold", zorder=11, clip_on=False)
+    return t.get_window_extent(renderer)
 
 
 def _setup_map_axes(fig, x, y, x_label, y_label):
@@ -1291,7 +1051,7 @@ def _setup_map_axes(fig, x, y, x_label, y_label):
     ax.set_xlim(x[0], x[-1])
     ax.set_ylim(y[0], y[-1])
     ax.set_aspect("equal", adjustable="box", anchor="C")
-    ax.set_xlabel(x_label, fontsize=8.5)
+    ax.set_xlabel(x_label, fontsize=8.5, loc="right")  # the scale bar sits at the left
     ax.set_ylabel(y_label, fontsize=8.5)
     ax.tick_params(labelsize=7.5, direction="in", top=True, right=True)
     ax.grid(True, color="0.6", linewidth=0.3, alpha=0.5, zorder=0)
@@ -1309,9 +1069,6 @@ def _map_inputs(x_m, y_m, values, levels, positive: bool):
                                        f"({y.size}, {x.size})", f"shape {v.shape}"))
     lv = _check_levels("levels", levels, positive=positive)
     return x, y, v, lv
-
-
-# --------------------------------------------------------------------------- sheets
 
 
 def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
@@ -1430,6 +1187,14 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     return fig
 
 
+def _with_boundary_note(info: SheetInfo, boundary_mT: float | None) -> SheetInfo:
+    """Every field sheet states its boundary value: fill the note in if the caller did not."""
+    if info.boundary_note or boundary_mT is None:
+        return info
+    return dataclasses.replace(info, boundary_note=f"Controlled access area boundary: "
+                               f"{format_value(boundary_mT)} mT (source not given)")
+
+
 def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
                thresholds_mT: Sequence[float] = DEFAULT_THRESHOLDS_MT,
                boundary_mT: float | None = 0.5, boundary_label: str | None = None,
@@ -1471,6 +1236,7 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
         raise FringeInputError(must_be("boundary_mT", "a positive number of mT or None",
                                        boundary_mT))
     x, y, v, _ = _map_inputs(x_m, y_m, field_T, lv, positive=True)
+    info = _with_boundary_note(info, boundary_mT)
     label = boundary_label
     if boundary_mT is not None and label is None:
         label = f"{format_value(boundary_mT)} mT: controlled access area boundary"
@@ -1536,6 +1302,7 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
     if boundary_mT is not None and label is None:
         label = f"{format_value(boundary_mT)} mT: controlled access area boundary"
     vm = v * 1e3
+    info = _with_boundary_note(info, boundary_mT)
     fig = _new_figure()
     _draw_frame(fig, info, kind="section")
     ax = _setup_map_axes(fig, s, z, s_label, "z (up), m")
@@ -1597,7 +1364,7 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
         val = e.value_T * 1e3
         if e.source not in sources:
             sources.append(e.source)
-        style = (0, (7, 2, 1.5, 2))
+        style = _EXPOSURE_STYLES[i % len(_EXPOSURE_STYLES)]  # one dash pattern per line
         text = f"exposure line {e.label}"
         if finite.size and finite.min() < val < finite.max():
             cs = ax.contour(s, z, logv, levels=[math.log10(val)], colors=_EXPOSURE_COLOR,
@@ -1615,421 +1382,3 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
     _draw_key_column(fig, [h for h, _ in entries], [lb for _, lb in entries],
                      "|B| in mT", list(info.notes) + list(notes) + src_notes)
     return fig
-
-
-_CURVE_STYLES = [("#1f3b73", "-"), ("#2a9d8f", "--"), ("#6a3d9a", "-."), ("0.2", ":"),
-                 ("#b5a642", "-")]
-
-
-def curve_sheet(panels: Sequence[CurvePanel], info: SheetInfo, *,
-                notes: Sequence[str] = ()) -> Figure:
-    """A sheet of x-y plots stacked vertically (e.g. quench current and energy left).
-
-    Parameters
-    ----------
-    panels : sequence of CurvePanel
-        One panel per plot, top to bottom; axis labels carry units.
-    info : SheetInfo
-    notes : sequence of str
-        Extra notes after ``info.notes``.
-
-    Returns
-    -------
-    matplotlib.figure.Figure
-
-    Raises
-    ------
-    FringeInputError
-        No panels, a curve with mismatched or empty x and y, or log_y with y <= 0.
-    """
-    panels = list(panels)
-    if not panels:
-        raise FringeInputError(must_be("panels", "a non-empty list of CurvePanel", panels))
-    fig = _new_figure()
-    _draw_frame(fig, info, kind="curves")
-    left, bottom, width, height = _WIDE
-    n = len(panels)
-    gap = 0.07
-    h = (height - gap * (n - 1)) / n
-    entries: list = []
-    for i, p in enumerate(panels):
-        if not isinstance(p, CurvePanel) or not p.curves:
-            raise FringeInputError(must_be(f"panels[{i}]", "a CurvePanel with at least one "
-                                           "Curve", p))
-        ax = fig.add_axes((left + 0.02, bottom + (n - 1 - i) * (h + gap), width - 0.02, h),
-                          label=f"panel {i}")
-        for j, c in enumerate(p.curves):
-            xv = np.asarray(c.x, float).ravel()
-            yv = np.asarray(c.y, float).ravel()
-            if xv.size == 0 or xv.shape != yv.shape:
-                raise FringeInputError(must_be(f"panels[{i}].curves[{j}] ({c.label})",
-                                               "non-empty x and y of equal length",
-                                               f"{xv.size} and {yv.size} values"))
-            if p.log_y and np.any(yv[np.isfinite(yv)] <= 0):
-                raise FringeInputError(must_be(f"panels[{i}].curves[{j}].y ({c.label})",
-                                               "positive for a log axis", _short(yv)))
-            color, ls = _CURVE_STYLES[j % len(_CURVE_STYLES)]
-            ax.plot(xv, yv, color=color, linestyle=ls, linewidth=1.8, label=c.label)
-        for label, xm in p.marks:
-            ax.axvline(xm, color="0.3", linewidth=0.9, linestyle=(0, (4, 3)))
-            ax.annotate(label, xy=(xm, 1.0), xycoords=("data", "axes fraction"),
-                        xytext=(3, -3), textcoords="offset points", ha="left", va="top",
-                        fontsize=7.5, color="0.2", path_effects=_HALO)
-        if p.log_y:
-            ax.set_yscale("log")
-        ax.set_xlabel(p.x_label, fontsize=9)
-        ax.set_ylabel(p.y_label, fontsize=9)
-        if p.title:
-            ax.set_title(p.title, fontsize=10, loc="left", fontweight="bold")
-        ax.tick_params(labelsize=8)
-        ax.grid(True, color="0.75", linewidth=0.5)
-        ax.legend(fontsize=8, frameon=True, edgecolor="0.5", fancybox=False)
-    _draw_key_column(fig, [], [], "", list(info.notes) + list(notes))
-    del entries
-    return fig
-
-
-def _looks_numeric(s: str) -> bool:
-    return bool(re.fullmatch(r"[-+]?[\d.,]+(e[-+]?\d+)?( ?[%a-zA-Zµ°³²/·]*)?", s.strip())) \
-        and any(ch.isdigit() for ch in s)
-
-
-def table_sheet(title: str, columns: Sequence[str], rows: Sequence[Sequence[Any]],
-                info: SheetInfo, *, notes: Sequence[str] = (), font_size: float = 8.5
-                ) -> list[Figure]:
-    """A table over as many sheets as it needs (header repeated on each).
-
-    Parameters
-    ----------
-    title : str
-        Printed above the table ("(continued)" added on later sheets).
-    columns : sequence of str
-        Column headers, with units (e.g. "largest field, mT").
-    rows : sequence of sequences
-        Cell values; numbers are printed with :func:`format_value` and right-aligned;
-        long text wraps within its column.
-    info : SheetInfo
-    notes : sequence of str
-        Extra notes in the key column.
-    font_size : float
-        Cell font size, pt.
-
-    Returns
-    -------
-    list of matplotlib.figure.Figure
-        At least one sheet (an empty table prints "(no rows)").
-
-    Raises
-    ------
-    FringeInputError
-        No columns, or a row whose length differs from the header's.
-    """
-    cols = [str(c) for c in columns]
-    if not cols:
-        raise FringeInputError(must_be("columns", "a non-empty list of headers", list(columns)))
-    cells: list[list[str]] = []
-    for i, r in enumerate(rows):
-        r = list(r)
-        if len(r) != len(cols):
-            raise FringeInputError(must_be(f"rows[{i}]", f"a row of {len(cols)} cells",
-                                           f"{len(r)} cells"))
-        cells.append([_cell_text(c) for c in r])
-    left, bottom, width, height = _WIDE
-    avail_chars = _chars_for(width, font_size)
-    natural = [max([len(c)] + [max(len(w) for w in (row[j] or " ").split("\n"))
-                               for row in cells] or [1]) for j, c in enumerate(cols)]
-    natural = [max(4, min(n, 48)) for n in natural]
-    total = sum(natural) + 3 * len(cols)
-    scale = min(1.0, avail_chars / total)
-    widths = [max(4, int(n * scale)) for n in natural]
-    table_w = min(1.0, max(0.45, total / avail_chars))
-    numeric = [all(_looks_numeric(row[j]) for row in cells if row[j]) and cells
-               for j in range(len(cols))]
-    wrapped_rows = [[_wrap(row[j], widths[j]) for j in range(len(cols))] for row in cells]
-    header = [_wrap(c, widths[j]) for j, c in enumerate(cols)]
-    line_h_pt = font_size * 1.45
-    area_h_pt = (height - 0.06) * A3_LANDSCAPE_IN[1] * 72
-    header_lines = max(h.count("\n") + 1 for h in header)
-    budget = int(area_h_pt / line_h_pt) - header_lines - 2
-    pages: list[list[list[str]]] = [[]]
-    used = 0
-    for row in wrapped_rows:
-        n_lines = max(c.count("\n") + 1 for c in row)
-        if pages[-1] and used + n_lines > budget:
-            pages.append([])
-            used = 0
-        pages[-1].append(row)
-        used += n_lines
-    figs = []
-    for k, page in enumerate(pages):
-        fig = _new_figure()
-        _draw_frame(fig, info, kind="table")
-        ax = fig.add_axes((left, bottom, width, height), label="table")
-        ax.set_axis_off()
-        ax.set_xlim(0, 1)
-        ax.set_ylim(0, 1)
-        t = title + (f" (continued, part {k + 1} of {len(pages)})" if k else
-                     (f" (part 1 of {len(pages)})" if len(pages) > 1 else ""))
-        ax.text(0, 1.0, t, fontsize=12, fontweight="bold", va="top", ha="left", color=_INK)
-        lh = line_h_pt / (height * A3_LANDSCAPE_IN[1] * 72)
-        xs = table_w * np.cumsum([0] + [(w + 3) / sum(w + 3 for w in widths)
-                                         for w in widths])
-        y = 1.0 - 0.05
-        ax.plot([0, table_w], [y + 0.004, y + 0.004], color=_INK, linewidth=1.2)
-        for j, hcell in enumerate(header):
-            _table_cell(ax, xs, j, y, hcell, numeric[j], font_size, bold=True)
-        y -= header_lines * lh + 0.006
-        ax.plot([0, table_w], [y + 0.003, y + 0.003], color=_INK, linewidth=0.8)
-        if not page:
-            ax.text(0.005, y - 0.004, "(no rows)", fontsize=font_size, va="top",
-                    style="italic", color="0.3")
-        for r_i, row in enumerate(page):
-            n_lines = max(c.count("\n") + 1 for c in row)
-            if r_i % 2 == 1:
-                ax.add_patch(Rectangle((0, y - n_lines * lh - 0.001), table_w, n_lines * lh,
-                                       facecolor="0.93", edgecolor="none", zorder=0))
-            for j, c in enumerate(row):
-                _table_cell(ax, xs, j, y - 0.002, c, numeric[j], font_size, bold=False)
-            y -= n_lines * lh
-        ax.plot([0, table_w], [y - 0.002, y - 0.002], color=_INK, linewidth=1.2)
-        _draw_key_column(fig, [], [], "", list(info.notes) + list(notes))
-        figs.append(fig)
-    return figs
-
-
-def _cell_text(c: Any) -> str:
-    if c is None:
-        return ""
-    if isinstance(c, bool):
-        return "yes" if c else "no"
-    if isinstance(c, (int, np.integer)):
-        return str(int(c))
-    if isinstance(c, (float, np.floating)):
-        return format_value(float(c))
-    return str(c)
-
-
-def _table_cell(ax, xs, j, y, text, numeric, fs, *, bold):
-    # Anchor on the first line's baseline so cells with and without ascenders line up.
-    pad = 0.004
-    h_frac = fs / (_WIDE[3] * A3_LANDSCAPE_IN[1] * 72)
-    multi = "\n" in text  # matplotlib's "baseline" anchors the last line of a block
-    yb = y if multi else y - 0.95 * h_frac
-    kw = {"fontsize": fs, "color": _INK, "fontweight": "bold" if bold else "normal",
-          "linespacing": 1.3, "va": "top" if multi else "baseline"}
-    if numeric:
-        ax.text(xs[j + 1] - pad - 0.008, yb, text, ha="right", **kw)
-    else:
-        ax.text(xs[j] + pad, yb, text, ha="left", **kw)
-
-
-def cover_sheet(info: SheetInfo, key_facts: Sequence[tuple[str, str]],
-                verdict_lines: Sequence[str] = (), *, notes: Sequence[str] = (),
-                contents: Sequence[str] = ()) -> Figure:
-    """The first sheet of a set: title, key facts, findings and the advisory notice.
-
-    Parameters
-    ----------
-    info : SheetInfo
-    key_facts : sequence of (label, value)
-        E.g. ("Stored energy", "4.1 MJ"); values already formatted with units.
-    verdict_lines : sequence of str
-        Findings, one per line (e.g. "Office 1.12 (first floor): within 0.5 mT").
-        Lines containing "exceeds" (any case) come first, in bold; if the list is too
-        long for the sheet it is cut with a line pointing to the tables.
-    notes : sequence of str
-        Extra notes in the key column.
-    contents : sequence of str
-        Titles of the sheets that follow, listed in the key column as "Contents".
-
-    Returns
-    -------
-    matplotlib.figure.Figure
-
-    Raises
-    ------
-    FringeInputError
-        A key fact that is not a (label, value) pair.
-    """
-    fig = _new_figure()
-    _draw_frame(fig, info, kind="cover")
-    left, bottom, width, height = _WIDE
-    ax = fig.add_axes((left, bottom, width, height), label="cover")
-    ax.set_axis_off()
-    ax.set_xlim(0, 1)
-    ax.set_ylim(0, 1)
-    h_pt = height * A3_LANDSCAPE_IN[1] * 72
-    y = 1.0
-    ax.text(0, y, _wrap(info.site_name, 48), fontsize=22, fontweight="bold", va="top",
-            color=_INK)
-    y -= (info.site_name.count("\n") + 1 + len(info.site_name) // 48) * 30 / h_pt
-    ax.text(0, y - 0.01, _wrap(info.title, 70), fontsize=15, va="top", color=_INK)
-    y -= 0.075
-    if info.subtitle:
-        ax.text(0, y, _wrap(info.subtitle, 110), fontsize=10, va="top", color="0.25")
-        y -= 0.05
-    ax.plot([0, 1], [y, y], color=_INK, linewidth=1.2)
-    y -= 0.03
-    ax.text(0, y, "KEY FACTS", fontsize=10, fontweight="bold", va="top", color=_INK)
-    y -= 0.04
-    fs = 10.0
-    lh = fs * 1.5 / h_pt
-    for i, item in enumerate(key_facts):
-        try:
-            label, value = item
-        except (TypeError, ValueError):
-            raise FringeInputError(must_be(f"key_facts[{i}]", "a (label, value) pair",
-                                           item)) from None
-        ax.text(0.0, y, str(label), fontsize=fs, va="top", color="0.25")
-        vtext = _wrap(str(value), 70)
-        ax.text(0.36, y, vtext, fontsize=fs, va="top", color=_INK, fontweight="bold")
-        y -= lh * (vtext.count("\n") + 1) + 0.004
-    if verdict_lines:
-        y -= 0.02
-        ax.text(0, y, "FINDINGS", fontsize=10, fontweight="bold", va="top", color=_INK)
-        y -= 0.04
-        # findings that exceed come first, so none is lost if the list must be cut
-        ordered = sorted(verdict_lines, key=lambda ln: "exceeds" not in ln.lower())
-        step = 9.5 * 1.5 / h_pt
-        for k, line in enumerate(ordered):
-            bold = "exceeds" in line.lower()
-            text = _wrap(("\u25a0 " if bold else "\u25a1 ") + line, 120)
-            n_lines = text.count("\n") + 1
-            if y - step * (n_lines + 1) < 0 and k < len(ordered) - 1:
-                ax.text(0.0, y, f"... and {len(ordered) - k} more findings: see the tables",
-                        fontsize=9.5, va="top", color=_INK, style="italic")
-                break
-            ax.text(0.0, y, text, fontsize=9.5, va="top", color=_INK,
-                    fontweight="bold" if bold else "normal")
-            y -= step * n_lines + 0.003
-    _draw_key_column(fig, [], [], "", list(info.notes) + list(notes), contents=contents)
-    return fig
-
-
-# --------------------------------------------------------------------------- output
-
-
-def _flatten(figures) -> list[Figure]:
-    out: list[Figure] = []
-    for f in figures:
-        if isinstance(f, Figure):
-            out.append(f)
-        elif isinstance(f, Iterable) and not isinstance(f, (str, bytes)):
-            out.extend(_flatten(f))
-        else:
-            raise FringeInputError(must_be("figures", "matplotlib Figures (or lists of them)",
-                                           type(f).__name__))
-    return out
-
-
-def number_sheets(figures) -> list[Figure]:
-    """Write "Sheet k of n" into every title block whose sheet number was left unset.
-
-    Parameters
-    ----------
-    figures : iterable of Figure (nested lists allowed, e.g. from :func:`table_sheet`)
-
-    Returns
-    -------
-    list of Figure
-        The flattened list, in order (the figures are modified in place).
-    """
-    figs = _flatten(figures)
-    n = len(figs)
-    for k, fig in enumerate(figs, 1):
-        for t in fig.findobj(lambda a: getattr(a, "get_gid", lambda: None)()
-                             == _SHEET_NUMBER_GID + "-auto"):
-            t.set_text(f"Sheet {k} of {n}")
-    return figs
-
-
-def _usual_mode(path: Path) -> None:
-    """Give a temporary file the mode a plain ``open()`` would (mkstemp makes it 0600)."""
-    umask = os.umask(0)
-    os.umask(umask)
-    os.chmod(path, 0o666 & ~umask)
-
-
-def _save_rc() -> dict[str, Any]:
-    # Text stays text in SVG and PDF, so the advisory notice is searchable and editable.
-    return {"svg.fonttype": "none", "pdf.fonttype": 42, "svg.hashsalt": "fringe"}
-
-
-def save_figure(fig: Figure, path: str | Path, *, dpi: int = PNG_DPI) -> Path:
-    """Write one sheet to ``path`` atomically; the format follows the suffix.
-
-    Parameters
-    ----------
-    fig : matplotlib.figure.Figure
-    path : str or Path
-        Ends in ".png" (raster, ``dpi``), ".svg" or ".pdf" (vector, text kept as text).
-    dpi : int
-        PNG resolution, dots per inch (default 170: an A3 sheet is 2811 x 1987 px).
-
-    Returns
-    -------
-    Path
-        ``path``.
-
-    Raises
-    ------
-    FringeInputError
-        Unknown suffix or not a Figure.
-    FringeIOError
-        The folder does not exist.
-    """
-    path = Path(path)
-    fmt = path.suffix.lower().lstrip(".")
-    if fmt not in _SAVE_FORMATS:
-        raise FringeInputError(must_be("path", f"a file name ending in one of "
-                                       f"{['.' + f for f in _SAVE_FORMATS]}", str(path)))
-    if not isinstance(fig, Figure):
-        raise FringeInputError(must_be("fig", "a matplotlib Figure", type(fig).__name__))
-    meta: dict[str, Any] = {}
-    if fmt == "png":
-        meta = {"Software": "fringe", "Description": ADVISORY_NOTICE}
-    elif fmt == "pdf":
-        meta = {"Creator": "fringe", "Subject": ADVISORY_NOTICE}
-    elif fmt == "svg":
-        meta = {"Creator": "fringe", "Description": ADVISORY_NOTICE, "Date": None}
-    with matplotlib.rc_context(_save_rc()), atomic_file(path) as tmp:
-        fig.savefig(tmp, format=fmt, dpi=dpi, metadata=meta)
-        _usual_mode(tmp)
-    return path
-
-
-def write_pdf(figures, path: str | Path, *, title: str | None = None) -> Path:
-    """Write a sheet set to one PDF atomically, numbering unnumbered sheets "Sheet k of n".
-
-    Parameters
-    ----------
-    figures : iterable of Figure (nested lists allowed)
-    path : str or Path
-        Target ".pdf" file.
-    title : str, optional
-        PDF document title (metadata).
-
-    Returns
-    -------
-    Path
-
-    Raises
-    ------
-    FringeInputError
-        No figures, or a path not ending in ".pdf".
-    """
-    path = Path(path)
-    if path.suffix.lower() != ".pdf":
-        raise FringeInputError(must_be("path", "a file name ending in '.pdf'", str(path)))
-    figs = number_sheets(figures)
-    if not figs:
-        raise FringeInputError(must_be("figures", "at least one sheet", figs))
-    meta = {"Creator": "fringe", "Subject": ADVISORY_NOTICE}
-    if title:
-        meta["Title"] = title
-    with matplotlib.rc_context(_save_rc()), atomic_file(path) as tmp:
-        with PdfPages(tmp, metadata=meta) as pdf:
-            for fig in figs:
-                pdf.savefig(fig)
-        _usual_mode(tmp)
-    return path

@@ -64,6 +64,8 @@ def must_be(key_path: str, expectation: str, got: object) -> str:
     >>> must_be("magnet[0].coil[1].turns", "a positive number", -3)
     '`magnet[0].coil[1].turns` must be a positive number; got -3'
     """
+    if type(got).__module__ == "numpy" and hasattr(got, "item") and getattr(got, "ndim", 1) == 0:
+        got = got.item()  # np.float64(5.6) → 5.6: users never typed numpy
     try:
         text = repr(got)
     except (RecursionError, ValueError):  # deeply nested data; ints beyond str() limit

@@ -7,10 +7,11 @@ coordinates (ρ, z) only. This module replaces the direct sum over current sheet
 * **exterior zonal series** for r ≥ ``TABLE_RADIUS_FACTOR``·R_enc (R_enc: radius of the
   origin-centred sphere enclosing every winding), truncated per distance band at the
   smallest degree whose rigorous tail bound is below the tolerance;
-* **a (ρ, z) table** inside that sphere, interpolated with tensor-product cubic
-  Lagrange polynomials on a uniform mesh, with a per-cell error estimate from the
-  fourth differences of the tabulated field (cells whose stencil touches a winding
-  get an infinite estimate);
+* **a (ρ, z) table** inside that sphere, interpolated with tensor-product quintic
+  (6-point) Lagrange polynomials on a uniform mesh, with a per-cell error estimate from
+  the sixth differences of the tabulated field, replaced by a measured error (direct
+  sum at the cell centre and edge midpoints) where that estimate is near the threshold;
+  cells whose stencil reaches into a winding get an infinite estimate;
 
 and returns with every B an absolute error estimate in T. :func:`fringe.field.field_at`
 adds the estimates of all magnets and sends every point whose estimate exceeds
@@ -20,8 +21,10 @@ near zeros of the field, where the direct sum is used).
 
 Both the series moments and the table are computed from the *same current sheets* as
 the direct sum (same radial quadrature), so the fast path reproduces the direct sum,
-not some other model of the coils. Everything is cached per coil set
-(:func:`axisymmetric_model`), so moving or turning a magnet costs nothing.
+not some other model of the coils. Everything is cached per coil set, in memory and on
+disk (:func:`axisymmetric_model`), so moving or turning a magnet costs nothing.
+:func:`fast_gradient_site` gives the Jacobian of B the same way (analytic in the series,
+differentiated interpolant in the table).
 
 Series in local coordinates scaled by R_enc (x' = x/R_enc, r' = r/R_enc) with
 u = z'/r'², w = 1/r'² and the exterior solid harmonics S_l = P_l(cosθ)/r'^(l+1),
@@ -673,3 +676,170 @@ def fast_field_site_T(magnet: Magnet, points_3n: np.ndarray, order: int = DEFAUL
     bx, by, bz, err = fast_local_field(model, loc[0], loc[1], loc[2])
     b = rot @ np.stack([bx, by, bz])
     return b, err
+
+
+# -- gradient -------------------------------------------------------------------------
+
+def series_gradient_scaled(d: np.ndarray, l_max: int, x: np.ndarray, y: np.ndarray,
+                           z: np.ndarray):
+    """Exterior series of B and of its derivatives at scaled local points.
+
+    Returns ``(G, B_z, D_zz, M)`` in T (per unit scaled length for the derivatives):
+    G = B_ρ/ρ = Σ d_l F_{l+1}, B_z = Σ d_l (l+1) S_{l+1},
+    D_zz = ∂_z B_z = −Σ d_l (l+1)(l+2) S_{l+2} and M = ∂_ρ B_z/ρ = −Σ d_l (l+1) F_{l+2},
+    from ∂_z(P_l/r^(l+1)) = −(l+1) P_{l+1}/r^(l+2) and ∂_ρ(P_l/r^(l+1)) = −ρ P'_{l+1}/r^(l+3)
+    (Hobson 1931, Ch. III) applied to the terms of B. The remaining derivatives follow
+    from ∇·B = 0 and ∇×B = 0 (Jackson Eqs. 5.5, 5.22): ∂_ρB_ρ = −D_zz − G, ∂_zB_ρ = ρM.
+    """
+    w = x * x + y * y + z * z
+    np.reciprocal(w, out=w)
+    t = np.sqrt(w)
+    u = z * w
+    beta_s, beta_f, c_z, c_g = _scaled_recurrence(l_max + 1)
+    gam = c_z / (np.arange(c_z.size) + 1.0)       # γ_{l+1}
+    s_prev, s_cur = t, u * t
+    f_prev, f_cur = np.zeros_like(t), t * w
+    g = np.zeros_like(t)
+    bz = np.zeros_like(t)
+    dzz = np.zeros_like(t)
+    mm = np.zeros_like(t)
+    for l in range(1, l_max + 2):
+        s_next = u * s_cur - beta_s[l] * (w * s_prev)        # S̃_{l+1}
+        f_next = u * f_cur - beta_f[l] * (w * f_prev)        # F̃_{l+1}
+        if l <= l_max and d[l] != 0.0:
+            bz += (d[l] * c_z[l]) * s_next
+            g += (d[l] * c_g[l]) * f_next
+        k = l - 1                                            # term d_k with S_{k+2} = S_{l+1}
+        if k >= 1 and d[k] != 0.0:
+            dzz -= (d[k] * (k + 1) * (k + 2) * gam[l]) * s_next
+            mm -= (d[k] * (k + 1) * c_g[l]) * f_next
+        s_prev, s_cur = s_cur, s_next
+        f_prev, f_cur = f_cur, f_next
+    return g, bz, dzz, mm
+
+
+def _lagrange_derivative_weights(s: np.ndarray) -> list[np.ndarray]:
+    """d/ds of the Lagrange basis of :func:`_lagrange_weights`."""
+    nodes = np.arange(STENCIL) - (STENCIL // 2 - 1)
+    diffs = [s - k for k in nodes]
+    out = []
+    for k, xk in enumerate(nodes):
+        denom = np.prod([xk - xm for xm in nodes if xm != xk])
+        acc = np.zeros_like(s)
+        for m in range(STENCIL):
+            if m == k:
+                continue
+            prod = np.ones_like(s)
+            for n in range(STENCIL):
+                if n not in (k, m):
+                    prod = prod * diffs[n]
+            acc += prod
+        out.append(acc / denom)
+    return out
+
+
+def _table_field_and_derivatives(tab: _Table, rho: np.ndarray, z: np.ndarray):
+    """(B_ρ, B_z) and their ρ- and z-derivatives (per scaled length) from the table."""
+    fi = (rho - tab.rho0) * tab.inv_h
+    fj = (z - tab.z0) * tab.inv_h
+    i = fi.astype(np.intp)
+    j = fj.astype(np.intp)
+    s = fi - i
+    t = fj - j
+    lo = STENCIL // 2 - 1
+    base = (i - lo) * tab.n_z + (j - lo)
+    ws, wt = _lagrange_weights(s), _lagrange_weights(t)
+    dws, dwt = _lagrange_derivative_weights(s), _lagrange_derivative_weights(t)
+    out = np.zeros((6, rho.size))      # Bρ, Bz, ∂ρBρ, ∂ρBz, ∂zBρ, ∂zBz
+    for a in range(STENCIL):
+        for b in range(STENCIL):
+            v = tab.values[base + (a * tab.n_z + b)]
+            vr, vz = v[:, 0], v[:, 1]
+            w0 = ws[a] * wt[b]
+            wr = dws[a] * wt[b]
+            wz = ws[a] * dwt[b]
+            out[0] += w0 * vr
+            out[1] += w0 * vz
+            out[2] += wr * vr
+            out[3] += wr * vz
+            out[4] += wz * vr
+            out[5] += wz * vz
+    out[2:] *= tab.inv_h
+    return out
+
+
+def fast_gradient_local(model: AxisymmetricModel, x: np.ndarray, y: np.ndarray,
+                        z: np.ndarray):
+    """B (3, N) in T, Jacobian (3, 3, N) in T/m and error estimate of B (N,) in T.
+
+    Local frame, points scaled by R_enc. J[i, j] = ∂B_i/∂x_j. For an axisymmetric field
+    with c = x/ρ, s = y/ρ, G = B_ρ/ρ and A = ∂_ρB_ρ − G::
+
+        J_xx = G + A c², J_yy = G + A s², J_xy = A c s,
+        J_xz = ∂_zB_ρ c, J_zx = ∂_ρB_z c, (y likewise), J_zz = ∂_zB_z
+
+    (chain rule on B_x = B_ρ cos φ, B_y = B_ρ sin φ); on the axis c = 1, s = 0, G = ∂_ρB_ρ.
+    """
+    n = x.size
+    rho = np.hypot(x, y)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        c = np.where(rho > 0, x / rho, 1.0)
+        sn = np.where(rho > 0, y / rho, 0.0)
+    r2 = x * x + y * y + z * z
+    G = np.empty(n)
+    bz = np.empty(n)
+    drr = np.empty(n)      # ∂ρBρ
+    dzr = np.empty(n)      # ∂zBρ (= ∂ρBz)
+    dzz = np.empty(n)
+    err = np.empty(n)
+    in_table = r2 < TABLE_RADIUS_FACTOR**2
+    it = np.flatnonzero(in_table)
+    if it.size:
+        v = _table_field_and_derivatives(model.table, rho[it], z[it])
+        rr = rho[it]
+        tiny = rr < 1e-9
+        with np.errstate(invalid="ignore", divide="ignore"):
+            G[it] = np.where(tiny, v[2], v[0] / np.where(tiny, 1.0, rr))
+        bz[it] = v[1]
+        drr[it] = v[2]
+        dzr[it] = 0.5 * (v[3] + v[4])
+        dzz[it] = v[5]
+        err[it] = _table_field(model.table, rr, z[it])[2]
+    ie = np.flatnonzero(~in_table)
+    if ie.size:
+        xe, ye, ze, re2 = x[ie], y[ie], z[ie], r2[ie]
+        band = np.searchsorted(model.band_edges_sq, re2, side="right") - 1
+        L = int(model.band_lmax[max(int(band.min()), 0)])
+        g_, bz_, dzz_, m_ = series_gradient_scaled(model.d, L, xe, ye, ze)
+        G[ie] = g_
+        bz[ie] = bz_
+        dzz[ie] = dzz_
+        drr[ie] = -dzz_ - g_
+        dzr[ie] = rho[ie] * m_
+        k0 = max(int(band.min()), 0)
+        err[ie] = model.band_err[k0] * _power_half(model.band_edges_sq[k0] / re2, L + 3)
+    A = drr - G
+    inv = 1.0 / model.scale_m
+    J = np.empty((3, 3, n))
+    J[0, 0] = G + A * c * c
+    J[1, 1] = G + A * sn * sn
+    J[0, 1] = J[1, 0] = A * c * sn
+    J[0, 2] = J[2, 0] = dzr * c
+    J[1, 2] = J[2, 1] = dzr * sn
+    J[2, 2] = dzz
+    J *= inv
+    B = np.stack([G * x, G * y, bz])
+    return B, J, err
+
+
+def fast_gradient_site(magnet: Magnet, points_3n: np.ndarray, order: int = DEFAULT_RADIAL_ORDER,
+                       panels: int | None = None):
+    """Site-frame B (3, N) T, Jacobian (3, 3, N) T/m and B's error estimate (N,) T."""
+    model = axisymmetric_model(tuple(magnet.coils), int(order), panels)
+    rot = magnet.rotation.as_matrix()
+    c = np.asarray(magnet.center_m)[:, None]
+    loc = (rot.T / model.scale_m) @ (points_3n - c)
+    B, J, err = fast_gradient_local(model, loc[0], loc[1], loc[2])
+    b = rot @ B
+    js = np.einsum("ia,abn,jb->ijn", rot, J, rot)
+    return b, js, err

@@ -226,3 +226,33 @@ def test_probe_interrupted_mid_write_keeps_output_and_cleans_up(tmp_path):
     assert "interrupted; no output was changed" in err and "Traceback" not in err
     assert out.read_bytes() == OLD
     assert sorted(os.listdir(tmp_path)) == ["big.npy", "field.csv"]  # temporary removed
+
+
+def test_report_killed_mid_write_keeps_previous_report(tmp_path):
+    """``fringe report`` builds its folder aside; SIGKILL while it writes leaves the old one."""
+    from test_bad_input_plan import PLAN_TOML
+
+    scen = tmp_path / "site.toml"
+    scen.write_text(PLAN_TOML, encoding="utf-8")
+    out = _old_folder(tmp_path)
+    before = _snapshot(out)
+    env = {k: v for k, v in os.environ.items() if k != "FRINGE_DEBUG"}
+    proc = subprocess.Popen([sys.executable, "-m", "fringe.cli", "report", str(scen),
+                             "--out", str(out), "--quiet"],
+                            stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True,
+                            env=env)
+    deadline = time.monotonic() + 240
+    caught = False
+    while time.monotonic() < deadline and proc.poll() is None:
+        partial = [p for p in tmp_path.iterdir() if p.name.startswith(".report.partial.")]
+        if partial and any(partial[0].iterdir()):
+            proc.send_signal(signal.SIGKILL)
+            caught = True
+            break
+        time.sleep(0.005)
+    proc.wait(timeout=60)
+    if not caught:
+        pytest.fail(f"never caught the report mid-write (exit {proc.returncode}): "
+                    f"{proc.stderr.read()}")
+    assert proc.returncode == -signal.SIGKILL
+    assert _snapshot(out) == before  # every old file, byte for byte, and nothing new

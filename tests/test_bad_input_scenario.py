@@ -223,3 +223,44 @@ def test_good_file_variants_load_alike(transform, write_file, run_cli):
     assert site.magnets == ref.magnets
     p = np.array([[0.5, 0.2, 1.3]])
     assert np.array_equal(field_at(site, p), field_at(ref, p))  # same model, same numbers
+
+
+# -- accepted input that must not hang ---------------------------------------------------
+
+class _CpuTimeout(Exception):
+    pass
+
+
+def _cpu_limited(fn, seconds: float):
+    """Run ``fn()`` but raise _CpuTimeout after ``seconds`` of this process's CPU time."""
+    import signal
+
+    def handler(signum, frame):
+        raise _CpuTimeout
+
+    old = signal.signal(signal.SIGVTALRM, handler)
+    signal.setitimer(signal.ITIMER_VIRTUAL, seconds)
+    try:
+        return fn()
+    finally:
+        signal.setitimer(signal.ITIMER_VIRTUAL, 0)
+        signal.signal(signal.SIGVTALRM, old)
+
+
+@pytest.mark.xfail(strict=True, raises=_CpuTimeout, reason=(
+    "BUG fringe/quadrature.py (near/inside rule): a coil with r_inner_m = 0 (accepted by the "
+    "scenario: a solid disc winding) puts quadrature nodes at r = 0, so magpylib's kernel "
+    "gets h/r = inf and its cel() iteration never converges: field_at(method='direct') "
+    "hangs for a point on the axis inside the winding, and method='auto' hangs near it. "
+    "`fringe probe` / `fringe report` on such a scenario never return"))
+def test_solid_coil_field_on_axis_finishes():
+    from fringe.coils import Coil, Magnet
+    from fringe.energy import center_field_T
+    from fringe.field import field_at
+
+    m = Magnet("disc", (0.0, 0.0, 0.0), (0.0, 0.0, 1.0),
+               (Coil(0.0, 0.1, -0.05, 0.05, 100.0, 10.0),))
+    b = _cpu_limited(lambda: field_at(m, [0.0, 0.0, 0.0], method="direct"), 3.0)
+    # closed-form centre field of a thick coil (Jackson Sec. 5.5); inside-winding
+    # quadrature is of lower accuracy, so 1 % (common practice, no source)
+    assert b[0, 2] == pytest.approx(center_field_T(m), rel=1e-2)

@@ -148,6 +148,10 @@ def test_scale_bar_spans_its_stated_length(plan_fig):
     seg_px = ax.transData.transform([(segs[0].get_x(), 0), (segs[0].get_x() + span_m, 0)])
     assert np.diff(seg_px[:, 0]) == pytest.approx(np.diff(px[:, 0]))
     assert ax.get_aspect() == 1.0
+    # the printed ratio: metres of site per metre of A3 paper across the drawing
+    ratio = float(texts_with_gid(plan_fig, "scale-ratio")[0].get_text().split("1:")[1].split()[0])
+    width_m_paper = ax.get_position().width * plan_fig.get_figwidth() * 0.0254
+    assert ratio == pytest.approx(np.ptp(ax.get_xlim()) / width_m_paper, abs=0.5)
 
 
 def test_every_sheet_kind_carries_title_block_and_advisory():
@@ -324,8 +328,10 @@ def test_save_figure_rejects_unknown_suffix_and_missing_folder(tmp_path):
 
 def test_drawing_module_knows_nothing_of_the_field_engine():
     # DESIGN.md: outputs know nothing of magpylib; no pyplot global state
-    src = Path(d.__file__).read_text(encoding="utf-8")
+    from fringe import sheets
+
     names = set()
+    src = "\n".join(Path(m.__file__).read_text(encoding="utf-8") for m in (d, sheets))
     for node in ast.walk(ast.parse(src)):
         if isinstance(node, ast.Import):
             names.update(a.name for a in node.names)
@@ -374,3 +380,62 @@ def test_cover_puts_exceeding_findings_first_and_cuts_long_lists():
     more = [t for t in texts if t.startswith("... and ")]
     assert len(more) == 1
     assert int(more[0].split()[2]) == len(lines) - len(shown)
+
+
+def test_tables_sheets_share_sheets_and_continue_long_tables():
+    small = [(f"Table {k}", ["name", "value, mT"], [(f"t{k}-r{i}", 0.1 * i) for i in range(5)])
+             for k in range(3)]
+    figs = d.tables_sheets(small, INFO)
+    assert len(figs) == 1
+    assert {"Table 0", "Table 1", "Table 2"} <= set(all_text(figs[0]))
+    long = ("Long", ["name", "verdict"], [(f"row-{i:03d}", "exceeds" if i == 7 else "ok")
+                                          for i in range(150)])
+    figs = d.tables_sheets([*small, long], INFO)
+    assert len(figs) >= 3
+    texts = [t for f in figs for t in all_text(f)]
+    assert sorted(t for t in texts if t.startswith("row-")) == \
+        [f"row-{i:03d}" for i in range(150)]
+    assert "Long (continued)" in texts
+    from matplotlib.text import Text
+
+    row7 = [t for f in figs for t in f.findobj(Text) if t.get_text() == "row-007"]
+    assert row7[0].get_fontweight() in ("bold", 700)  # the exceeding row is set bold
+    with pytest.raises(FringeInputError, match=r"^`tables\[1\]\.rows\[0\]` must be a row"):
+        d.tables_sheets([small[0], ("bad", ["a", "b"], [(1,)])], INFO)
+
+
+def test_long_notes_stay_above_the_title_block():
+    notes = [f"note {i}: " + "a long explanation of an assumption " * 4 for i in range(40)]
+    fig = d.cover_sheet(INFO, [("a", "b")], notes=notes)
+    r_ = fig.canvas.get_renderer()
+    body = texts_with_gid(fig, "fringe-notes")[0]
+    title_ax = next(a for a in fig.axes if a.get_label() == "title block")
+    assert body.get_window_extent(r_).y0 >= title_ax.get_window_extent(r_).y1
+    assert body.get_text().splitlines()[-1].endswith("more notes in the report")
+
+
+def test_icnirp_2009_exposure_line_values():
+    # ICNIRP (2009) Health Phys. 96(4):504-514, Table 1: 400 mT general public;
+    # 2 T occupational head and trunk; 8 T occupational limbs
+    values = {round(e.value_T, 9) for e in d.ICNIRP_2009_EXPOSURE_LINES}
+    assert values == {0.4, 2.0, 8.0}
+    assert all("ICNIRP (2009)" in e.source for e in d.ICNIRP_2009_EXPOSURE_LINES)
+
+
+def test_sheet_info_date_and_default_boundary_note():
+    with pytest.raises(FringeInputError, match=r"^`date_iso` must be an ISO 8601 date"):
+        d.SheetInfo(site_name="S", title="T", date_iso="02/12/2026")
+    assert d.SheetInfo(site_name="S", title="T", date_iso="2026-12-02T01:00:00Z")
+    x, y, f = plan_grid(21, 11)
+    fig = d.plan_sheet(x, y, f, d.SheetInfo(site_name="S", title="T"), boundary_mT=0.9)
+    assert "Controlled access area boundary: 0.9 mT (source not given)" in norm(
+        " ".join(all_text(fig)))
+
+
+def test_key_says_when_the_boundary_is_not_reached():
+    x, y, f = plan_grid(21, 11)
+    fig = d.plan_sheet(x, y, np.full_like(f, 1e-5), INFO)  # 0.01 mT everywhere
+    legend = [t.get_text() for leg in fig.findobj(lambda a: a.__class__.__name__ == "Legend")
+              for t in leg.get_texts()]
+    assert "0.5 mT: controlled access area boundary (not reached on this sheet)" in \
+        [norm(t) for t in legend]

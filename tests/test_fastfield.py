@@ -254,3 +254,49 @@ def test_disk_cache_round_trip(tmp_path, monkeypatch):
     np.testing.assert_array_equal(field_at(m, pts), built)
     assert not list(tmp_path.glob("model-*.npz"))
     fastfield.axisymmetric_model.cache_clear()
+
+
+@pytest.mark.parametrize("name", ["demo-shielded", "lab"])
+def test_gradient_matches_differences_of_the_direct_sum(magnets, name):
+    # Source: consistency with central differences of the direct sum (fringe.field);
+    # outside windings J must also be symmetric and traceless: ∇×B = 0 and ∇·B = 0
+    # (Jackson, 3rd ed., Eqs. 5.22 and 5.5).
+    from fringe.field import field_gradient_at, points_in_windings
+
+    m = magnets[name]
+    pts = random_points(m, 600, seed=21, r_min_factor=0.05, r_max_factor=40.0)
+    pts = pts[~points_in_windings(m, pts, margin_m=0.02 * m.enclosing_radius_m)]
+    b, jac = field_gradient_at(m, pts)
+    b_ref, jac_ref = field_gradient_at(m, pts, method="direct")
+    # gradient scale: |J| plus |B|/R_enc (near the isocentre the field is nearly uniform,
+    # J → 0, and interpolation noise of ~1e-7 |B| dominates a purely relative measure)
+    size = (np.linalg.norm(jac_ref, axis=(1, 2))
+            + np.linalg.norm(b_ref, axis=1) / m.enclosing_radius_m)
+    assert np.max(np.linalg.norm(jac - jac_ref, axis=(1, 2)) / size) < 1e-3
+    assert rel_err(b, b_ref).max() <= TOL
+    assert np.max(np.abs(np.trace(jac, axis1=1, axis2=2)) / size) < 1e-3
+    assert np.max(np.linalg.norm(jac - jac.transpose(0, 2, 1), axis=(1, 2)) / size) < 1e-3
+
+
+def test_gradient_of_the_far_field_is_the_dipole_gradient():
+    # Source: gradient of the dipole field B = μ0/4π (3(m·r̂)r̂ − m)/r³ (Jackson Eq. 5.56),
+    # differentiated analytically: ∂_j B_i = 3μ0/(4π r⁴)[m_j r̂_i + m_i r̂_j + (m·r̂)(δ_ij
+    # − 5 r̂_i r̂_j)] (next multipole smaller by (a/r)² ~ 1e-5 at r = 300 a).
+    from fringe.field import field_gradient_at
+
+    a, current = 0.2, 40.0
+    loop = Magnet("loop", (0.0, 0.0, 0.0), (0.0, 0.0, 1.0),
+                  (Coil(a - 1e-6, a + 1e-6, -1e-6, 1e-6, 1.0, current),))
+    rng = np.random.default_rng(9)
+    d = rng.normal(size=(40, 3))
+    d /= np.linalg.norm(d, axis=1)[:, None]
+    r = 300 * a
+    _, jac = field_gradient_at(loop, d * r)
+    mom = np.array([0.0, 0.0, current * math.pi * a**2])
+    mr = d @ mom
+    eye = np.eye(3)
+    exp = 3 * MU0 / (4 * math.pi * r**4) * (
+        np.einsum("j,ni->nij", mom, d) + np.einsum("i,nj->nij", mom, d)
+        + mr[:, None, None] * (eye[None] - 5 * np.einsum("ni,nj->nij", d, d)))
+    err = np.linalg.norm(jac - exp, axis=(1, 2)) / np.linalg.norm(exp, axis=(1, 2))
+    assert err.max() < 1e-4
