@@ -449,6 +449,7 @@ def axisymmetric_model(coils: tuple[Coil, ...], order: int = DEFAULT_RADIAL_ORDE
     direct evaluation of the table nodes inside ~1.3 R_enc (about 1–2 s for the 64-sheet
     demo magnet).
     """
+    _memory_keys.add((tuple(coils), int(order), panels))
     key = _cache_key(coils, order, panels)
     cached = _load_cached(key)
     if cached is not None:
@@ -669,13 +670,72 @@ def fast_field_site_T(magnet: Magnet, points_3n: np.ndarray, order: int = DEFAUL
     error_T : ndarray, shape (N,)
         Estimated absolute error in T (``inf`` where the fast path does not apply).
     """
-    model = axisymmetric_model(tuple(magnet.coils), int(order), panels)
+    model, amps = _model_and_scale(magnet.coils, order, panels)
     rot = magnet.rotation.as_matrix()            # local → site
     c = np.asarray(magnet.center_m)[:, None]
     loc = (rot.T / model.scale_m) @ (points_3n - c)   # (3, N), scaled local
     bx, by, bz, err = fast_local_field(model, loc[0], loc[1], loc[2])
-    b = rot @ np.stack([bx, by, bz])
+    b = (rot * amps) @ np.stack([bx, by, bz])
+    if amps != 1.0:
+        err *= abs(amps)
     return b, err
+
+
+#: A coil set gets its fast model once this many points have been asked of it (or at
+#: once if the model is already cached): building costs about as much as the direct sum
+#: at ~2·10⁴ points, so a handful of points on a new coil set (a fit, a probe) stays on
+#: the direct sum.
+BUILD_AFTER_POINTS: int = 20_000
+_demand: dict[str, int] = {}
+
+
+def _normalised(coils) -> tuple[tuple[Coil, ...], float]:
+    """Coils with currents divided by the first non-zero current, and that current (A).
+
+    B is linear in the currents, so coil sets differing only by a common current factor
+    (e.g. a ramped or scaled magnet) share one model.
+    """
+    amps = next((c.current_A for c in coils if c.current_A != 0.0), 1.0)
+    if amps == 1.0:
+        return tuple(coils), 1.0
+    return tuple(Coil(c.r_inner_m, c.r_outer_m, c.z_min_m, c.z_max_m, c.turns,
+                      c.current_A / amps) for c in coils), float(amps)
+
+
+def _model_and_scale(coils, order, panels) -> tuple[AxisymmetricModel, float]:
+    norm, amps = _normalised(coils)
+    return axisymmetric_model(norm, int(order), panels), amps
+
+
+def model_wanted(coils, n_points: int, order: int = DEFAULT_RADIAL_ORDER,
+                 panels: int | None = None) -> bool:
+    """Whether the fast path should serve ``n_points`` more points of this coil set.
+
+    True if the model is in memory or in the disk cache, or once the points asked of
+    this coil set in this process reach :data:`BUILD_AFTER_POINTS`.
+    """
+    norm, _ = _normalised(coils)
+    args = (norm, int(order), panels)
+    if _in_memory(args):
+        return True
+    key = _cache_key(*args)
+    total = _demand.get(key, 0) + int(n_points)
+    _demand[key] = total
+    if total >= BUILD_AFTER_POINTS:
+        return True
+    d = _cache_dir()
+    return d is not None and (d / f"model-{key}.npz").is_file()
+
+
+def _in_memory(args) -> bool:
+    """True if :func:`axisymmetric_model` already holds these arguments."""
+    try:
+        return args in _memory_keys
+    except TypeError:
+        return False
+
+
+_memory_keys: set = set()
 
 
 # -- gradient -------------------------------------------------------------------------
@@ -835,11 +895,11 @@ def fast_gradient_local(model: AxisymmetricModel, x: np.ndarray, y: np.ndarray,
 def fast_gradient_site(magnet: Magnet, points_3n: np.ndarray, order: int = DEFAULT_RADIAL_ORDER,
                        panels: int | None = None):
     """Site-frame B (3, N) T, Jacobian (3, 3, N) T/m and B's error estimate (N,) T."""
-    model = axisymmetric_model(tuple(magnet.coils), int(order), panels)
+    model, amps = _model_and_scale(magnet.coils, order, panels)
     rot = magnet.rotation.as_matrix()
     c = np.asarray(magnet.center_m)[:, None]
     loc = (rot.T / model.scale_m) @ (points_3n - c)
     B, J, err = fast_gradient_local(model, loc[0], loc[1], loc[2])
-    b = rot @ B
-    js = np.einsum("ia,abn,jb->ijn", rot, J, rot)
-    return b, js, err
+    b = amps * (rot @ B)
+    js = amps * np.einsum("ia,abn,jb->ijn", rot, J, rot)
+    return b, js, abs(amps) * err

@@ -120,7 +120,9 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
         error estimate, summed over magnets, is below
         ``RELATIVE_TOLERANCE / SAFETY_FACTOR`` (1e-4 / 4) of the local |B|, and the
         direct sum elsewhere (near and inside windings, near zeros of |B|). The result
-        is within 1e-4 of the direct sum relative to |B| at every point.
+        is within 1e-4 of the direct sum relative to |B| at every point. A coil set not
+        seen before is summed directly until 2·10⁴ points have been asked of it in this
+        process (building its model costs about that much), unless its model is cached.
     chunk_size : int
         Points evaluated at once; peak memory is independent of N beyond the output.
     **options
@@ -139,12 +141,12 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
     if not isinstance(chunk_size, (int, np.integer)) or chunk_size < 1:
         raise FringeInputError(f"`chunk_size` must be a positive integer; got {chunk_size!r}")
     out = np.zeros_like(p)
-    fast = method == "auto" and options.get("refine", True) and len(mags) > 0
+    fast = _fast_flags(mags, len(p), method, options)
     fallback: list[np.ndarray] = []
     for a in range(0, len(p), chunk_size):
         sl = slice(a, a + chunk_size)
-        if fast:
-            out[sl], bad = _fast_chunk(mags, p[sl], options)
+        if any(fast):
+            out[sl], bad = _fast_chunk(mags, fast, p[sl], options)
             if bad.size:
                 fallback.append(bad + a)
         else:
@@ -161,8 +163,21 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
     return out
 
 
-def _fast_chunk(mags, p: np.ndarray, options: dict) -> tuple[np.ndarray, np.ndarray]:
-    """Fast path on one chunk: B (n, 3) and the indices whose error estimate is too large."""
+def _fast_flags(mags, n_points: int, method: str, options: dict) -> list[bool]:
+    """Per magnet: use the fast path for this call? (see fastfield.model_wanted)."""
+    if method != "auto" or not options.get("refine", True) or n_points == 0:
+        return [False] * len(mags)
+    from .fastfield import model_wanted
+
+    order = options.get("order", DEFAULT_RADIAL_ORDER)
+    return [model_wanted(m.coils, n_points, order, options.get("panels")) for m in mags]
+
+
+def _fast_chunk(mags, fast, p: np.ndarray, options: dict) -> tuple[np.ndarray, np.ndarray]:
+    """Fast path on one chunk: B (n, 3) and the indices whose error estimate is too large.
+
+    Magnets not flagged in ``fast`` are summed directly (error estimate 0).
+    """
     from .fastfield import RELATIVE_TOLERANCE, SAFETY_FACTOR, fast_field_site_T
 
     order = options.get("order", DEFAULT_RADIAL_ORDER)
@@ -170,10 +185,13 @@ def _fast_chunk(mags, p: np.ndarray, options: dict) -> tuple[np.ndarray, np.ndar
     pts = np.ascontiguousarray(p.T)
     b = np.zeros_like(pts)
     err = np.zeros(pts.shape[1])
-    for m in mags:
-        bm, em = fast_field_site_T(m, pts, order, panels)
-        b += bm
-        err += em
+    for m, use in zip(mags, fast, strict=True):
+        if use:
+            bm, em = fast_field_site_T(m, pts, order, panels)
+            b += bm
+            err += em
+        else:
+            b += _magnet_field_site_T(m, p, **options).T
     b_abs = np.sqrt(np.einsum("ij,ij->j", b, b))
     bad = np.flatnonzero(~(err <= (RELATIVE_TOLERANCE / SAFETY_FACTOR) * b_abs))
     return b.T, bad
@@ -219,7 +237,8 @@ def field_gradient_at(site, points_m, *, method: str = "auto", chunk_size: int =
     B = np.zeros((n, 3))
     J = np.zeros((n, 3, 3))
     fallback: list[np.ndarray] = []
-    if method == "auto" and mags:
+    fast = _fast_flags(mags, 7 * n, method, options)
+    if all(fast) and mags:
         from .fastfield import RELATIVE_TOLERANCE, SAFETY_FACTOR, fast_gradient_site
 
         order = options.get("order", DEFAULT_RADIAL_ORDER)

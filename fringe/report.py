@@ -606,27 +606,29 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
                   next((a for t, a in c.area_above_m2
                         if math.isclose(t, r.boundary.value_mT, rel_tol=1e-9)), 0.0)]
                  for c in r.rooms]
-    tables = [dr.table_sheet("Rooms", ["room", "floor", "access", "largest field, mT",
-                                       "limit, mT", "verdict",
-                                       f"area above {r.boundary.value_mT:g} mT, m²"],
-                             room_rows, info_t)]
+    tables = [("Rooms", ["room", "floor", "access", "largest field, mT", "limit, mT",
+                         "verdict", f"area above {r.boundary.value_mT:g} mT, m²"], room_rows)]
     if r.equipment:
-        tables.append(dr.table_sheet(
+        tables.append((
             "Equipment", ["equipment", "floor", "x, m", "y, m", "z, m", "field, mT",
                           "limit, mT", "verdict", "note"],
             [[e.name, e.floor, *e.position_m, e.field_T * 1e3, e.limit_T * 1e3, e.verdict,
-              e.note] for e in r.equipment], info_t))
-    tables.append(dr.table_sheet(
+              e.note] for e in r.equipment]))
+    tables.append((
         "Field-line extents of each magnet alone (outermost crossing)",
         ["magnet", "threshold, mT", "along the axis, m", "across the axis, m"],
-        [[m.name, t, a, rr] for m in r.magnets for t, a, rr in m.boundaries], info_t))
-    tables.append(dr.table_sheet(
+        [[m.name, t, a, rr] for m in r.magnets for t, a, rr in m.boundaries]))
+    tables.append((
+        "Magnets: stored energy and dipole moment",
+        ["magnet", "centre field, T", "stored energy, MJ", "dipole moment, A·m²", "model"],
+        [[m.name, m.center_field_T, m.stored_energy_J / 1e6, m.dipole_moment_Am2,
+          "coils from the scenario" if m.origin == "coils" else m.origin] for m in r.magnets]))
+    tables.append((
         "Footprint areas per floor",
         ["floor", "threshold, mT", "area, m²", "area from sampled levels only, m²",
          "reaches drawing edge"],
         [[fp.floor, fp.threshold_mT, fp.area_m2, fp.sampled_area_m2,
-          "yes" if fp.clipped else "no"] for fps in r.footprints.values() for fp in fps],
-        info_t))
+          "yes" if fp.clipped else "no"] for fps in r.footprints.values() for fp in fps]))
     # energy density (fringe.energy) and quench budgets (fringe.quench)
     if r.site is not None:
         from .cmd_energy import energy_density_sheets
@@ -638,7 +640,7 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
 
         say(f"drawing the quench release budget of {b.magnet!r}")
         sheets.extend((None, f) for f in quench_sheets(b, r.site_name, date_iso=date))
-    return sheets + [(None, f) for t in tables for f in t]
+    return sheets + [(None, f) for f in dr.tables_sheets(tables, info_t)]
 
 
 def _write_drawings(r: ReportResult, folder: Path, say) -> None:

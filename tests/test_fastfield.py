@@ -64,6 +64,15 @@ def random_points(magnet: Magnet, n: int, seed: int, r_min_factor=0.02, r_max_fa
     return magnet.to_site(d * r[:, None])
 
 
+@pytest.fixture(autouse=True)
+def always_fast(monkeypatch):
+    """Exercise the fast path even for the few points of a test (normally a new coil set
+    is summed directly until 2·10⁴ points have been asked of it)."""
+    from fringe import fastfield
+
+    monkeypatch.setattr(fastfield, "BUILD_AFTER_POINTS", 0)
+
+
 @pytest.fixture(scope="module")
 def magnets(demo_site):
     return {"demo-shielded": demo_site.magnets[0], "unshielded": unshielded_solenoid(),
@@ -300,3 +309,30 @@ def test_gradient_of_the_far_field_is_the_dipole_gradient():
         + mr[:, None, None] * (eye[None] - 5 * np.einsum("ni,nj->nij", d, d)))
     err = np.linalg.norm(jac - exp, axis=(1, 2)) / np.linalg.norm(exp, axis=(1, 2))
     assert err.max() < 1e-4
+
+
+def test_few_points_on_a_new_coil_set_use_the_direct_sum(monkeypatch, tmp_path):
+    # common practice, no source: building a model costs about 2·10⁴ direct points, so
+    # a handful of points on an unseen coil set (a fit iteration) is summed directly, and
+    # the model is built once the points asked of that coil set pass the threshold.
+    from fringe import fastfield
+
+    monkeypatch.setattr(fastfield, "BUILD_AFTER_POINTS", 1000)
+    monkeypatch.setenv("FRINGE_CACHE_DIR", str(tmp_path))
+    m = Magnet("new", (0.0, 0.0, 0.0), (0.0, 0.0, 1.0),
+               (Coil(0.0151, 0.0172, -0.031, 0.029, 123, 1.7),))
+    pts = random_points(m, 600, seed=30, r_min_factor=2.0)
+    np.testing.assert_array_equal(field_at(m, pts), field_at(m, pts, method="direct"))
+    assert not list(tmp_path.glob("model-*.npz"))           # nothing built yet
+    b = field_at(m, pts)                                      # 1200 points asked: build
+    assert len(list(tmp_path.glob("model-*.npz"))) == 1
+    assert rel_err(b, field_at(m, pts, method="direct")).max() <= TOL
+
+
+def test_scaled_currents_share_one_model(magnets):
+    # Source: B is linear in the currents (Biot-Savart); a magnet with all currents
+    # scaled by −2.5 reuses the unit-current model and gives −2.5 × the field.
+    m = magnets["unshielded"]
+    pts = random_points(m, 300, seed=31)
+    np.testing.assert_allclose(field_at(m.scaled(-2.5), pts), -2.5 * field_at(m, pts),
+                               rtol=1e-12, atol=1e-18)
