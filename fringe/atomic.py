@@ -17,7 +17,8 @@ from pathlib import Path
 
 from .errors import FringeIOError
 
-__all__ = ["atomic_file", "atomic_directory", "write_text_atomic", "write_bytes_atomic"]
+__all__ = ["atomic_file", "atomic_directory", "write_text_atomic", "write_bytes_atomic",
+           "check_output_folder"]
 
 
 def _default_file_mode() -> int:
@@ -111,3 +112,31 @@ def atomic_directory(path: str | Path) -> Iterator[Path]:
         raise FringeIOError(f"{path}: cannot replace it ({e.strerror or e})") from None
     if old is not None:
         shutil.rmtree(old, ignore_errors=True)
+
+
+def check_output_folder(out_dir: str | Path, *, scenario_file: str = "", marker: str) -> None:
+    """Refuse an output folder that :func:`atomic_directory` must not replace.
+
+    An output folder is replaced whole, so it must be new, empty, or a previous output of
+    the same command (recognised by the file ``marker`` in it). It must not hold the
+    scenario file, nor be the current folder or one above it.
+
+    Raises
+    ------
+    FringeIOError
+        Naming ``--out`` and what it holds.
+    """
+    out = Path(out_dir)
+    if not out.exists():
+        return
+    if not out.is_dir():
+        raise FringeIOError(f"`--out` must be a folder; {out} is a file")
+    res = out.resolve()
+    if scenario_file and Path(scenario_file).resolve().is_relative_to(res):
+        raise FringeIOError(f"`--out` must not hold the scenario file; got {out}")
+    cwd = Path.cwd().resolve()
+    if res == cwd or res in cwd.parents:
+        raise FringeIOError(f"`--out` must not be the current folder or one above it; got {out}")
+    if any(out.iterdir()) and not (out / marker).is_file():
+        raise FringeIOError(f"`--out` must be a new or empty folder or a previous output "
+                            f"(it is replaced whole); {out} holds other files")

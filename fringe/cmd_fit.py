@@ -8,7 +8,7 @@ import warnings
 from .atomic import write_text_atomic
 from .constants import ADVISORY_NOTICE
 from .errors import FringeInputError, FringeWarning, ScenarioError
-from .fit import FieldLine, FitResult, fit_magnet
+from .fit import MAX_CENTER_FIELD_T, FieldLine, FitResult, fit_magnet
 
 __all__ = ["register", "run", "magnet_toml"]
 
@@ -97,6 +97,9 @@ def run(args) -> int:
                     ("--axial-m", args.axial_m), ("--threshold-mT", args.threshold_mT)):
         if not (v > 0 and v < float("inf")):
             raise ScenarioError(f"`{flag}` must be a positive number; got {v!r}")
+    if args.center_field_T > MAX_CENTER_FIELD_T:
+        raise ScenarioError(f"`--center-field-T` must be at most {MAX_CENTER_FIELD_T:g} T (no "
+                            f"magnet family here reaches beyond); got {args.center_field_T!r}")
     if args.bore_m is not None and not (0 < args.bore_m < float("inf")):
         raise ScenarioError(f"`--bore-m` must be a positive number; got {args.bore_m!r}")
     if args.threshold_mT * 1e-3 >= args.center_field_T:

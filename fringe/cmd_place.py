@@ -307,10 +307,11 @@ def placement_sheet(site, result, equipment: list[dict]):
 
 def write_outputs(site, result, equipment, doc: dict, out_dir: str | Path) -> list[str]:
     """Write place.json, best-magnet.toml and place-plan.png/.svg atomically."""
-    from .atomic import atomic_directory
+    from .atomic import atomic_directory, check_output_folder
     from .drawing import save_figure
     from .place import magnet_toml
 
+    check_output_folder(out_dir, scenario_file=site.source_file, marker="place.json")
     fig = placement_sheet(site, result, equipment)
     with atomic_directory(out_dir) as tmp:
         (tmp / "place.json").write_text(json.dumps(doc, indent=2, ensure_ascii=False)
@@ -333,6 +334,15 @@ def run(args) -> int:
         raise ScenarioError(must_be("--threshold-mT", "a positive number of mT",
                                     args.threshold_mT))
     site = load_site(args.scenario)
+    if args.out:  # refuse a folder we must not replace before spending time on the search
+        from .atomic import check_output_folder
+        from .place import parse_region
+        from .plan_scenario import site_plan
+
+        magnet = site.magnet(args.magnet)  # the usual errors first: magnet, then region
+        plan = site_plan(site)
+        parse_region(args.region, plan, plan.floor_of_point(magnet.center_m[2]))
+        check_output_folder(args.out, scenario_file=site.source_file, marker="place.json")
     say = _progress(args.quiet or args.json)
     result = search_placement(site, args.magnet, args.region, angles, args.threshold_mT,
                               progress=say)

@@ -28,7 +28,7 @@ import warnings
 from functools import lru_cache
 
 from .errors import FringeWarning
-from .fit import FieldLine, FitResult, fit_magnet
+from .fit import MAX_CENTER_FIELD_T, FieldLine, FitResult, fit_magnet
 from .scenario import MAGNET_BUILDERS, Reader
 
 __all__ = ["datasheet_description", "parse_datasheet", "DATASHEET_KEY", "ORIGIN"]
@@ -63,7 +63,7 @@ def _cached_fit(center_field_T: float, lines: tuple[tuple[float, float, float], 
 def parse_datasheet(r: Reader, name: str):
     """Builder for ``MAGNET_BUILDERS["datasheet"]``: returns (coils, description, origin)."""
     d = r.table(DATASHEET_KEY)
-    b0 = d.number("center_field_T", low=0.0, low_open=True, high=50.0)
+    b0 = d.number("center_field_T", low=0.0, low_open=True, high=MAX_CENTER_FIELD_T)
     shielded = d.boolean("shielded", True)
     bore = d.number("warm_bore_m", None, low=0.0, low_open=True, high=5.0)
     lrs = d.tables("line")

@@ -86,10 +86,24 @@ def magnet_field_local_T(magnet: Magnet, rho_m: np.ndarray, z_m: np.ndarray,
     z = np.asarray(z_m, dtype=float).ravel()
     b_rho = np.zeros(rho.size)
     b_z = np.zeros(rho.size)
-    for coil in magnet.coils:
-        br, bz = coil_field_local_T(coil, rho, z, order, panels, refine)
-        b_rho += br
-        b_z += bz
+    with np.errstate(divide="ignore", invalid="ignore"):
+        for coil in magnet.coils:
+            br, bz = coil_field_local_T(coil, rho, z, order, panels, refine)
+            b_rho += br
+            b_z += bz
+        # A point exactly on a winding's corner or end edge meets a sheet end where the
+        # closed-form kernel divides by zero. B is continuous there (volume current), so
+        # evaluate 1e-9 R_enc away instead.
+        bad = np.flatnonzero(~(np.isfinite(b_rho) & np.isfinite(b_z)))
+        if bad.size:
+            eps = 1e-9 * magnet.enclosing_radius_m
+            b_rho[bad] = 0.0
+            b_z[bad] = 0.0
+            for coil in magnet.coils:
+                br, bz = coil_field_local_T(coil, rho[bad] + eps, z[bad] + eps, order, panels,
+                                            refine)
+                b_rho[bad] += br
+                b_z[bad] += bz
     return b_rho, b_z
 
 

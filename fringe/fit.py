@@ -93,6 +93,11 @@ _L_MAX = 30
 _SERIES_FACTOR = 1.5
 
 
+#: Largest centre field accepted for a data-sheet fit, T. Beyond ~45 T (hybrid
+#: resistive-superconducting records) no magnet family modelled here exists; common
+#: practice, no source.
+MAX_CENTER_FIELD_T: float = 50.0
+
 @dataclass(frozen=True)
 class FieldLine:
     """One data-sheet field line: level in T and its extents in m."""

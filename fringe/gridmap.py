@@ -30,6 +30,7 @@ Output formats
 from __future__ import annotations
 
 import base64
+import contextlib
 import math
 import os
 import tempfile
@@ -47,6 +48,7 @@ from .errors import FringeInputError, must_be
 from .field import as_magnets, field_at
 
 __all__ = ["Grid", "grid_from_box", "grid_points", "map_blocks", "write_map", "read_vti",
+           "check_scheduler",
            "MAP_FORMATS", "DEFAULT_BLOCK_POINTS"]
 
 #: Output formats by file suffix (one list, used by the CLI and the writer).
@@ -167,6 +169,30 @@ def map_blocks(site, grid: Grid, *, block_points: int = DEFAULT_BLOCK_POINTS,
     yield from _dask_blocks(mags, grid, bounds, scheduler, dtype, max(1, parallel_blocks))
 
 
+_LOCAL_SCHEDULERS = ("synchronous", "sync", "single-threaded", "threads", "threading",
+                     "processes")
+
+
+def check_scheduler(scheduler: str | None) -> None:
+    """Raise :class:`FringeInputError` now if ``scheduler`` cannot be used here."""
+    if scheduler is None:
+        return
+    try:
+        import dask  # noqa: F401
+        import dask.array  # noqa: F401
+    except ImportError:
+        raise FringeInputError(
+            "`--scheduler` needs dask: install the optional extra `fringe[cluster]`") from None
+    if scheduler in _LOCAL_SCHEDULERS:
+        return
+    try:
+        import dask.distributed  # noqa: F401
+    except ImportError:
+        raise FringeInputError(must_be(
+            "--scheduler", "synchronous, threads, processes, or a scheduler address "
+            "(which needs the `distributed` package)", scheduler)) from None
+
+
 def _dask_blocks(mags, grid, bounds, scheduler, dtype, parallel):
     try:
         import dask
@@ -178,9 +204,8 @@ def _dask_blocks(mags, grid, bounds, scheduler, dtype, parallel):
     idx = da.arange(grid.n_points, chunks=(chunks,), dtype=np.int64)
     arr = idx.map_blocks(_block_field, magnets=mags, grid=grid, dtype=dtype,
                          new_axis=1, chunks=(chunks, (4,)), meta=np.empty((0, 4), dtype))
-    local = {"synchronous", "sync", "single-threaded", "threads", "threading", "processes"}
     client = None
-    if scheduler in local:
+    if scheduler in _LOCAL_SCHEDULERS:
         config = {"scheduler": scheduler}
     else:
         try:
@@ -269,12 +294,14 @@ def write_map(site, grid: Grid, path, *, block_points: int = DEFAULT_BLOCK_POINT
     t0 = time.perf_counter()
     b_max = 0.0
     done = 0
+    check_scheduler(scheduler)
     with atomic_file(path) as tmp, tempfile.TemporaryFile(dir=tmp.parent) as abs_tmp, \
-            open(tmp, "wb") as fh:
+            open(tmp, "wb") as fh, contextlib.ExitStack() as stack:
         blocks = map_blocks(site, grid, block_points=block_points, scheduler=scheduler,
                             dtype=dtype)
         if fmt == ".npz":
             zf = zipfile.ZipFile(fh, "w", compression=zipfile.ZIP_STORED, allowZip64=True)
+            stack.enter_context(zf)
             with zf.open("B_T.npy", "w", force_zip64=True) as member:
                 np.lib.format.write_array_header_2_0(member, {
                     "descr": np.lib.format.dtype_to_descr(dtype), "fortran_order": False,
@@ -299,7 +326,7 @@ def write_map(site, grid: Grid, path, *, block_points: int = DEFAULT_BLOCK_POINT
                                 ("advisory_notice", np.array(ADVISORY_NOTICE))):
                 with zf.open(f"{name}.npy", "w") as member:
                     np.lib.format.write_array(member, value, allow_pickle=False)
-            zf.close()
+            zf.close()                          # central directory, before the fsync
         else:
             head, vtype = _vti_header(grid, dtype)
             fh.write(head)

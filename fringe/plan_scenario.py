@@ -21,7 +21,7 @@ import shapely
 from .constants import DEFAULT_THRESHOLDS_MT
 from .errors import ScenarioError, must_be
 from .plan import ACCESS_CLASSES, BOUNDARY_CHOICES, ROOM_LOADERS, Boundary, Equipment, Floor, Room
-from .scenario import SECTION_PARSERS, Reader
+from .scenario import SECTION_PARSERS, Reader, finite_number
 
 __all__ = ["PlanSettings", "SitePlan", "site_plan", "outline_polygon", "load_geojson_rooms",
            "DEFAULT_BOUNDARY", "DEFAULT_GRID_STEP_M", "DEFAULT_BAND_STEP_M", "DEFAULT_BAND_M",
@@ -154,7 +154,7 @@ def parse_plan(root: Reader, file: Path, magnets, parsed: dict) -> PlanSettings:
     th = r.raw("thresholds_mT", list(DEFAULT_THRESHOLDS_MT))
     if (not isinstance(th, list) or not th
             or any(isinstance(x, bool) or not isinstance(x, (int, float)) for x in th)
-            or not all(math.isfinite(x) and x > 0 for x in th)):
+            or not all(finite_number(x) and x > 0 for x in th)):
         r.fail(r.key("thresholds_mT"), "a non-empty array of positive numbers (mT)", th)
     if len(set(th)) != len(th):
         r.fail(r.key("thresholds_mT"), "free of repeated values", th)
@@ -167,7 +167,7 @@ def parse_plan(root: Reader, file: Path, magnets, parsed: dict) -> PlanSettings:
         ok = (isinstance(e, list) and len(e) == 2
               and all(isinstance(c, list) and len(c) == 2 for c in e)
               and all(isinstance(x, (int, float)) and not isinstance(x, bool)
-                      and math.isfinite(x) for c in e for x in c))
+                      and finite_number(x) for c in e for x in c))
         if not ok or not (e[1][0] > e[0][0] and e[1][1] > e[0][1]):
             r.fail(r.key("extent_m"), "[[x_min, y_min], [x_max, y_max]] in m with "
                    "x_max > x_min and y_max > y_min", e)
@@ -207,7 +207,7 @@ def _ring(value: Any) -> list[tuple[float, float]] | None:
     for p in value:
         if (not isinstance(p, list) or len(p) not in (2, 3)
                 or any(isinstance(x, bool) or not isinstance(x, (int, float)) for x in p)
-                or not all(math.isfinite(x) for x in p)):
+                or not all(finite_number(x) for x in p)):
             return None
         pts.append((float(p[0]), float(p[1])))
     return pts
@@ -282,6 +282,8 @@ def load_geojson_rooms(path: str | Path, options: dict, file_for_errors: str) ->
         raise ScenarioError(f"cannot read the room file: {e.strerror or e}", str(p)) from None
     except (UnicodeDecodeError, json.JSONDecodeError) as e:
         raise ScenarioError(f"not valid UTF-8 JSON: {e}", str(p)) from None
+    except RecursionError:
+        raise ScenarioError("not a usable GeoJSON file: arrays nested too deeply", str(p)) from None
     if isinstance(data, dict) and data.get("type") == "Feature":
         data = {"type": "FeatureCollection", "features": [data]}
     if not isinstance(data, dict) or data.get("type") != "FeatureCollection":
@@ -326,7 +328,7 @@ def load_geojson_rooms(path: str | Path, options: dict, file_for_errors: str) ->
                                         access), file_for_errors)
         limit = props.get("limit_mT")
         if limit is not None and (isinstance(limit, bool) or not isinstance(limit, (int, float))
-                                  or not math.isfinite(limit) or limit <= 0):
+                                  or not finite_number(limit) or limit <= 0):
             raise ScenarioError(must_be(f"{kp}.properties.limit_mT", "a positive number",
                                         limit), file_for_errors)
         rooms.append(Room(name, floor, poly, access,

@@ -77,8 +77,8 @@ def _sheet_sum(coil: Coil, radius: np.ndarray, weight: np.ndarray, rho: np.ndarr
         out = np.asarray(kernel((h / r).ravel(), (rho[sl, None] / r).ravel(),
                                 ((z[sl, None] - zc) / r).ravel())).reshape(3, *r.shape)
         w = weight[sl] * scale
-        b_rho[sl] = np.sum(w * out[0], axis=1)
-        b_z[sl] = np.sum(w * out[2], axis=1)
+        b_rho[sl] = np.sum(np.where(w != 0, w * out[0], 0.0), axis=1)
+        b_z[sl] = np.sum(np.where(w != 0, w * out[2], 0.0), axis=1)
     return b_rho, b_z
 
 
@@ -107,6 +107,11 @@ def _near_rule(coil: Coil, rho: np.ndarray, order: int) -> tuple[np.ndarray, np.
     right = coil.r_outer_m - s
     nodes = np.concatenate([s - left * t, s + right * t], axis=1)
     weights = np.concatenate([left * wt, right * wt], axis=1)
+    # A side of zero length (point at or beyond a winding face, or a solid coil's axis)
+    # has zero weights; park its nodes at the mid radius so the kernel never sees a
+    # sheet through the point itself (singular) or of zero radius.
+    mid = 0.5 * (coil.r_inner_m + coil.r_outer_m)
+    nodes = np.where(weights > 0, nodes, mid)
     return nodes, weights
 
 

@@ -414,14 +414,28 @@ def dump_energy_J(time_s, initial_current_A, inductance_H, dump_ohm,
 
 # -- checked layer -------------------------------------------------------------------------
 
+#: Plausibility bounds of quench inputs (common practice, no source): far outside any
+#: real magnet installation, they only catch typing errors (a unit slip, 1e300).
+PLAUSIBLE_RANGES: dict[str, tuple[float, float]] = {
+    "helium_L": (1e-3, 1e6),          # 1 mL to 1000 m³ of liquid
+    "room_volume_m3": (0.1, 1e8),     # a cupboard to a very large hall
+    "dump_ohm": (1e-6, 1e5),
+    "stored_energy_J": (0.0, 1e12),   # up to ~1 TJ (the largest fusion magnets are ~50 GJ)
+}
+
+
 def _positive(name: str, value, *, allow_zero: bool = False) -> float:
     try:
         v = float(value)
-    except (TypeError, ValueError):
+    except (TypeError, ValueError, OverflowError):
         raise FringeInputError(must_be(name, "a number", value)) from None
     if not math.isfinite(v) or v < 0 or (v == 0 and not allow_zero):
         raise FringeInputError(must_be(
             name, "a finite number ≥ 0" if allow_zero else "a finite number > 0", value))
+    lo, hi = PLAUSIBLE_RANGES.get(name, (0.0, math.inf))
+    if not lo <= v <= hi and not (allow_zero and v == 0):
+        raise FringeInputError(must_be(name, f"a plausible value between {lo:g} and {hi:g} "
+                                       "(check the unit)", value))
     return v
 
 

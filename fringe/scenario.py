@@ -60,7 +60,7 @@ class Site:
         return self.sections.get(key, default)
 
 
-def _finite(v: int | float) -> bool:
+def finite_number(v: int | float) -> bool:
     """True for a finite number; False for NaN, ±inf and ints too large for a float."""
     try:
         return math.isfinite(v)
@@ -119,7 +119,7 @@ class Reader:
         what = "a whole number" if integer else "a number"
         if isinstance(v, bool) or not isinstance(v, (int, float)):
             self.fail(kp, what, v)
-        if not _finite(v):
+        if not finite_number(v):
             self.fail(kp, "a finite number", v)
         if integer and not float(v).is_integer():
             self.fail(kp, what, v)
@@ -157,7 +157,7 @@ class Reader:
         if (not isinstance(v, list) or len(v) != length
                 or any(isinstance(x, bool) or not isinstance(x, (int, float)) for x in v)):
             self.fail(kp, f"an array of {length} numbers", v)
-        if not all(_finite(x) for x in v):
+        if not all(finite_number(x) for x in v):
             self.fail(kp, f"an array of {length} finite numbers", v)
         return tuple(float(x) for x in v)
 

@@ -186,9 +186,10 @@ def _demo_scenario() -> str:
 
 
 def _start_probe_and_wait_for_write(tmp_path: Path, out: Path) -> subprocess.Popen:
-    """Start ``fringe probe`` on 60k points writing CSV; return once it is mid-write."""
+    """Start ``fringe probe`` on 2e6 points writing CSV (several seconds of writing, so the
+    signal reliably lands mid-write); return once it is mid-write."""
     rng = np.random.default_rng(20261202)  # seeded: the same points every run
-    pts = rng.uniform([-2.0, -3.0, -1.0], [12.0, 11.0, 3.0], size=(60_000, 3))
+    pts = rng.uniform([-2.0, -3.0, -1.0], [12.0, 11.0, 3.0], size=(2_000_000, 3))
     np.save(tmp_path / "big.npy", pts)
     env = {k: v for k, v in os.environ.items() if k != "FRINGE_DEBUG"}
     proc = subprocess.Popen([sys.executable, "-m", "fringe.cli", "probe", _demo_scenario(),
@@ -256,3 +257,32 @@ def test_report_killed_mid_write_keeps_previous_report(tmp_path):
                     f"{proc.stderr.read()}")
     assert proc.returncode == -signal.SIGKILL
     assert _snapshot(out) == before  # every old file, byte for byte, and nothing new
+
+
+# -- an output folder is replaced whole: never a folder that holds the user's own files ----
+
+def test_report_refuses_to_replace_a_foreign_folder(tmp_path, run_cli):
+    from test_bad_input_plan import PLAN_TOML
+
+    scen = tmp_path / "site.toml"
+    scen.write_text(PLAN_TOML, encoding="utf-8")
+    mine = tmp_path / "documents"
+    mine.mkdir()
+    (mine / "thesis.txt").write_text("precious")
+    code, out, err = run_cli("report", scen, "--out", mine, "--no-drawings", "--quiet")
+    assert code == 2 and "Traceback" not in err and "`--out`" in err, err
+    assert sorted(os.listdir(mine)) == ["thesis.txt"]
+
+
+def test_place_refuses_to_replace_a_foreign_folder(tmp_path, run_cli):
+    from test_bad_input_plan import PLAN_TOML
+
+    scen = tmp_path / "site.toml"
+    scen.write_text(PLAN_TOML, encoding="utf-8")
+    mine = tmp_path / "documents"
+    mine.mkdir()
+    (mine / "thesis.txt").write_text("precious")
+    code, out, err = run_cli("place", scen, "--magnet", "m1", "--region", "magnet room",
+                             "--angles", "0", "--out", mine, "--quiet")
+    assert (mine / "thesis.txt").read_text() == "precious"
+    assert code == 2 and "`--out`" in err

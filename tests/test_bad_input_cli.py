@@ -222,3 +222,23 @@ def test_subprocess_bad_input_has_no_traceback(how, tmp_path, write_file):
     assert res.stderr.strip().splitlines() == [res.stderr.strip()]  # exactly one line
     assert "did you mean `magnet[0].coil[0].current_A`" in res.stderr
     assert out.read_bytes() == OLD_OUTPUT
+
+
+def test_points_on_winding_surfaces_edges_and_corners_are_finite(scenario, run_cli):
+    """The sheet kernel is singular on its own edges; probing exactly there must still give
+    finite numbers (the winding is 0.30 ≤ ρ ≤ 0.32 m, |z − 1| ≤ 0.2 m)."""
+    import json
+
+    surface = [(0.30, 0, 1.0), (0.32, 0, 1.0), (0.31, 0, 1.2), (0, 0.30, 0.8), (0.32, 0, 1.2),
+               (0.30, 0, 0.8)]
+    argv = [a for p in surface for a in ("--at", *p)]
+    code, out, err = run_cli("probe", scenario, *argv, "--json")
+    assert code == 0, err
+    b = [row["B_abs_T"] for row in json.loads(out)["points"]]
+    assert all(v is not None and 0 < v < 1.0 for v in b), b  # JSON null would mean NaN/inf
+    assert f"{len(surface)} point(s) lie inside a winding" in err  # boundaries count as inside
+    # continuity: a nudge of 1 nm changes |B| by far less than 1 % (common practice)
+    nudged = [a for p in surface for a in ("--at", p[0] + 1e-9, p[1] + 1e-9, p[2] + 1e-9)]
+    code, out2, _ = run_cli("probe", scenario, *nudged, "--json")
+    b2 = [row["B_abs_T"] for row in json.loads(out2)["points"]]
+    assert all(abs(x - y) <= 1e-2 * x for x, y in zip(b, b2, strict=True)), (b, b2)

@@ -229,10 +229,6 @@ def test_report_out_is_a_file(tmp_path, write_file, run_cli):
 
 # -- bugs in modules owned elsewhere, pinned until fixed -------------------------------------
 
-@pytest.mark.xfail(strict=True, reason=(
-    "BUG fringe/plan_scenario.py _ring: math.isfinite(x) on a TOML integer too large for a "
-    "float raises OverflowError (exit 1, 'internal error') instead of a ScenarioError naming "
-    "`room[0].outline_m`; found by tests/test_fuzz_scenario.py"))
 def test_huge_integer_in_outline_is_refused(tmp_path, write_file, run_cli):
     text = PLAN_TOML.replace(ROOM0, "outline_m = [[-2.0, -2.0], [2.0, 1" + "0" * 400
                              + "], [2.0, 2.0], [-2.0, 2.0]]")
@@ -242,10 +238,6 @@ def test_huge_integer_in_outline_is_refused(tmp_path, write_file, run_cli):
     _assert_refused(code, out, err, ["`room[0].outline_m` must be"], out_dir)
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "BUG fringe/plan_scenario.py load_geojson_rooms: json.loads of a deeply nested array "
-    "raises RecursionError, which is not caught (exit 1, 'internal error') instead of a "
-    "ScenarioError naming the room file"))
 def test_deeply_nested_geojson_is_refused(tmp_path, write_file, run_cli):
     (tmp_path / "rooms.geojson").write_text("[" * 100_000 + "]" * 100_000)
     scen = write_file(PLAN_TOML + ROOM_FILE.format(path="rooms.geojson", fmt="geojson"),
@@ -255,11 +247,6 @@ def test_deeply_nested_geojson_is_refused(tmp_path, write_file, run_cli):
     _assert_refused(code, out, err, ["rooms.geojson"], out_dir)
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "fringe/report.py / zones.py (issue 10, 'warnings a user needs'): a plan grid too coarse "
-    "for the threshold line is accepted silently: grid_step_m = 2 m gives a 0.5 mT footprint "
-    "of 8.0 m² where 0.25 m gives 10.6 m² (25 % smaller), with no `fringe: warning:` naming "
-    "`plan.grid_step_m` and the step the line needs"))
 def test_grid_too_coarse_for_the_threshold_warns(tmp_path, write_file, run_cli):
     scen = write_file(PLAN_TOML.replace("grid_step_m = 0.25", "grid_step_m = 2.0"), "site.toml")
     code, out, err = run_cli("report", scen, "--out", tmp_path / "rep", "--no-drawings",

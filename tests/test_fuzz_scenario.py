@@ -183,10 +183,7 @@ def check_site(site: Site) -> None:
 #: Bugs found by this fuzzer in modules owned elsewhere, each pinned by a strict xfail
 #: test (named here) that fails loudly once the bug is fixed, so the entry can go:
 #: (exception type, module file where it escapes).
-KNOWN_BUGS: list[tuple[type, str]] = [
-    # test_bad_input_plan.py::test_huge_integer_in_outline_is_refused
-    (OverflowError, "plan_scenario.py"),
-]
+KNOWN_BUGS: list[tuple[type, str]] = []
 
 
 def _known_bug(e: BaseException) -> bool:

@@ -155,3 +155,31 @@ def test_cli_map_bad_input_exits_2_and_writes_nothing(tmp_path, demo_path, capsy
     assert main(args) == 2
     assert text in capsys.readouterr().err
     assert not list(tmp_path.iterdir())
+
+
+def test_cli_map_through_dask_equals_the_plain_run(tmp_path, demo_path):
+    # common practice, no source: `--scheduler threads` writes the same file contents.
+    pytest.importorskip("dask")
+    args = ["map", demo_path, "--box", "8", "7", "1", "9", "8", "1.4", "--step", "0.2",
+            "--quiet", "--block-points", "50"]
+    assert main([*args, "--out", str(tmp_path / "a.npz")]) == 0
+    assert main([*args, "--out", str(tmp_path / "b.npz"), "--scheduler", "threads"]) == 0
+    a, b = np.load(tmp_path / "a.npz"), np.load(tmp_path / "b.npz")
+    np.testing.assert_array_equal(a["B_T"], b["B_T"])
+
+
+def test_cli_map_unusable_scheduler_fails_before_writing(tmp_path, demo_path, capsys):
+    # common practice, no source: a scheduler that cannot be used is reported at once,
+    # exit 2, and no output file (or temporary) is left.
+    pytest.importorskip("dask")
+    try:
+        import dask.distributed  # noqa: F401
+        pytest.skip("dask.distributed is installed: an address would be tried")
+    except ImportError:
+        pass
+    out = tmp_path / "x.npz"
+    code = main(["map", demo_path, "--box", "0", "0", "0", "1", "1", "1", "--step", "0.5",
+                 "--out", str(out), "--scheduler", "tcp://127.0.0.1:9"])
+    assert code == 2
+    assert "`--scheduler` must be" in capsys.readouterr().err
+    assert not list(tmp_path.iterdir())
