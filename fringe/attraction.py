@@ -69,7 +69,7 @@ from scipy.optimize import brentq
 from .coils import Magnet
 from .constants import MU0_T_M_PER_A, STANDARD_GRAVITY_M_PER_S2
 from .errors import FringeInputError
-from .field import field_at, points_in_windings
+from .field import _as_points, field_at, points_in_windings
 
 __all__ = [
     "SteelMaterial", "ObjectKind", "MATERIALS", "OBJECT_KINDS", "DEFAULT_MATERIAL",
@@ -359,15 +359,6 @@ def axial_gradient_T_per_m(magnet: Magnet, z_m) -> np.ndarray:
 
 
 # -- gradients of |B| by finite differences ---------------------------------------------
-
-def _as_points(points_m) -> np.ndarray:
-    p = np.asarray(points_m, dtype=float)
-    if p.ndim == 1 and p.shape == (3,):
-        p = p[None, :]
-    if p.ndim != 2 or p.shape[1] != 3:
-        raise FringeInputError(f"`points_m` must be an array of shape (N, 3); got shape {p.shape}")
-    return p
-
 
 def field_and_gradient(site, points_m, *, step_m: float = DEFAULT_STEP_M,
                        richardson: bool = True, method: str = "auto"):

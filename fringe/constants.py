@@ -22,6 +22,11 @@ STANDARD_ATMOSPHERE_PA: float = float(_c.atm)
 #: 10, 40 and 200 mT: common practice, no source.
 DEFAULT_THRESHOLDS_MT: tuple[float, ...] = (0.5, 1.0, 3.0, 10.0, 40.0, 200.0)
 
+#: Largest |coordinate| in m accepted for a magnet centre or a field point: beyond any
+#: site or map grid (UTM northings stay below 1e7 m); far larger values overflow the
+#: field kernels (magpylib's elliptic-integral iteration then never ends).
+MAX_COORDINATE_M: float = 1e8
+
 #: Advisory notice printed on every output.
 ADVISORY_NOTICE: str = (
     "ADVISORY ESTIMATE ONLY. Field values are computed from a coil model and must be "

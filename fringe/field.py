@@ -18,7 +18,7 @@ from collections.abc import Iterable
 import numpy as np
 
 from .coils import DEFAULT_RADIAL_ORDER, Magnet, magpylib_sources
-from .constants import MU0_T_M_PER_A
+from .constants import MAX_COORDINATE_M, MU0_T_M_PER_A
 from .errors import FringeInputError
 from .quadrature import coil_field_local_T
 
@@ -52,6 +52,10 @@ def _as_points(points_m) -> np.ndarray:
         raise FringeInputError(f"`points_m` must be an array of shape (N, 3); got shape {p.shape}")
     if not np.all(np.isfinite(p)):
         raise FringeInputError("`points_m` must be finite; got NaN or inf")
+    far = float(np.max(np.abs(p), initial=0.0))
+    if far > MAX_COORDINATE_M:  # overflows the kernels (and magpylib's cel() never ends)
+        raise FringeInputError(f"`points_m` must be site coordinates within "
+                               f"±{MAX_COORDINATE_M:g} m; got a coordinate of {far:g} m")
     return p
 
 

@@ -20,6 +20,7 @@ from pathlib import Path
 from typing import Any
 
 from .coils import Coil, Magnet
+from .constants import MAX_COORDINATE_M
 from .errors import FringeWarning, ScenarioError, must_be
 
 __all__ = ["Site", "load_site", "parse_site", "Reader"]
@@ -213,6 +214,8 @@ def parse_magnet(r: Reader) -> Magnet:
     """Parse one ``[[magnet]]`` table."""
     name = r.string("name")
     center = r.vector("center_m", 3)
+    if max(abs(x) for x in center) > MAX_COORDINATE_M:
+        r.fail(r.key("center_m"), f"site coordinates within ±{MAX_COORDINATE_M:g} m", list(center))
     axis = r.vector("axis", 3, (0.0, 0.0, 1.0))
     if math.hypot(*axis) == 0.0:
         r.fail(r.key("axis"), "a non-zero vector", list(axis))

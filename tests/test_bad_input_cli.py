@@ -54,6 +54,7 @@ def _points_files(tmp: Path) -> dict[str, Path]:
     save("complex.npy", np.ones((2, 3), dtype=complex))
     save("objects.npy", np.array([{"x": 1}], dtype=object), allow_pickle=True)
     save("flat.npy", np.zeros(3))
+    save("far.npy", np.array([[0.0, 0.0, 1.0], [1e200, 0.0, 0.0]]))
     np.savez(tmp / "archive.npz", a=np.ones((2, 3)))
     (tmp / "archive.npz").rename(tmp / "zip_inside.npy")
     files["zip_inside.npy"] = tmp / "zip_inside.npy"
@@ -77,6 +78,7 @@ POINTS_CASES = [
     ("objects.npy", "must hold numbers"),
     ("flat.npy", "must have 3 columns"),
     ("zip_inside.npy", "must hold real numbers"),
+    ("far.npy", "got a coordinate of 1e+200 m"),
     ("empty.npy", "must hold numbers"),
     ("garbage.npy", "must hold numbers"),
     ("empty.csv", "at least one row"),

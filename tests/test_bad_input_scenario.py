@@ -81,6 +81,8 @@ CORPUS: list[tuple[str, str, list[str]]] = [
      ["`magnet[0].coil[0].current_A` must be a finite number", "-inf"]),
     ("center-inf", edit(("center_m = [0.0, 0.0, 1.0]", "center_m = [inf, 0.0, 1.0]")),
      ["`magnet[0].center_m` must be an array of 3 finite numbers"]),
+    ("center-absurdly-far", edit(("center_m = [0.0, 0.0, 1.0]", "center_m = [1e200, 0.0, 1.0]")),
+     ["`magnet[0].center_m` must be site coordinates within ±1e+08 m"]),
     ("turns-huge-int", edit(("turns = 1000", "turns = 1" + "0" * 400)),
      ["`magnet[0].coil[0].turns` must be a finite number", "…"]),
     ("field-overflow", edit(("current_A = 100.0", "current_A = 1e308")),
@@ -259,7 +261,7 @@ def test_good_file_variants_load_alike(transform, write_file, run_cli):
 
 # -- accepted input that must not hang ---------------------------------------------------
 
-class _CpuTimeout(Exception):
+class _CpuTimeout(BaseException):  # not an Exception: the CLI must not turn it into exit 1
     pass
 
 
@@ -291,3 +293,21 @@ def test_solid_coil_field_on_axis_finishes():
     # closed-form centre field of a thick coil (Jackson Sec. 5.5); inside-winding
     # quadrature is of lower accuracy, so 1 % (common practice, no source)
     assert b[0, 2] == pytest.approx(center_field_T(m), rel=1e-2)
+
+
+@pytest.mark.parametrize("coord", ["1e308", "1e200", "2e8"])
+def test_absurdly_far_probe_point_finishes(coord, write_file, run_cli):
+    # a point far beyond any site once overflowed the kernels to NaN and magpylib's
+    # elliptic-integral iteration never ended; it must be refused at once, by the CLI
+    # and by the public API alike
+    scen = write_file(SMALL_SCENARIO_TOML, "s.toml")
+    code, out, err = _cpu_limited(lambda: run_cli("probe", scen, "--at", coord, "0", "0"), 3.0)
+    assert code == 2 and "Traceback" not in err
+    assert "`--at` must be site coordinates within ±1e+08 m" in err
+    from fringe import load_site
+    from fringe.errors import FringeInputError
+    from fringe.field import field_at
+
+    site = load_site(scen)
+    with pytest.raises(FringeInputError, match="`points_m` must be site coordinates"):
+        _cpu_limited(lambda: field_at(site, [[float(coord), 0.0, 0.0]]), 3.0)
