@@ -38,6 +38,7 @@ from __future__ import annotations
 
 import math
 import re
+import sys
 from dataclasses import dataclass, field
 from functools import lru_cache
 from importlib import resources
@@ -46,6 +47,7 @@ import numpy as np
 
 from .constants import ADVISORY_NOTICE, STANDARD_ATMOSPHERE_PA
 from .errors import FringeInputError, must_be
+from .forked import ForkedCall, forking_enabled
 
 __all__ = [
     "HELIUM_FLUID", "AIR_OXYGEN_FRACTION", "OxygenThreshold", "OXYGEN_THRESHOLDS",
@@ -192,6 +194,26 @@ class HeliumProperties:
                 "source": self.source}
 
 
+#: Helium property look-ups started ahead in a forked child, by their arguments.
+_PREFETCHED: dict[tuple[float, float, float], ForkedCall] = {}
+
+
+def prefetch_helium_properties(room_temperature_K: float = 293.15,
+                               room_pressure_Pa: float = STANDARD_ATMOSPHERE_PA,
+                               boil_pressure_Pa: float = STANDARD_ATMOSPHERE_PA) -> None:
+    """Start :func:`helium_properties` for these conditions in a second process.
+
+    CoolProp's first import takes seconds of one core (most of it the library's own
+    start-up); a report starts this before its field maps, so the import overlaps them
+    and the later :func:`helium_properties` call just collects the values. Does nothing
+    when CoolProp is already imported or processes cannot be forked.
+    """
+    key = (float(room_temperature_K), float(room_pressure_Pa), float(boil_pressure_Pa))
+    if "CoolProp" in sys.modules or key in _PREFETCHED or not forking_enabled():
+        return
+    _PREFETCHED[key] = ForkedCall(_coolprop_helium_properties, *key)
+
+
 @lru_cache(maxsize=64)
 def helium_properties(room_temperature_K: float = 293.15,
                       room_pressure_Pa: float = STANDARD_ATMOSPHERE_PA,
@@ -222,6 +244,19 @@ def helium_properties(room_temperature_K: float = 293.15,
     .. [1] CoolProp HEOS backend, helium-4 equation of state of Ortiz-Vega et al.
        (see :func:`coolprop_source`).
     """
+    key = (float(room_temperature_K), float(room_pressure_Pa), float(boil_pressure_Pa))
+    ahead = _PREFETCHED.pop(key, None)
+    if ahead is not None:
+        try:
+            return ahead.result()
+        except Exception:  # noqa: BLE001 - compute here, so errors come the usual way
+            pass
+    return _coolprop_helium_properties(*key)
+
+
+def _coolprop_helium_properties(room_temperature_K: float, room_pressure_Pa: float,
+                                boil_pressure_Pa: float) -> HeliumProperties:
+    """The CoolProp look-ups behind :func:`helium_properties` (uncached)."""
     from CoolProp.CoolProp import PropsSI
 
     try:

@@ -13,6 +13,7 @@ into one folder swapped in atomically (:func:`fringe.atomic.atomic_directory`):
 
 from __future__ import annotations
 
+import contextlib
 import csv
 import datetime as _dt
 import io
@@ -160,6 +161,14 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     thr_mT = s.thresholds_mT
     thr_T = [t * 1e-3 for t in thr_mT]
     say = progress or (lambda msg: None)
+    quench_inputs = tuple(site.section("quench", ()) or ())
+    if quench_inputs:  # CoolProp's slow first import overlaps the maps below
+        from .quench import prefetch_helium_properties
+
+        for q in quench_inputs:
+            t_c = 20.0 if q.room_temperature_C is None else float(q.room_temperature_C)
+            p_kpa = 101.325 if q.room_pressure_kPa is None else float(q.room_pressure_kPa)
+            prefetch_helium_properties(t_c + 273.15, p_kpa * 1e3)  # as quench_budget asks
 
     mags = []
     for m in site.magnets:
@@ -198,7 +207,7 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
         half = min(reach_m(m, min(thr_T)) + 1.0, 40.0)
         secs.extend(magnet_sections(site, m, half, (lo, hi), step, progress=progress))
 
-    quench = tuple(budget_for_site(site, q) for q in site.section("quench", ()) or ())
+    quench = tuple(budget_for_site(site, q) for q in quench_inputs)
     if quench:
         say("quench release budget done")
     rooms = check_rooms(site, plan.rooms, fmaps, fps, s.boundary)
@@ -656,19 +665,34 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
 
 
 def _write_drawings(r: ReportResult, folder: Path, say) -> None:
-    """Plan and section sheets (PNG, SVG) and report.pdf through :mod:`fringe.drawing`."""
+    """Plan and section sheets (PNG, SVG) and report.pdf through :mod:`fringe.drawing`.
+
+    report.pdf is written by a forked child (:mod:`fringe.forked`) while this process
+    writes the PNG and SVG files: the two halves take about as long, and rendering holds
+    the interpreter lock, so a second process is what uses the second core. The sheets
+    are numbered here first, so the PDF and the single files carry the same numbers.
+    """
     from . import drawing as dr
+    from .forked import ForkedCall
 
     sheets = build_sheets(r, say)
-    say("writing report.pdf")
-    dr.write_pdf([f for _, f in sheets], folder / "report.pdf",
-                 title=f"{r.site_name}: stray-field report")
-    for stem, fig in sheets:
-        if stem is None:
-            continue
-        dr.save_figure(fig, folder / f"{stem}.png")
-        if stem.startswith("energy-"):  # energy maps: PNG and PDF only
-            say(f"writing {stem}.png")
-            continue
-        say(f"writing {stem}.png and .svg")
-        dr.save_figure(fig, folder / f"{stem}.svg")
+    figures = dr.number_sheets([f for _, f in sheets])
+    say("writing report.pdf and the sheet files")
+    pdf = ForkedCall(dr.write_pdf, figures, folder / "report.pdf",
+                     title=f"{r.site_name}: stray-field report")
+    try:
+        for stem, fig in sheets:
+            if stem is None:
+                continue
+            dr.save_figure(fig, folder / f"{stem}.png")
+            if stem.startswith("energy-"):  # energy maps: PNG and PDF only
+                say(f"wrote {stem}.png")
+                continue
+            dr.save_figure(fig, folder / f"{stem}.svg")
+            say(f"wrote {stem}.png and .svg")
+    except BaseException:
+        with contextlib.suppress(BaseException):  # reap the child; the first error wins
+            pdf.result()
+        raise
+    pdf.result()
+    say("wrote report.pdf")

@@ -818,7 +818,9 @@ def save_figure(fig: Figure, path: str | Path, *, dpi: int = PNG_DPI) -> Path:
     elif fmt == "svg":
         meta = {"Creator": "fringe", "Description": ADVISORY_NOTICE, "Date": None}
     with matplotlib.rc_context(_save_rc()), atomic_file(path) as tmp:
-        fig.savefig(tmp, format=fmt, dpi=dpi, metadata=meta)
+        # zlib level 3 instead of PIL's 6: a third less time for ~25 % more bytes
+        extra = {"pil_kwargs": {"compress_level": 3}} if fmt == "png" else {}
+        fig.savefig(tmp, format=fmt, dpi=dpi, metadata=meta, **extra)
         _usual_mode(tmp)
     return path
 
