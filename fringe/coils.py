@@ -102,14 +102,12 @@ def _rotation_to_axis(axis: tuple[float, float, float]) -> Rotation:
     """
     a = np.asarray(axis, dtype=float)
     z = np.array([0.0, 0.0, 1.0])
-    c = float(np.dot(a, z))
-    if c > 1 - 1e-15:
-        return Rotation.identity()
-    if c < -1 + 1e-15:
-        return Rotation.from_rotvec([math.pi, 0.0, 0.0])
-    v = np.cross(z, a)
-    angle = math.atan2(np.linalg.norm(v), c)
-    return Rotation.from_rotvec(v / np.linalg.norm(v) * angle)
+    v = np.cross(z, a)  # (−a_y, a_x, 0): exact, however small
+    s = float(np.linalg.norm(v))
+    if s == 0.0:  # exactly along ±z (no cut-off: an axis 1e-8 rad off z must stay off)
+        return Rotation.identity() if a[2] > 0 else Rotation.from_rotvec([math.pi, 0.0, 0.0])
+    angle = math.atan2(s, float(a[2]))
+    return Rotation.from_rotvec(v / s * angle)
 
 
 @dataclass(frozen=True)

@@ -71,6 +71,7 @@ from .sheets import (
 __all__ = [
     "SheetInfo", "RoomMark", "EquipmentMark", "MagnetOutline", "Overlay", "FloorLevel",
     "ExposureLine", "Curve", "CurvePanel", "OVERLAY_KINDS", "ICNIRP_2009_EXPOSURE_LINES",
+    "exposure_lines_from_registry",
     "VERDICT_EXCEEDS", "A3_LANDSCAPE_IN", "PNG_DPI", "map_sheet", "plan_sheet",
     "section_sheet", "curve_sheet", "table_sheet", "tables_sheets", "cover_sheet",
     "save_figure", "write_pdf", "number_sheets", "footprint_rectangle", "format_value",
@@ -202,16 +203,19 @@ class ExposureLine:
     source: str
 
 
-_ICNIRP_2009 = ("ICNIRP (2009) Guidelines on limits of exposure to static magnetic fields. "
-                "Health Phys. 96(4):504-514")
+def exposure_lines_from_registry(names=None) -> tuple[ExposureLine, ...]:
+    """Exposure lines of :data:`fringe.exposure.EXPOSURE_LIMITS` (the one registry of the
+    values and their sources), lowest field first; ``names`` picks registry keys."""
+    from .exposure import exposure_limits
+
+    return tuple(ExposureLine(e.field_T, e.line_label, e.source)
+                 for e in exposure_limits(names))
+
+
 #: ICNIRP 2009 static-field exposure limits (Table 1 of the guideline): 400 mT general
-#: public (continuous, whole body); 2 T occupational, head and trunk; 8 T occupational,
-#: limbs.
-ICNIRP_2009_EXPOSURE_LINES: tuple[ExposureLine, ...] = (
-    ExposureLine(0.4, "400 mT: general public (ICNIRP 2009)", _ICNIRP_2009),
-    ExposureLine(2.0, "2 T: occupational, head and trunk (ICNIRP 2009)", _ICNIRP_2009),
-    ExposureLine(8.0, "8 T: occupational, limbs (ICNIRP 2009)", _ICNIRP_2009),
-)
+#: public; 2 T occupational, head and trunk; 8 T occupational, limbs — read from
+#: :data:`fringe.exposure.EXPOSURE_LIMITS`.
+ICNIRP_2009_EXPOSURE_LINES: tuple[ExposureLine, ...] = exposure_lines_from_registry()
 
 
 def scale_bar_length_m(span_m: float) -> float:

@@ -362,6 +362,7 @@ def parse_rooms(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Room, 
         rr.finish()
         rooms.append((Room(name, floor, poly, access, limit), rr.key("name")))
 
+    drawings: list[RoomDrawing] = []
     for fr in root.tables("room_file"):
         rel = fr.string("path")
         fmt = fr.string("format", "geojson", choices=tuple(sorted(ROOM_LOADERS)))
@@ -377,6 +378,10 @@ def parse_rooms(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Room, 
         if not p.is_absolute():
             p = Path(file).parent / p
         loaded = ROOM_LOADERS[fmt](p, {"floor": default_floor, **options}, str(p))
+        if fmt == "dxf":  # the report writes its zones back into this drawing
+            drawings.append(RoomDrawing(str(p), tuple(sorted({rm.floor for rm in loaded})),
+                                        tuple(float(v) for v in options.get("offset_m",
+                                                                            (0.0, 0.0)))))
         for j, room in enumerate(loaded):
             check_floor(room.floor, f"{fr.key('path')} → room {room.name!r} floor", fr.file)
             rooms.append((room, f"{fr.key('path')} → features[{j}].properties.name"))
@@ -386,7 +391,26 @@ def parse_rooms(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Room, 
         if room.name in seen:
             raise ScenarioError(must_be(kp, "unique among rooms", room.name), root.file)
         seen.add(room.name)
+    parsed["room_drawing"] = tuple(drawings)
     return tuple(r for r, _ in rooms)
+
+
+@dataclass(frozen=True)
+class RoomDrawing:
+    """A CAD drawing rooms were read from (``[[room_file]] format = "dxf"``).
+
+    Attributes
+    ----------
+    path : str
+    floors : tuple of str
+        Floors of the rooms it gave.
+    offset_m : (float, float)
+        Its ``offset_m`` (drawing origin in the site frame, m).
+    """
+
+    path: str
+    floors: tuple[str, ...]
+    offset_m: tuple[float, float]
 
 
 # -- [[equipment]] --------------------------------------------------------------------

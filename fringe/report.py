@@ -30,6 +30,7 @@ import shapely
 
 from . import __version__
 from .atomic import atomic_directory, check_output_folder
+from .attraction import SiteAttraction, site_attraction
 from .checks import (
     EquipmentCheck,
     RoomCheck,
@@ -41,7 +42,9 @@ from .cmd_quench import budget_for_site
 from .constants import ADVISORY_NOTICE
 from .energy import stored_energy_J
 from .errors import FringeInputError, ScenarioError
+from .exposure import exposure_limits
 from .extents import threshold_extents_m
+from .multipole import zonal_moments_Am
 from .plan import Boundary
 from .plan_scenario import SitePlan, site_plan
 from .zones import (
@@ -90,6 +93,9 @@ class MagnetSummary:
     stored_energy_J: float = float("nan")
     #: Net axial dipole moment in A·m².
     dipole_moment_Am2: float = float("nan")
+    #: Zonal moments of the far field: dipole (A·m²), l = 3 (A·m⁴), l = 5 (A·m⁶)
+    #: (fringe.multipole.zonal_moments_Am, l = 1, 3, 5).
+    zonal_moments: tuple[float, float, float] = (float("nan"),) * 3
 
 
 @dataclass(frozen=True)
@@ -115,6 +121,8 @@ class ReportResult:
     site: object = field(default=None, compare=False, repr=False)
     #: Quench release budgets for the scenario's [[quench]] tables (fringe.quench).
     quench: tuple = ()
+    #: The attraction-hazard zone: extents, floor zones, section zones (fringe.attraction).
+    attraction: SiteAttraction | None = field(default=None, compare=False, repr=False)
 
     @property
     def exceeds(self) -> bool:
@@ -174,8 +182,10 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     for m in site.magnets:
         b0 = float(field_magnitude_T(m, np.asarray([m.center_m]))[0])
         bounds = tuple((t, *threshold_extents_m(m, t * 1e-3)) for t in thr_mT)
+        q = zonal_moments_Am(m, 5)
         mags.append(MagnetSummary(m.name, m.center_m, m.axis, m.description, b0, bounds,
-                                  m.origin, stored_energy_J(m), m.dipole_moment_Am2))
+                                  m.origin, stored_energy_J(m), m.dipole_moment_Am2,
+                                  (float(q[1]), float(q[3]), float(q[5]))))
     say("extents of each threshold line done")
     _warn_if_grid_too_coarse(mags, s.boundary.value_mT, step, site.source_file)
 
@@ -207,6 +217,8 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
         half = min(reach_m(m, min(thr_T)) + 1.0, 40.0)
         secs.extend(magnet_sections(site, m, half, (lo, hi), step, progress=progress))
 
+    attraction = site_attraction(site, fmaps, secs)
+    say(f"attraction zone done ({attraction.object_kind} object, {attraction.material})")
     quench = tuple(budget_for_site(site, q) for q in quench_inputs)
     if quench:
         say("quench release budget done")
@@ -215,7 +227,7 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     say("room and equipment verdicts done")
     return ReportResult(site.name, site.source_file, plan, s.boundary, thr_mT, step, extent,
                         tuple(mags), fmaps, fps, outside, tuple(secs), rooms, equip, _now_utc(),
-                        __version__, site, quench)
+                        __version__, site, quench, attraction)
 
 
 #: Largest plan grid step as a fraction of the boundary line's smallest extent. Marching
@@ -258,11 +270,31 @@ def _num(v, nd: int = 6):
     return float(f"{v:.{nd}g}")
 
 
+def _attraction_extents(r: ReportResult, magnet: str) -> dict | None:
+    if r.attraction is None:
+        return None
+    for name, axial, radial in r.attraction.extents_m:
+        if name == magnet:
+            return {"axial_extent_m": _num(axial, 5), "radial_extent_m": _num(radial, 5)}
+    return None
+
+
+def _attraction_area(r: ReportResult, floor: str) -> dict | None:
+    fa = None if r.attraction is None else r.attraction.floors.get(floor)
+    return None if fa is None else {"area_m2": _num(fa.area_m2, 5)}
+
+
+def _exposure_rows() -> list[dict]:
+    return [{"name": e.name, "field_T": e.field_T, "applies_to": e.applies_to,
+             "source": e.source} for e in exposure_limits()]
+
+
 def summary_dict(r: ReportResult) -> dict:
     """The content of ``summary.json`` (see docs/zones.md for every field)."""
     counts: dict[str, int] = {}
     for v in [x.verdict for x in r.rooms] + [e.verdict for e in r.equipment]:
         counts[v] = counts.get(v, 0) + 1
+    att = r.attraction
     return {
         "advisory": ADVISORY_NOTICE,
         "tool": {"name": "fringe", "version": r.version},
@@ -279,8 +311,12 @@ def summary_dict(r: ReportResult) -> dict:
             "center_field_T": _num(m.center_field_T),
             "stored_energy_J": _num(m.stored_energy_J),
             "dipole_moment_Am2": _num(m.dipole_moment_Am2),
+            "zonal_moments": {"dipole_Am2": _num(m.zonal_moments[0]),
+                              "l3_Am4": _num(m.zonal_moments[1]),
+                              "l5_Am6": _num(m.zonal_moments[2])},
             "boundaries": [{"threshold_mT": t, "axial_extent_m": _num(a, 5),
                             "radial_extent_m": _num(rr, 5)} for t, a, rr in m.boundaries],
+            "attraction": _attraction_extents(r, m.name),
         } for m in r.magnets],
         "floors": [{
             "name": name, "elevation_m": fm.floor.elevation_m,
@@ -293,6 +329,7 @@ def summary_dict(r: ReportResult) -> dict:
             "footprints": [{"threshold_mT": fp.threshold_mT, "area_m2": _num(fp.area_m2, 5),
                             "sampled_area_m2": _num(fp.sampled_area_m2, 5),
                             "clipped": fp.clipped} for fp in r.footprints[name]],
+            "attraction": _attraction_area(r, name),
         } for name, fm in r.floor_maps.items()],
         "rooms": [{
             "name": c.name, "floor": c.floor, "access": c.access,
@@ -307,6 +344,9 @@ def summary_dict(r: ReportResult) -> dict:
             "note": e.note,
         } for e in r.equipment],
         "quench": [b.to_dict() for b in r.quench],
+        "attraction_criterion": None if att is None else {
+            "object": att.object_kind, "material": att.material, "criterion": att.criterion},
+        "exposure_limits": _exposure_rows(),
         "verdict_counts": counts,
         "exceeds": r.exceeds,
     }
@@ -325,7 +365,7 @@ def zones_geojson(r: ReportResult) -> dict:
 
     Coordinates are site-frame metres; the collection carries the foreign member
     ``"coordinate_frame"`` (:data:`SITE_FRAME`) saying so. Every feature has
-    ``properties.kind`` = ``footprint``, ``room`` or ``equipment``. A footprint of a
+    ``properties.kind`` = ``footprint``, ``attraction``, ``room`` or ``equipment``. A footprint of a
     threshold not reached on a floor has ``"geometry": null`` and area 0.
     """
     feats = []
@@ -342,6 +382,14 @@ def zones_geojson(r: ReportResult) -> dict:
                                          "is_boundary": math.isclose(
                                              fp.threshold_mT, r.boundary.value_mT,
                                              rel_tol=1e-9)}})
+    if r.attraction is not None:
+        for name, fa in r.attraction.floors.items():
+            feats.append({"type": "Feature", "geometry": _geometry(fa.geometry),
+                          "properties": {"kind": "attraction", "floor": name,
+                                         "area_m2": _num(fa.area_m2, 5),
+                                         "object": r.attraction.object_kind,
+                                         "material": r.attraction.material,
+                                         "criterion": fa.criterion}})
     rooms = {room.name: room for room in r.plan.rooms}
     for c in r.rooms:
         feats.append({"type": "Feature", "geometry": _geometry(rooms[c.name].outline),
@@ -415,11 +463,43 @@ def write_report(r: ReportResult, out_dir: str | Path, *, drawings: bool = True,
                                            + "\n", "utf-8")
         (tmp / "rooms.csv").write_text(rooms_csv(r), "utf-8")
         (tmp / "equipment.csv").write_text(equipment_csv(r), "utf-8")
+        write_zone_drawings(r, tmp)
         if drawings:
             _write_drawings(r, tmp, say)
         _usual_permissions(tmp)
         names = sorted(p.name for p in tmp.iterdir())
     return names
+
+
+def write_zone_drawings(r: ReportResult, folder: str | Path) -> list[Path]:
+    """One ``zones-<floor>.dxf`` per floor: footprints and attraction zone as DXF layers.
+
+    A floor whose rooms were read from a DXF drawing (``[[room_file]] format = "dxf"``)
+    gets a copy of that drawing with the zones added, in its units and frame; any other
+    floor a new drawing in metres, site frame (:func:`fringe.cad.write_zones_dxf`).
+    """
+    from .cad import ATTRACTION_LAYER, write_zones_dxf, zone_layer_name
+
+    site_drawings = () if r.site is None else (r.site.section("room_drawing") or ())
+    taken: set[str] = set()
+    written = []
+    for name, fps in r.footprints.items():
+        zones = {zone_layer_name(fp.threshold_mT): fp.geometry for fp in fps
+                 if fp.geometry is not None and not fp.geometry.is_empty}
+        notes = [f"Floor {name}: footprints of the field lines (largest |B| over the "
+                 f"occupied band), boundary {r.boundary.value_mT:g} mT "
+                 f"({r.boundary.source})."]
+        fa = None if r.attraction is None else r.attraction.floors.get(name)
+        if fa is not None and not fa.geometry.is_empty:
+            zones[ATTRACTION_LAYER] = fa.geometry
+            notes.append(f"{ATTRACTION_LAYER}: {fa.criterion}")
+        source = next((d for d in site_drawings if name in d.floors), None)
+        path = Path(folder) / f"zones-{slug(name, taken)}.dxf"
+        write_zones_dxf(path, zones, template=None if source is None else source.path,
+                        offset_m=(0.0, 0.0) if source is None else source.offset_m,
+                        notes="\n".join(notes))
+        written.append(path)
+    return written
 
 
 def _usual_permissions(folder: Path) -> None:
@@ -478,6 +558,10 @@ def section_windings(magnet, sec: Section, step_m: float = 0.01):
     return superlevel_polygons(s, z, inside.astype(float), 0.5), projected
 
 
+#: Legend text of the attraction-hazard zone on plan and section sheets.
+ATTRACTION_ZONE_LABEL = "attraction zone: magnetic pull on loose steel exceeds its weight"
+
+
 def _boundary_note(r: ReportResult) -> str:
     return (f"Controlled access area boundary: {r.boundary.value_mT:g} mT "
             f"({r.boundary.source})")
@@ -520,6 +604,13 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
                       f"stored energy {m.stored_energy_J / 1e6:.3g} MJ"))
         if m.description:
             facts.append((f"  model of {m.name}", m.description))
+        att = _attraction_extents(r, m.name)
+        if att is not None:
+            facts.append((f"  attraction zone of {m.name}",
+                          f"{att['axial_extent_m']:.2f} m along, {att['radial_extent_m']:.2f} m "
+                          "across the axis (pull on loose steel exceeds its weight)"))
+    if r.attraction is not None:
+        facts.append(("Attraction criterion", r.attraction.criterion))
     findings = []
     for fl, area in r.outside_controlled_m2.items():
         if area > 0.005:
@@ -562,6 +653,9 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
             else:
                 overlays.append(dr.Overlay(f"{m.name} on the {home} floor (outline)",
                                            poly.exterior, "outline"))
+        fa = None if r.attraction is None else r.attraction.floors.get(name)
+        if fa is not None and not fa.geometry.is_empty:
+            overlays.append(dr.Overlay(ATTRACTION_ZONE_LABEL, fa.geometry, "hazard"))
         clipped = [f"{fp.threshold_mT:g}" for fp in r.footprints[name] if fp.clipped]
         notes = [f"Coordinates: site frame, x east, y north, m. Grid step {r.grid_step_m:g} m.",
                  f"Occupied band {fl.band_bottom_m:g} to {fl.band_top_m:g} m above the floor "
@@ -572,6 +666,9 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
                  f"{100 * fm.band_error_rel:.2g} %.",
                  f"Area of the {r.boundary.value_mT:g} mT footprint outside controlled rooms: "
                  f"{r.outside_controlled_m2[name]:.2f} m²."]
+        if fa is not None:
+            notes.append(f"{fa.criterion}. Hatched: largest pull over the band levels; "
+                         f"zone area {fa.area_m2:.2f} m².")
         if clipped:
             notes.append(f"The {', '.join(clipped)} mT footprint(s) reach the edge of the "
                          "drawing: enlarge plan.extent_m to see them whole.")
@@ -587,8 +684,16 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
         sheets.append((f"plan-{slug(name, taken)}", fig))
 
     # sections
-    for sec in r.sections:
+    exposure = dr.exposure_lines_from_registry()
+    for k, sec in enumerate(r.sections):
         say(f"drawing the section {sec.direction} the axis of {sec.magnet!r}")
+        sec_overlays = []
+        sec_notes = []
+        if r.attraction is not None and k < len(r.attraction.sections):
+            zone = r.attraction.sections[k][1]
+            if not zone.is_empty:
+                sec_overlays.append(dr.Overlay(ATTRACTION_ZONE_LABEL, zone, "hazard"))
+            sec_notes.append(f"{r.attraction.criterion} (hatched).")
         m = site_mags.get(sec.magnet)
         windings = []
         notes = [f"Vertical plane through the centre of {sec.magnet}, {sec.direction} its "
@@ -615,8 +720,9 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
                             **base)
         fig = dr.section_sheet(sec.s_m, sec.z_m, sec.field_T, info,
                                thresholds_mT=r.thresholds_mT, boundary_mT=r.boundary.value_mT,
-                               floors=list(plan.floors), windings=windings, notes=notes,
-                               s_label=s_label)
+                               floors=list(plan.floors), windings=windings,
+                               notes=notes + sec_notes, s_label=s_label,
+                               exposure_lines=exposure, overlays=sec_overlays)
         stem = sec.magnet if sec.direction == "along" else f"{sec.magnet}-{sec.direction}"
         sheets.append((f"section-{slug(stem, taken)}", fig))
 
@@ -640,10 +746,17 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
         ["magnet", "threshold, mT", "along the axis, m", "across the axis, m"],
         [[m.name, t, a, rr] for m in r.magnets for t, a, rr in m.boundaries]))
     tables.append((
-        "Magnets: stored energy and dipole moment",
-        ["magnet", "centre field, T", "stored energy, MJ", "dipole moment, A·m²", "model"],
-        [[m.name, m.center_field_T, m.stored_energy_J / 1e6, m.dipole_moment_Am2,
+        "Magnets: stored energy and far-field zonal moments",
+        ["magnet", "centre field, T", "stored energy, MJ", "dipole, A·m²", "l = 3, A·m⁴",
+         "l = 5, A·m⁶", "model"],
+        [[m.name, m.center_field_T, m.stored_energy_J / 1e6, *m.zonal_moments,
           "coils from the scenario" if m.origin == "coils" else m.origin] for m in r.magnets]))
+    if r.attraction is not None:
+        tables.append((
+            f"Attraction zone ({r.attraction.object_kind} object, {r.attraction.material})",
+            ["magnet or floor", "along the axis, m", "across the axis, m", "zone area, m²"],
+            [[n, a, rr, "-"] for n, a, rr in r.attraction.extents_m]
+            + [[f"{n} floor", "-", "-", fa.area_m2] for n, fa in r.attraction.floors.items()]))
     tables.append((
         "Footprint areas per floor",
         ["floor", "threshold, mT", "area, m²", "area from sampled levels only, m²",

@@ -2,9 +2,17 @@
 
 from __future__ import annotations
 
+import os
 from importlib import resources
 
 import pytest
+from hypothesis import settings
+
+# CI (CI=true) replays the same examples every run, so a red build always means a real
+# regression that reproduces; local runs keep exploring new random examples.
+settings.register_profile("ci", derandomize=True, print_blob=True)
+if os.environ.get("CI"):
+    settings.load_profile("ci")
 
 
 @pytest.fixture(scope="session")

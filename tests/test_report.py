@@ -99,12 +99,14 @@ def test_geojson_round_trips_through_shapely(result):
     assert gj["type"] == "FeatureCollection"
     assert gj["coordinate_frame"]["units"] == "m"
     kinds = {f["properties"]["kind"] for f in gj["features"]}
-    assert kinds == {"footprint", "room", "equipment"}
+    assert kinds <= {"footprint", "attraction", "room", "equipment"}
+    assert {"footprint", "room", "equipment"} <= kinds
     n_poly = 0
     for f in gj["features"]:
         assert f["type"] == "Feature"
         if f["geometry"] is None:
-            assert f["properties"]["kind"] == "footprint" and f["properties"]["area_m2"] == 0
+            assert f["properties"]["kind"] in ("footprint", "attraction")
+            assert f["properties"]["area_m2"] == 0
             continue
         g = shape(f["geometry"])
         assert g.is_valid
@@ -194,6 +196,10 @@ def test_cli_full_report_with_drawings(tmp_path, capsys):
     assert not any(n.startswith(".") for n in names)
     svg = (out / "plan-ground.svg").read_text()
     assert "ADVISORY ESTIMATE ONLY" in svg and "0.5 mT" in svg and "ICNIRP 2009" in svg
+    sec = (out / "section-m.svg").read_text()
+    # issue 8: ICNIRP 2009 exposure lines with their source on the section sheets
+    assert "exposure line 400 mT" in sec and "Health Phys. 96(4):504-514" in sec
+    assert "zones-ground.dxf" in names
     im = Image.open(out / "plan-ground.png")
     assert im.size[0] > 2000 and "ADVISORY" in im.info.get("Description", "")
     assert (out / "report.pdf").read_bytes()[:5] == b"%PDF-"

@@ -1,0 +1,76 @@
+"""fringe.forked: a call in a forked child gives what the same call gives in-process.
+
+Consistency checks (no outside source): the value, the exception and the in-process
+fallback (``FRINGE_WORKERS=1``) must match a plain call.
+"""
+
+from __future__ import annotations
+
+import os
+
+import numpy as np
+import pytest
+
+from fringe.errors import FringeError, FringeInputError
+from fringe.forked import ForkedCall, forking_enabled
+
+
+def _values(n: int, *, scale: float = 1.0) -> dict:
+    return {"pid": os.getpid(), "array": np.arange(n) * scale}
+
+
+def _fails(message: str):
+    raise FringeInputError(message)
+
+
+class _Unpicklable(Exception):
+    def __reduce__(self):
+        raise TypeError("no pickling")
+
+
+def _fails_unpicklably():
+    raise _Unpicklable("lock held")
+
+
+@pytest.mark.skipif(not hasattr(os, "fork"), reason="needs os.fork")
+def test_value_comes_back_from_a_child_process(monkeypatch):
+    monkeypatch.delenv("FRINGE_WORKERS", raising=False)
+    assert forking_enabled()
+    out = ForkedCall(_values, 5, scale=2.0).result()
+    assert out["pid"] != os.getpid()  # it really ran elsewhere
+    np.testing.assert_array_equal(out["array"], np.arange(5) * 2.0)
+
+
+@pytest.mark.skipif(not hasattr(os, "fork"), reason="needs os.fork")
+def test_child_exception_is_raised_by_result(monkeypatch):
+    monkeypatch.delenv("FRINGE_WORKERS", raising=False)
+    call = ForkedCall(_fails, "`x` must be positive; got -1")
+    with pytest.raises(FringeInputError, match="`x` must be positive; got -1"):
+        call.result()
+    with pytest.raises(FringeError, match="_Unpicklable: lock held"):
+        ForkedCall(_fails_unpicklably).result()
+
+
+def test_workers_1_runs_in_process(monkeypatch):
+    monkeypatch.setenv("FRINGE_WORKERS", "1")
+    assert not forking_enabled()
+    out = ForkedCall(_values, 3).result()
+    assert out["pid"] == os.getpid()
+    np.testing.assert_array_equal(out["array"], np.arange(3))
+    with pytest.raises(FringeInputError, match="inline"):
+        ForkedCall(_fails, "inline").result()
+
+
+@pytest.mark.skipif(not hasattr(os, "fork"), reason="needs os.fork")
+def test_prefetched_helium_properties_equal_direct_ones(monkeypatch):
+    # the forked prefetch must hand back exactly what CoolProp gives in-process
+    import fringe.quench as q
+
+    monkeypatch.delenv("FRINGE_WORKERS", raising=False)
+    direct = q._coolprop_helium_properties(291.0, 100e3, 101325.0)
+    monkeypatch.setattr(q, "sys", type("S", (), {"modules": {}})())  # as if not imported yet
+    q.prefetch_helium_properties(291.0, 100e3, 101325.0)
+    assert (291.0, 100e3, 101325.0) in q._PREFETCHED
+    q.helium_properties.cache_clear()
+    assert q.helium_properties(291.0, 100e3, 101325.0) == direct
+    assert (291.0, 100e3, 101325.0) not in q._PREFETCHED
