@@ -42,13 +42,23 @@ def verdict(field_T: float, limit_T: float | None) -> str:
 def room_limit(room: Room, boundary: Boundary) -> tuple[float | None, str]:
     """The limit (T) a room is checked against and where it comes from.
 
-    Returns ``(None, "controlled access")`` for a controlled room without its own limit.
+    An open room is checked against the lower of the boundary value and its own
+    ``limit_mT``; a controlled room against its own ``limit_mT`` if it has one. Returns
+    ``(None, "controlled access")`` for a controlled room without its own limit.
     """
-    if room.limit_mT is not None:
-        return room.limit_mT * 1e-3, f"room limit_mT = {room.limit_mT:g}"
+    bound = f"boundary {boundary.value_mT:g} mT ({boundary.source})"
     if room.access == "controlled":
+        if room.limit_mT is not None:
+            return room.limit_mT * 1e-3, f"room limit_mT = {room.limit_mT:g}"
         return None, "controlled access"
-    return boundary.value_mT * 1e-3, f"boundary {boundary.value_mT:g} mT ({boundary.source})"
+    # an open room may hold neither the boundary nor its own limit: the lower one rules
+    # (a room limit above the boundary cannot move the controlled access area outward)
+    if room.limit_mT is not None and room.limit_mT < boundary.value_mT:
+        return room.limit_mT * 1e-3, f"room limit_mT = {room.limit_mT:g}"
+    if room.limit_mT is not None:
+        return boundary.value_mT * 1e-3, (f"{bound}, below the room's own limit_mT = "
+                                         f"{room.limit_mT:g}")
+    return boundary.value_mT * 1e-3, bound
 
 
 def _ring_samples(poly, spacing_m: float) -> np.ndarray:

@@ -21,7 +21,7 @@ import shapely
 from .constants import DEFAULT_THRESHOLDS_MT
 from .errors import ScenarioError, must_be
 from .plan import ACCESS_CLASSES, BOUNDARY_CHOICES, ROOM_LOADERS, Boundary, Equipment, Floor, Room
-from .scenario import SECTION_PARSERS, Reader, finite_number
+from .scenario import EXTRA_TOP_LEVEL_KEYS, SECTION_PARSERS, Reader, finite_number
 
 __all__ = ["PlanSettings", "SitePlan", "site_plan", "outline_polygon", "load_geojson_rooms",
            "DEFAULT_BOUNDARY", "DEFAULT_GRID_STEP_M", "DEFAULT_BAND_STEP_M", "DEFAULT_BAND_M",
@@ -213,7 +213,8 @@ def _ring(value: Any) -> list[tuple[float, float]] | None:
     return pts
 
 
-def outline_polygon(shell: Any, holes: Any, key_path: str, file: str | None):
+def outline_polygon(shell: Any, holes: Any, key_path: str, file: str | None,
+                    room: str | None = None):
     """A validated shapely Polygon from coordinate arrays, or :class:`ScenarioError`.
 
     Parameters
@@ -226,6 +227,8 @@ def outline_polygon(shell: Any, holes: Any, key_path: str, file: str | None):
         Key path named in any error, e.g. ``room[2].outline_m``.
     file : str or None
         File named in any error.
+    room : str, optional
+        Name of the room, also named in any error.
 
     Raises
     ------
@@ -233,24 +236,26 @@ def outline_polygon(shell: Any, holes: Any, key_path: str, file: str | None):
         For fewer than 3 points, non-numbers, zero area, or an invalid polygon (the
         shapely reason, e.g. ``Self-intersection[4 3]``, is quoted).
     """
+    of = "" if room is None else f" for room {room!r}"
     ring = _ring(shell)
     if ring is None:
-        raise ScenarioError(must_be(key_path, "an array of at least 3 [x, y] points in m",
+        raise ScenarioError(must_be(key_path, f"an array of at least 3 [x, y] points in m{of}",
                                     shell), file)
     inner = []
     for i, h in enumerate(holes or []):
         hr = _ring(h)
         if hr is None:
             raise ScenarioError(must_be(f"{key_path} hole[{i}]",
-                                        "an array of at least 3 [x, y] points in m", h), file)
+                                        f"an array of at least 3 [x, y] points in m{of}", h),
+                                file)
         inner.append(hr)
     poly = shapely.Polygon(ring, inner)
     if not shapely.is_valid(poly):
         reason = shapely.is_valid_reason(poly)
-        raise ScenarioError(must_be(key_path, f"a valid simple polygon (shapely: {reason})",
+        raise ScenarioError(must_be(key_path, f"a valid simple polygon{of} (shapely: {reason})",
                                     shell), file)
     if not poly.area > 0.0:
-        raise ScenarioError(must_be(key_path, "a polygon of non-zero area", shell), file)
+        raise ScenarioError(must_be(key_path, f"a polygon of non-zero area{of}", shell), file)
     return shapely.normalize(poly)
 
 
@@ -357,7 +362,7 @@ def parse_rooms(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Room, 
         check_floor(floor, rr.key("floor"), rr.file)
         access = rr.string("access", "open", choices=ACCESS_CLASSES)
         poly = outline_polygon(rr.raw("outline_m"), rr.raw("holes_m", []), rr.key("outline_m"),
-                               rr.file)
+                               rr.file, room=name)
         limit = rr.number("limit_mT", None, low=0.0, low_open=True)
         rr.finish()
         rooms.append((Room(name, floor, poly, access, limit), rr.key("name")))
@@ -434,3 +439,4 @@ SECTION_PARSERS["plan"] = parse_plan
 SECTION_PARSERS["floor"] = parse_floors
 SECTION_PARSERS["room"] = parse_rooms
 SECTION_PARSERS["equipment"] = parse_equipment
+EXTRA_TOP_LEVEL_KEYS.add("room_file")  # read by parse_rooms

@@ -282,12 +282,35 @@ def _parse_site_table(r: Reader | None) -> dict[str, Any]:
 SECTION_PARSERS: dict[str, Callable[[Reader, Path, tuple[Magnet, ...], dict], Any]] = {}
 
 
+#: Top-level keys read by a section parser besides its own key (e.g. ``room_file``,
+#: read by the ``room`` parser); parsers add theirs here.
+EXTRA_TOP_LEVEL_KEYS: set[str] = set()
+
+
+def _check_top_level_spelling(root: Reader) -> None:
+    """Refuse a misspelt section name before any section is parsed.
+
+    Sections are parsed in turn and only then are unknown keys reported; a misspelt
+    ``[[floors]]`` would first make ``[[room]]`` fail on its unknown floor, hiding the
+    real fault. A key that is not known but close to a known one is reported at once.
+    """
+    known = {"site", "magnet", *SECTION_PARSERS, *EXTRA_TOP_LEVEL_KEYS}
+    for k in root.data:
+        if k in known:
+            continue
+        hint = difflib.get_close_matches(k, sorted(known), n=1, cutoff=0.6)
+        if hint:
+            raise ScenarioError(f"`{k}` is not a known key; did you mean `{hint[0]}`?",
+                                root.file)
+
+
 def parse_site(data: dict, file: str | Path = "<scenario>") -> Site:
     """Validate an already-decoded TOML mapping into a :class:`Site`."""
     from . import sections  # noqa: F401  (registers section parsers)
 
     file = str(file)
     root = Reader(data, "", file)
+    _check_top_level_spelling(root)
     site_info = _parse_site_table(root.table("site"))
     mags = tuple(parse_magnet(m) for m in root.tables("magnet"))
     seen: set[str] = set()

@@ -81,6 +81,8 @@ CORPUS: list[tuple[str, str, list[str]]] = [
      ["`magnet[0].coil[0].current_A` must be a finite number", "-inf"]),
     ("center-inf", edit(("center_m = [0.0, 0.0, 1.0]", "center_m = [inf, 0.0, 1.0]")),
      ["`magnet[0].center_m` must be an array of 3 finite numbers"]),
+    ("magnet-section-misspelt", edit(("[[magnet]]\n", "[[magnets]]\n")),
+     ["`magnets` is not a known key; did you mean `magnet`?"]),
     ("center-absurdly-far", edit(("center_m = [0.0, 0.0, 1.0]", "center_m = [1e200, 0.0, 1.0]")),
      ["`magnet[0].center_m` must be site coordinates within ±1e+08 m"]),
     ("turns-huge-int", edit(("turns = 1000", "turns = 1" + "0" * 400)),

@@ -55,6 +55,11 @@ floor = "ground"
 limit_mT = 0.01
 outline_m = [[4, -1], [5, -1], [5, 1], [4, 1]]
 [[room]]
+name = "lax office"
+floor = "ground"
+limit_mT = 50.0
+outline_m = [[-1.2, 0.5], [-0.5, 0.5], [-0.5, 1.2], [-1.2, 1.2]]
+[[room]]
 name = "controlled lab with a limit"
 floor = "ground"
 access = "controlled"
@@ -93,6 +98,11 @@ def test_verdict_rule():
     assert room_limit(Room("a", "g", sq, "open"), b)[0] == pytest.approx(5e-4)
     assert room_limit(Room("a", "g", sq, "controlled"), b)[0] is None
     assert room_limit(Room("a", "g", sq, "controlled", 2.0), b)[0] == pytest.approx(2e-3)
+    # issue 3: an open room exceeds when it reaches the boundary "or its own limit_mT":
+    # the lower of the two rules, so a lax room limit cannot hide a boundary breach
+    assert room_limit(Room("a", "g", sq, "open", 0.1), b)[0] == pytest.approx(1e-4)
+    lax, why = room_limit(Room("a", "g", sq, "open", 50.0), b)
+    assert lax == pytest.approx(5e-4) and "below the room's own limit_mT = 50" in why
 
 
 def test_site_is_as_described(result):
@@ -116,6 +126,9 @@ def test_room_verdicts_inside_and_outside_the_line(result):
     assert 6.0 > 2 * ax and far < 5e-4 / 2 and v["far office"].verdict == "within"
     assert v["scan room"].verdict == "controlled"
     assert v["strict store"].verdict == "exceeds"  # its own 0.01 mT limit
+    # a room limit above the boundary does not lift it: the 0.5 mT line still rules
+    assert near_in < 5e-2 and v["lax office"].verdict == "exceeds"
+    assert v["lax office"].limit_T == pytest.approx(5e-4)
     assert _abs_B(site, (4.0, 0.0, 1.2)) > 2 * 1e-5
     lab = v["controlled lab with a limit"]
     assert lab.verdict == "within" and lab.limit_T == pytest.approx(5e-5)
