@@ -19,8 +19,9 @@ def register(sub) -> None:
                     "band), verdicts for rooms and equipment, sections through each magnet, "
                     "and write summary.json, zones.geojson, CSV tables, plan and section "
                     "sheets (PNG, SVG) and report.pdf into --out (replaced whole, "
-                    "atomically). Exit code 3 when any verdict is 'exceeds' (unless "
-                    "--no-fail). " + ADVISORY_NOTICE)
+                    "atomically). Exit code 3 when any verdict is 'exceeds' — a room, a "
+                    "piece of equipment, or a floor where the boundary line leaves the "
+                    "controlled rooms (unless --no-fail). " + ADVISORY_NOTICE)
     p.add_argument("scenario", help="scenario TOML file")
     p.add_argument("--out", required=True, metavar="DIR",
                    help="output folder (created; an existing one is replaced)")
@@ -92,8 +93,13 @@ def terminal_summary(result, out_dir: str | Path) -> str:
                         "supplier" if below else ""))
     n_ex = sum(c.verdict == "exceeds" for c in r.rooms) + sum(
         e.verdict == "exceeds" for e in r.equipment)
+    spill = [f for f in r.floor_maps if r.floor_verdict(f) == "exceeds"]
+    if spill:
+        lines.append(f"the {r.boundary.value_mT:g} mT line reaches beyond the controlled rooms "
+                     f"on floor(s) {', '.join(spill)}: extend the controlled access area or "
+                     "change the layout")
     lines.append(f"verdict: {n_ex} item(s) exceed their limit" if n_ex
-                 else "verdict: nothing exceeds its limit")
+                 else "verdict: no room or equipment exceeds its limit")
     lines.append(f"outputs: {out_dir}")
     lines.append(ADVISORY_NOTICE)
     return "\n".join(lines)

@@ -76,6 +76,13 @@ SITE_FRAME: dict = {
 }
 
 
+#: Area (m²) of the boundary footprint outside controlled rooms above which a floor's
+#: verdict is ``exceeds``: the line must stay inside the controlled access area, in open
+#: rooms and in space no room covers alike. 0.01 m² (10 cm × 10 cm) absorbs contouring
+#: round-off where the line runs along a controlled wall (common practice, no source).
+SPILL_TOLERANCE_M2: float = 0.01
+
+
 @dataclass(frozen=True)
 class MagnetSummary:
     """One magnet alone: centre field and the extent of each threshold line."""
@@ -124,11 +131,18 @@ class ReportResult:
     #: The attraction-hazard zone: extents, floor zones, section zones (fringe.attraction).
     attraction: SiteAttraction | None = field(default=None, compare=False, repr=False)
 
+    def floor_verdict(self, floor: str) -> str:
+        """``exceeds`` when the boundary footprint on ``floor`` reaches beyond its
+        controlled rooms by more than :data:`SPILL_TOLERANCE_M2`, else ``within``."""
+        spill = self.outside_controlled_m2.get(floor, 0.0)
+        return "exceeds" if spill > SPILL_TOLERANCE_M2 else "within"
+
     @property
     def exceeds(self) -> bool:
-        """True when any room or equipment verdict is ``exceeds``."""
-        return any(r.verdict == "exceeds" for r in self.rooms) or any(
-            e.verdict == "exceeds" for e in self.equipment)
+        """True when any room, equipment or floor verdict is ``exceeds``."""
+        return (any(r.verdict == "exceeds" for r in self.rooms)
+                or any(e.verdict == "exceeds" for e in self.equipment)
+                or any(self.floor_verdict(f) == "exceeds" for f in self.floor_maps))
 
     def floor_footprint(self, floor: str, threshold_mT: float) -> Footprint | None:
         """The footprint of ``threshold_mT`` on ``floor`` (None if not computed)."""
@@ -326,6 +340,7 @@ def summary_dict(r: ReportResult) -> dict:
             "band_refinement_rel": _num(fm.band_correction_rel, 3),
             "max_field_T": _num(float(np.max(fm.envelope_T))),
             "boundary_outside_controlled_m2": _num(r.outside_controlled_m2[name], 4),
+            "verdict": r.floor_verdict(name),
             "footprints": [{"threshold_mT": fp.threshold_mT, "area_m2": _num(fp.area_m2, 5),
                             "sampled_area_m2": _num(fp.sampled_area_m2, 5),
                             "clipped": fp.clipped} for fp in r.footprints[name]],

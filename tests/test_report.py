@@ -44,7 +44,12 @@ name = "scan room"
 floor = "ground"
 access = "controlled"
 outline_m = [[-2, -2], [2, -2], [2, 2], [-2, 2]]
-holes_m = [[[-1.9, 1.2], [-1.2, 1.2], [-1.2, 1.9], [-1.9, 1.9]]]
+holes_m = [[[-1.95, 1.6], [-1.6, 1.6], [-1.6, 1.95], [-1.95, 1.95]]]
+[[room]]
+name = "west bay"
+floor = "ground"
+access = "controlled"
+outline_m = [[-3, -1], [-2, -1], [-2, 1], [-3, 1]]
 [[room]]
 name = "office above"
 floor = "first"
@@ -53,6 +58,17 @@ outline_m = [[-3, -3], [3, -3], [3, 3], [-3, 3]]
 name = "far scanner"
 position_m = [8.0, 0.0, 1.2]
 limit_mT = 0.1
+"""
+
+# The 0.5 mT line leaves the scan room along the axis (it reaches ~2.3 m, the walls are
+# at ±2 m): westwards into the controlled west bay, eastwards into this bay — or, in
+# BASE alone, into space no room covers.
+EAST_BAY = """
+[[room]]
+name = "east bay"
+floor = "ground"
+access = "controlled"
+outline_m = [[2, -1], [3, -1], [3, 1], [2, 1]]
 """
 
 EXCEEDING_ROOM = """
@@ -65,7 +81,7 @@ outline_m = [[2, -1], [3, -1], [3, 1], [2, 1]]
 
 @pytest.fixture(scope="module")
 def result():
-    return compute_report(parse_site(tomllib.loads(BASE), "small.toml"))
+    return compute_report(parse_site(tomllib.loads(BASE + EAST_BAY), "small.toml"))
 
 
 def test_summary_has_required_fields(result):
@@ -134,12 +150,13 @@ def _write(tmp_path, text, name="s.toml"):
 
 
 def test_cli_exit_codes(tmp_path, capsys):
-    ok = _write(tmp_path, BASE)
+    ok = _write(tmp_path, BASE + EAST_BAY)
     bad = _write(tmp_path, BASE + EXCEEDING_ROOM, "bad.toml")
     out = tmp_path / "out"
     assert main(["report", ok, "--out", str(out), "--no-drawings", "--quiet"]) == 0
     text = capsys.readouterr().out
-    assert "nothing exceeds" in text and ADVISORY_NOTICE in text
+    assert "no room or equipment exceeds" in text and ADVISORY_NOTICE in text
+    assert "reaches beyond the controlled rooms" not in text
     assert {"summary.json", "zones.geojson", "rooms.csv", "equipment.csv"} <= {
         p.name for p in out.iterdir()}
     assert main(["report", bad, "--out", str(out), "--no-drawings", "--quiet"]) == 3
@@ -149,6 +166,22 @@ def test_cli_exit_codes(tmp_path, capsys):
     assert next(r for r in s["rooms"] if r["name"] == "store")["verdict"] == "exceeds"
     assert main(["report", bad, "--out", str(out), "--no-drawings", "--quiet",
                  "--no-fail"]) == 0
+
+
+def test_boundary_spilling_into_unmapped_space_fails_the_floor(tmp_path, capsys):
+    # no room is over-limit, but the 0.5 mT line leaves the controlled rooms into space
+    # no room covers: the controlled access area is not closed, so the floor exceeds
+    spill = _write(tmp_path, BASE)
+    out = tmp_path / "out"
+    assert main(["report", spill, "--out", str(out), "--no-drawings", "--quiet"]) == 3
+    text = capsys.readouterr().out
+    assert "reaches beyond the controlled rooms on floor(s) ground" in text
+    assert "no room or equipment exceeds" in text
+    s = json.loads((out / "summary.json").read_text())
+    fl = {f["name"]: f for f in s["floors"]}
+    assert fl["ground"]["verdict"] == "exceeds" and fl["first"]["verdict"] == "within"
+    assert fl["ground"]["boundary_outside_controlled_m2"] > 0.1
+    assert s["exceeds"] is True
 
 
 def test_cli_refuses_to_replace_a_foreign_folder(tmp_path, capsys, monkeypatch):
@@ -184,7 +217,7 @@ def test_cli_bad_input_leaves_output_untouched(tmp_path, capsys):
 def test_cli_full_report_with_drawings(tmp_path, capsys):
     from PIL import Image
 
-    scen = _write(tmp_path, BASE)
+    scen = _write(tmp_path, BASE + EAST_BAY)
     out = tmp_path / "rep"
     assert main(["report", scen, "--out", str(out), "--grid-step-m", "0.5"]) == 0
     err = capsys.readouterr().err
