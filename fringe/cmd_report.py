@@ -108,11 +108,14 @@ def terminal_summary(result, out_dir: str | Path) -> str:
 def run_report(scenario: str | Path, out_dir: str | Path, *, grid_step_m: float | None = None,
                drawings: bool = True, quiet: bool = False):
     """Load, compute, write; returns the :class:`fringe.report.ReportResult`."""
-    from .report import compute_report, write_report
+    from .report import compute_report, prefetch_quench_data, write_report
 
     site = load_site(scenario)
     progress = _Progress(quiet)
     progress(f"loaded {scenario}")
+    if drawings:  # import the drawing stack while a child starts CoolProp (both ~1 s+)
+        prefetch_quench_data(site)
+        from . import drawing  # noqa: F401
     result = compute_report(site, grid_step_m=grid_step_m, progress=progress)
     write_report(result, out_dir, drawings=drawings, progress=progress)
     progress(f"wrote {out_dir}")

@@ -44,6 +44,7 @@ from .energy import stored_energy_J
 from .errors import FringeInputError, ScenarioError
 from .exposure import exposure_limits
 from .extents import threshold_extents_m
+from .forked import ForkedCall
 from .multipole import zonal_moments_Am
 from .plan import Boundary
 from .plan_scenario import SitePlan, site_plan
@@ -159,6 +160,21 @@ def _now_utc() -> str:
     return t.replace(microsecond=0).isoformat().replace("+00:00", "Z")
 
 
+def prefetch_quench_data(site) -> None:
+    """Start the helium look-ups of the site's ``[[quench]]`` tables in a second process
+    (:func:`fringe.quench.prefetch_helium_properties`); a no-op without such tables or
+    when they are already started."""
+    quench_inputs = tuple(site.section("quench", ()) or ())
+    if not quench_inputs:
+        return
+    from .quench import prefetch_helium_properties
+
+    for q in quench_inputs:
+        t_c = 20.0 if q.room_temperature_C is None else float(q.room_temperature_C)
+        p_kpa = 101.325 if q.room_pressure_kPa is None else float(q.room_pressure_kPa)
+        prefetch_helium_properties(t_c + 273.15, p_kpa * 1e3)  # as quench_budget asks
+
+
 def compute_report(site, *, grid_step_m: float | None = None, progress: Progress = None
                    ) -> ReportResult:
     """Compute maps, footprints, sections, extents and verdicts for ``site``.
@@ -184,13 +200,7 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     thr_T = [t * 1e-3 for t in thr_mT]
     say = progress or (lambda msg: None)
     quench_inputs = tuple(site.section("quench", ()) or ())
-    if quench_inputs:  # CoolProp's slow first import overlaps the maps below
-        from .quench import prefetch_helium_properties
-
-        for q in quench_inputs:
-            t_c = 20.0 if q.room_temperature_C is None else float(q.room_temperature_C)
-            p_kpa = 101.325 if q.room_pressure_kPa is None else float(q.room_pressure_kPa)
-            prefetch_helium_properties(t_c + 273.15, p_kpa * 1e3)  # as quench_budget asks
+    prefetch_quench_data(site)  # CoolProp's slow first import overlaps the maps below
 
     mags = []
     for m in site.magnets:
@@ -478,9 +488,17 @@ def write_report(r: ReportResult, out_dir: str | Path, *, drawings: bool = True,
                                            + "\n", "utf-8")
         (tmp / "rooms.csv").write_text(rooms_csv(r), "utf-8")
         (tmp / "equipment.csv").write_text(equipment_csv(r), "utf-8")
-        write_zone_drawings(r, tmp)
-        if drawings:
-            _write_drawings(r, tmp, say)
+        if drawings:  # the DXF drawings are written by a child while the sheets are built
+            dxf = ForkedCall(write_zone_drawings, r, tmp)
+            try:
+                _write_drawings(r, tmp, say)
+            except BaseException:
+                with contextlib.suppress(BaseException):  # reap; the first error wins
+                    dxf.result()
+                raise
+            dxf.result()
+        else:
+            write_zone_drawings(r, tmp)
         _usual_permissions(tmp)
         names = sorted(p.name for p in tmp.iterdir())
     return names
@@ -801,21 +819,20 @@ def _write_drawings(r: ReportResult, folder: Path, say) -> None:
     are numbered here first, so the PDF and the single files carry the same numbers.
     """
     from . import drawing as dr
-    from .forked import ForkedCall
 
     sheets = build_sheets(r, say)
     figures = dr.number_sheets([f for _, f in sheets])
     say("writing report.pdf and the sheet files")
-    pdf = ForkedCall(dr.write_pdf, figures, folder / "report.pdf",
-                     title=f"{r.site_name}: stray-field report")
+    # energy maps (PNG only) go with the PDF: the two processes then take about as long
+    energy = [(stem, fig) for stem, fig in sheets if stem and stem.startswith("energy-")]
+    pdf = ForkedCall(_write_pdf_and_pngs, figures, folder / "report.pdf",
+                     f"{r.site_name}: stray-field report",
+                     [(folder / f"{stem}.png", fig) for stem, fig in energy])
     try:
         for stem, fig in sheets:
-            if stem is None:
+            if stem is None or stem.startswith("energy-"):
                 continue
             dr.save_figure(fig, folder / f"{stem}.png")
-            if stem.startswith("energy-"):  # energy maps: PNG and PDF only
-                say(f"wrote {stem}.png")
-                continue
             dr.save_figure(fig, folder / f"{stem}.svg")
             say(f"wrote {stem}.png and .svg")
     except BaseException:
@@ -823,4 +840,12 @@ def _write_drawings(r: ReportResult, folder: Path, say) -> None:
             pdf.result()
         raise
     pdf.result()
-    say("wrote report.pdf")
+    say("wrote report.pdf" + "".join(f", {stem}.png" for stem, _ in energy))
+
+
+def _write_pdf_and_pngs(figures, pdf_path: Path, title: str, pngs) -> None:
+    from . import drawing as dr
+
+    dr.write_pdf(figures, pdf_path, title=title)
+    for path, fig in pngs:
+        dr.save_figure(fig, path)
