@@ -66,6 +66,9 @@ class PlanSettings:
     band_step_m: float = DEFAULT_BAND_STEP_M
     band_m: tuple[float, float] = DEFAULT_BAND_M
     extent_m: tuple[tuple[float, float], tuple[float, float]] | None = None
+    #: Exposure limits drawn on section sheets (keys of fringe.exposure.EXPOSURE_LIMITS);
+    #: all of them by default, none for an empty list.
+    exposure_lines: tuple[str, ...] | None = None
 
 
 def default_settings() -> PlanSettings:
@@ -176,9 +179,21 @@ def parse_plan(root: Reader, file: Path, magnets, parsed: dict) -> PlanSettings:
         if n > 4e6:
             r.fail(r.key("grid_step_m"), f"coarse enough for at most 4 million plan nodes "
                    f"over `plan.extent_m` (this step gives {n:.3g})", step)
+    exposure = None
+    if r.has("exposure_lines"):
+        from .exposure import EXPOSURE_LIMITS
+
+        ex = r.raw("exposure_lines")
+        if not isinstance(ex, list) or not all(isinstance(x, str) for x in ex):
+            r.fail(r.key("exposure_lines"), "an array of exposure-limit names", ex)
+        for i, x in enumerate(ex):
+            if x not in EXPOSURE_LIMITS:
+                r.fail(f"{r.key('exposure_lines')}[{i}]",
+                       f"one of {', '.join(map(repr, EXPOSURE_LIMITS))}", x)
+        exposure = tuple(dict.fromkeys(ex))
     r.finish()
     return PlanSettings(boundary, _with_boundary(th, boundary.value_mT), step, band_step,
-                        band, extent)
+                        band, extent, exposure)
 
 
 # -- [[floor]] ------------------------------------------------------------------------

@@ -305,12 +305,16 @@ def _attraction_extents(r: ReportResult, magnet: str) -> dict | None:
 
 def _attraction_area(r: ReportResult, floor: str) -> dict | None:
     fa = None if r.attraction is None else r.attraction.floors.get(floor)
-    return None if fa is None else {"area_m2": _num(fa.area_m2, 5)}
+    if fa is None:
+        return None
+    fpp = fa.map.force_product_T2_per_m
+    peak = float(np.nanmax(fpp)) if np.any(np.isfinite(fpp)) else 0.0
+    return {"area_m2": _num(fa.area_m2, 5), "max_force_product_T2_per_m": _num(peak, 5)}
 
 
-def _exposure_rows() -> list[dict]:
+def _exposure_rows(r: ReportResult) -> list[dict]:
     return [{"name": e.name, "field_T": e.field_T, "applies_to": e.applies_to,
-             "source": e.source} for e in exposure_limits()]
+             "source": e.source} for e in exposure_limits(r.plan.settings.exposure_lines)]
 
 
 def summary_dict(r: ReportResult) -> dict:
@@ -371,7 +375,7 @@ def summary_dict(r: ReportResult) -> dict:
         "quench": [b.to_dict() for b in r.quench],
         "attraction_criterion": None if att is None else {
             "object": att.object_kind, "material": att.material, "criterion": att.criterion},
-        "exposure_limits": _exposure_rows(),
+        "exposure_limits": _exposure_rows(r),
         "verdict_counts": counts,
         "exceeds": r.exceeds,
     }
@@ -717,7 +721,7 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
         sheets.append((f"plan-{slug(name, taken)}", fig))
 
     # sections
-    exposure = dr.exposure_lines_from_registry()
+    exposure = dr.exposure_lines_from_registry(plan.settings.exposure_lines)
     for k, sec in enumerate(r.sections):
         say(f"drawing the section {sec.direction} the axis of {sec.magnet!r}")
         sec_overlays = []

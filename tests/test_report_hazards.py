@@ -121,3 +121,42 @@ layers = {{ {layers} }}
     fp = r.floor_footprint("ground", 0.5)
     back = read_dxf_polygons(f, zone_layer_name(0.5), offset_m=(1.0, 2.0))
     assert shapely.hausdorff_distance(back, fp.geometry) < MM
+
+
+def test_force_product_reported_per_floor(demo_result):
+    d = summary_dict(demo_result)
+    fl = {f["name"]: f for f in d["floors"]}
+    fa = demo_result.attraction.floors["ground"]
+    import numpy as np
+
+    # the reported peak is the largest B·|∇|B|| of the floor's attraction map
+    assert fl["ground"]["attraction"]["max_force_product_T2_per_m"] == pytest.approx(
+        float(np.nanmax(fa.map.force_product_T2_per_m)), rel=1e-4)
+    # inside the zone the pull beats the weight: for any shape B·|∇|B|| ≥ |B|·ρg/M_s
+    # (docs/hazards.md), so the peak is well above zero on the magnet floor
+    assert fl["ground"]["attraction"]["max_force_product_T2_per_m"] > 1e-3
+
+
+@pytest.mark.parametrize("lines, expected", [
+    ("[]", []),
+    ('["icnirp-2009-public"]', [0.4]),
+])
+def test_exposure_lines_are_optional(lines, expected, tmp_path):
+    from conftest import SMALL_SCENARIO_TOML
+
+    from fringe.scenario import parse_site
+
+    text = SMALL_SCENARIO_TOML + f"[plan]\ngrid_step_m = 0.25\nexposure_lines = {lines}\n"
+    import tomllib
+
+    r = compute_report(parse_site(tomllib.loads(text), "x.toml"))
+    assert [e["field_T"] for e in summary_dict(r)["exposure_limits"]] == expected
+
+
+def test_unknown_exposure_line_names_the_choices(tmp_path, write_file, run_cli):
+    from conftest import SMALL_SCENARIO_TOML
+
+    scen = write_file(SMALL_SCENARIO_TOML + '[plan]\nexposure_lines = ["icnirp-public"]\n')
+    code, out, err = run_cli("report", scen, "--out", str(tmp_path / "o"), "--quiet")
+    assert code == 2 and "Traceback" not in err
+    assert "`plan.exposure_lines[0]` must be one of 'icnirp-2009-public'" in err
