@@ -109,9 +109,10 @@ def test_properties_outside_coolprop_range_raise():
 # -- hand calculation, every step written out ------------------------------------------------
 
 def test_hand_calculation_one_case_every_step():
-    # Stated inputs (an invented case): W = 1.2 MJ, 800 L of liquid, room 240 m³ at
-    # 20 °C and 101.325 kPa, dump resistor 0.8 Ω on a 40 H circuit carrying 245 A.
-    W = 1.2e6                      # J
+    # Stated inputs (an invented case): 800 L of liquid, room 240 m³ at 20 °C and
+    # 101.325 kPa, dump resistor 0.8 Ω on a 40 H circuit carrying 245 A, so the stored
+    # energy is W = ½LI₀² = ½·40·245² = 1 200 500 J.
+    W = 0.5 * 40.0 * 245.0 ** 2    # J
     helium_L = 800.0               # L
     room_m3 = 240.0                # m³
     T_room = 20.0 + 273.15         # K
@@ -160,6 +161,24 @@ def test_hand_calculation_one_case_every_step():
     assert b.peak_voltage_V == pytest.approx(v_peak, rel=rel)
     assert b.dump.time_to_1_percent_s == pytest.approx(t_1pc, rel=rel)
     assert b.dump.energy_into_resistor_J == pytest.approx(e_dump, rel=rel)
+    # The same steps written out with the numbers (CoolProp 8.0 HEOS helium: h_fg =
+    # 20 564 J/kg, ρ_liq = 124.669 kg/m³, ρ_gas(20 °C, 1 atm) = 0.166311 kg/m³):
+    #   m = 1 200 500 / 20 564 = 58.378 kg → 58.378 / 124.669 = 0.46826 m³ = 468.26 L
+    #   gas 58.378 / 0.166311 = 351.01 m³; inventory 0.8 · 124.669 = 99.735 kg → 599.69 m³
+    #   x = 0.2095·e^(−351.01/240) = 4.853 %; worst 0.2095·e^(−599.69/240) = 1.722 %
+    #   room for 19.5 %: 599.69 / ln(0.2095/0.195) = 8 361 m³
+    #   τ = 40/0.8 = 50 s; V = 245·0.8 = 196 V; t(1 %) = 50·ln 100 = 230.26 s
+    # 0.5 % leaves room for other CoolProp releases' helium data (the arithmetic itself
+    # is checked to 1e-12 above).
+    pinned = {"helium_boiled_kg": 58.378, "helium_boiled_L": 468.26, "gas_volume_m3": 351.01,
+              "inventory_kg": 99.735, "inventory_gas_volume_m3": 599.69,
+              "oxygen_fraction_energy_limited": 0.04853, "oxygen_fraction_worst_case": 0.01722,
+              "room_volume_m3_for_19_5_percent": 8361.0}
+    for attr, value in pinned.items():
+        assert getattr(b, attr) == pytest.approx(value, rel=5e-3), attr
+    assert (b.time_constant_s, b.peak_voltage_V) == (50.0, 196.0)
+    assert b.dump.time_to_1_percent_s == pytest.approx(230.26, abs=0.01)
+    assert b.dump.energy_into_resistor_J == pytest.approx(1_200_500.0, rel=1e-12)
     # Step 9: verdicts follow from comparing the fractions with 19.5 % and 18 %.
     by_key = {t["threshold"]: t for t in b.thresholds}
     for key, limit in (("19.5%", 0.195), ("18%", 0.18)):

@@ -160,3 +160,42 @@ def test_unknown_exposure_line_names_the_choices(tmp_path, write_file, run_cli):
     code, out, err = run_cli("report", scen, "--out", str(tmp_path / "o"), "--quiet")
     assert code == 2 and "Traceback" not in err
     assert "`plan.exposure_lines[0]` must be one of 'icnirp-2009-public'" in err
+
+
+def test_datasheet_only_magnet_gets_a_full_report_that_says_so(tmp_path):
+    # issue 7 "done when": a planner with only data-sheet numbers gets a full zone
+    # report, and the report states the magnet is an equivalent model fitted to them
+    from test_fit import DATASHEET_SITE
+
+    from fringe.report import build_sheets
+
+    p = tmp_path / "site.toml"
+    p.write_text(DATASHEET_SITE + "[plan]\ngrid_step_m = 0.5\n", encoding="utf-8")
+    r = compute_report(load_site(p))
+    m = summary_dict(r)["magnets"][0]
+    assert m["origin"] == "datasheet-fit"
+    assert "Equivalent coil model fitted to data-sheet numbers" in m["description"]
+    # the fitted model reproduces its data-sheet line in the report's own extents (2 %)
+    b05 = next(b for b in m["boundaries"] if b["threshold_mT"] == 0.5)
+    assert b05["axial_extent_m"] == pytest.approx(10.0, rel=0.02)
+    assert b05["radial_extent_m"] == pytest.approx(7.8, rel=0.02)
+    cover = build_sheets(r)[0][1]
+    from matplotlib.text import Text
+
+    texts = " ".join(t.get_text() for t in cover.findobj(Text))
+    assert "Equivalent coil model fitted to data-sheet numbers" in texts
+
+
+def test_report_sheets_include_energy_density_and_quench(demo_result):
+    # issues 4 and 5: the energy-density maps and the quench budget join the report
+    from fringe.report import build_sheets
+
+    from matplotlib.text import Text
+
+    titles = []
+    for _stem, fig in build_sheets(demo_result):
+        titles.append(" ".join(t.get_text() for t in fig.findobj(Text)))
+    joined = "\n".join(titles)
+    assert sum("Energy density" in t for t in titles) >= 2  # plan and section
+    assert "Quench release budget" in joined
+    assert all("ADVISORY ESTIMATE ONLY" in t for t in titles)  # every sheet
