@@ -188,9 +188,9 @@ def test_datasheet_only_magnet_gets_a_full_report_that_says_so(tmp_path):
 
 def test_report_sheets_include_energy_density_and_quench(demo_result):
     # issues 4 and 5: the energy-density maps and the quench budget join the report
-    from fringe.report import build_sheets
-
     from matplotlib.text import Text
+
+    from fringe.report import build_sheets
 
     titles = []
     for _stem, fig in build_sheets(demo_result):
