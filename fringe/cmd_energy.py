@@ -20,6 +20,7 @@ from .energy import (
     check_box,
     energy_density_plan_map,
     energy_density_section_map,
+    energy_outside_sphere_J,
     magnet_energy,
     site_mutual_energies,
 )
@@ -50,6 +51,9 @@ def register(sub) -> None:
     p.add_argument("--box", nargs=6, type=float, metavar=("XMIN", "YMIN", "ZMIN", "XMAX",
                                                           "YMAX", "ZMAX"),
                    help="also report the energy outside this site box (m; must hold the windings)")
+    p.add_argument("--radius-m", type=float, metavar="R",
+                   help=("also report the energy outside a sphere of radius R about each "
+                         "magnet centre (m; at least the sphere enclosing the windings)"))
     p.add_argument("--maps", metavar="DIR",
                    help="write plan and section PNG maps of the energy density to DIR")
     p.add_argument("--levels", nargs="+", type=float, metavar="U",
@@ -78,6 +82,15 @@ def magnet_record(e: MagnetEnergy) -> dict:
         "field_energy_J": e.field_energy_J,
         "verify_relative_difference": e.verify_relative_difference,
     }
+
+
+def _radius_record(e: MagnetEnergy, radius_m, outside: dict) -> dict:
+    if e.name not in outside:
+        return {}
+    w = outside[e.name]
+    return {"energy_outside_radius": {"radius_m": radius_m, "energy_J": w,
+                                      "fraction": w / e.stored_energy_J
+                                      if e.stored_energy_J else None}}
 
 
 def format_magnet(e: MagnetEnergy) -> str:
@@ -190,6 +203,15 @@ def run(args) -> int:
         box = (b[:3], b[3:])
         for m in magnets:
             check_box(m, *box, key="--box")
+    outside_r: dict[str, float] = {}
+    if args.radius_m is not None:
+        rad = float(args.radius_m)
+        for m in magnets:
+            if not (math.isfinite(rad) and rad >= m.enclosing_radius_m):
+                raise ScenarioError(must_be(
+                    "--radius-m", f"a radius of at least {m.enclosing_radius_m:.4g} m (the "
+                    f"sphere enclosing the windings of {m.name!r})", args.radius_m))
+            outside_r[m.name] = energy_outside_sphere_J(m, rad)
     results = [magnet_energy(m, envelope_margin_m=args.envelope_margin_m, verify=args.verify,
                              box_m=box) for m in magnets]
     mutual = site_mutual_energies(magnets) if len(magnets) > 1 else []
@@ -200,7 +222,8 @@ def run(args) -> int:
     if args.json:
         print_json({
             "site": site.name,
-            "magnets": [magnet_record(e) for e in results],
+            "magnets": [{**magnet_record(e), **_radius_record(e, args.radius_m, outside_r)}
+                        for e in results],
             "mutual_energies": [{"magnets": [a, b], "interaction_energy_J": w}
                                 for a, b, w in mutual],
             "total_energy_J": total,
@@ -211,6 +234,11 @@ def run(args) -> int:
         print(f"site: {site.name}")
         for e in results:
             print(format_magnet(e))
+            if e.name in outside_r:
+                w_out = outside_r[e.name]
+                print(f"  energy outside r = {args.radius_m:g} m  {w_out:14.6g} J  "
+                      f"({100 * w_out / e.stored_energy_J:.3g} % of W; sphere about the "
+                      "centre)")
         for a, b, w in mutual:
             print(f"interaction energy {a!r} ↔ {b!r}: {w:.6g} J  (flux of one magnet's field "
                   "linked by the other's windings)")

@@ -94,3 +94,27 @@ def test_maps_into_a_file_is_input_error(demo_path, tmp_path, capsys):
     f.write_text("x", encoding="utf-8")
     assert main(["energy", demo_path, "--maps", str(f / "sub")]) == 2
     assert "`--maps` must be" in capsys.readouterr().err
+
+
+def test_energy_outside_a_radius_tends_to_the_dipole_tail(tmp_path, capsys):
+    # far out only the dipole is left: B² = (μ₀m/4πr³)²(1 + 3cos²θ), so the energy
+    # outside a sphere of radius R is μ₀m²/(12πR³) (textbook dipole field, integrated by
+    # hand: ∫(1 + 3cos²θ)dΩ = 8π). At R = 20 m ≫ 0.3 m coil the l = 3 term is < 1e-6.
+    import math
+
+    from conftest import SMALL_SCENARIO_TOML
+
+    from fringe.constants import MU0_T_M_PER_A as MU0
+    from fringe.scenario import load_site
+
+    scen = tmp_path / "s.toml"
+    scen.write_text(SMALL_SCENARIO_TOML, encoding="utf-8")
+    assert main(["energy", str(scen), "--json", "--radius-m", "20"]) == 0
+    rec = json.loads(capsys.readouterr().out)["magnets"][0]["energy_outside_radius"]
+    m = load_site(scen).magnets[0].dipole_moment_Am2
+    assert rec["radius_m"] == 20.0
+    assert rec["energy_J"] == pytest.approx(MU0 * m * m / (12 * math.pi * 20.0**3), rel=1e-4)
+    assert 0 < rec["fraction"] < 1e-3
+    # inside the sphere enclosing the windings the closed form does not hold: refused
+    assert main(["energy", str(scen), "--radius-m", "0.1"]) == 2
+    assert "`--radius-m` must be a radius of at least" in capsys.readouterr().err
