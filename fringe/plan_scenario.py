@@ -10,8 +10,10 @@ See ``docs/scenario.md`` ("Floors, rooms, equipment") for every key.
 
 from __future__ import annotations
 
+import difflib
 import json
 import math
+import warnings
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -19,7 +21,7 @@ from typing import Any
 import shapely
 
 from .constants import DEFAULT_THRESHOLDS_MT
-from .errors import ScenarioError, must_be
+from .errors import FringeWarning, ScenarioError, must_be
 from .plan import ACCESS_CLASSES, BOUNDARY_CHOICES, ROOM_LOADERS, Boundary, Equipment, Floor, Room
 from .scenario import EXTRA_TOP_LEVEL_KEYS, SECTION_PARSERS, Reader, finite_number
 
@@ -274,6 +276,10 @@ def outline_polygon(shell: Any, holes: Any, key_path: str, file: str | None,
     return shapely.normalize(poly)
 
 
+#: Feature properties the GeoJSON room loader reads.
+GEOJSON_ROOM_PROPERTIES: tuple[str, ...] = ("name", "floor", "access", "limit_mT")
+
+
 def load_geojson_rooms(path: str | Path, options: dict, file_for_errors: str) -> list[Room]:
     """Rooms from a GeoJSON (RFC 7946) FeatureCollection of Polygon features.
 
@@ -334,6 +340,16 @@ def load_geojson_rooms(path: str | Path, options: dict, file_for_errors: str) ->
         if not isinstance(name, str) or not name.strip():
             raise ScenarioError(must_be(f"{kp}.properties.name", "a non-empty string", name),
                                 file_for_errors)
+        # other tools' properties are kept quiet, but a near-miss of ours is a typo that
+        # would silently turn a controlled room open or drop its limit
+        for key in props:
+            if key in GEOJSON_ROOM_PROPERTIES:
+                continue
+            hint = difflib.get_close_matches(key, GEOJSON_ROOM_PROPERTIES, n=1, cutoff=0.75)
+            if hint:
+                warnings.warn(f"{file_for_errors}: `{kp}.properties.{key}` (room {name!r}) is "
+                              f"not read; did you mean `{hint[0]}`?", FringeWarning,
+                              stacklevel=2)
         poly = outline_polygon(coords[0], coords[1:], f"{kp}.geometry.coordinates "
                                f"(room {name!r})", file_for_errors)
         floor = props.get("floor", options.get("floor"))

@@ -191,3 +191,21 @@ def test_demo_site_building_parses(demo_site):
     assert any(r.access == "controlled" for r in plan.rooms)
     assert len(plan.floors) >= 2 and plan.equipment
     assert all("common practice" in e.note for e in plan.equipment)
+
+
+def test_geojson_property_typos_are_warned_not_swallowed(tmp_path):
+    # a misspelt `access` would silently leave a room open: warn with the key meant;
+    # properties of other tools (far from ours) stay quiet
+    from fringe.errors import FringeWarning
+
+    sq = [[[0, 0], [4, 0], [4, 3], [0, 3], [0, 0]]]
+    (tmp_path / "r.geojson").write_text(_geojson([
+        _feature("lab", sq, acess="controlled", limit_mt=0.2, cad_handle="3F2")]))
+    (tmp_path / "s.toml").write_text(MAGNET + FLOORS + '[[room_file]]\npath = "r.geojson"\n'
+                                     'floor = "ground"\n')
+    with pytest.warns(FringeWarning) as rec:
+        load_site(tmp_path / "s.toml")
+    text = " ".join(str(w.message) for w in rec)
+    assert "`features[0].properties.acess` (room 'lab') is not read; did you mean `access`?" \
+        in text
+    assert "did you mean `limit_mT`?" in text and "cad_handle" not in text
