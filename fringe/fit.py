@@ -98,6 +98,17 @@ _SERIES_FACTOR = 1.5
 #: practice, no source.
 MAX_CENTER_FIELD_T: float = 50.0
 
+#: Centre fields (T) each fitted family is known to be built for; a request outside draws
+#: a warning with the number. Whole-body MR magnets: about 0.2 T (low-field open systems)
+#: to 11.7 T (the strongest whole-body magnet built); lab magnets: to 28.2 T (1.2 GHz
+#: NMR). From memory; common practice, no source.
+FAMILY_FIELD_RANGE_T: dict[str, tuple[float, float]] = {
+    "shielded_whole_body": (0.2, 11.7),
+    "unshielded_whole_body": (0.2, 11.7),
+    "shielded_lab": (0.5, 28.2),
+    "unshielded_lab": (0.1, 28.2),
+}
+
 @dataclass(frozen=True)
 class FieldLine:
     """One data-sheet field line: level in T and its extents in m."""
@@ -398,6 +409,11 @@ def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
         achieved.append(FieldLine(ln.threshold_T, ax, rad))
         residuals.append((ax / ln.axial_m - 1.0, rad / ln.radial_m - 1.0))
     warn = check_request(b0, lines_t, shielded, a_min)
+    lo, hi = FAMILY_FIELD_RANGE_T.get(fam, (0.0, math.inf))
+    if not lo <= b0 <= hi:
+        warn.append(f"a centre field of {b0:g} T is implausible for the "
+                    f"{fam.replace('_', ' ')} family (built for about {lo:g} to {hi:g} T); "
+                    "check the data-sheet value and its unit")
     worst = max(max(abs(a), abs(r)) for a, r in residuals)
     if worst > EXTENT_TOLERANCE:
         warn.append(f"the best {fam.replace('_', ' ')} model misses a requested extent by "
