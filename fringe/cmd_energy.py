@@ -134,7 +134,9 @@ def energy_density_sheets(site, magnets=None, levels=DEFAULT_ENERGY_LEVELS_J_PER
     1.2× the reach of the lowest level's field |B| = √(2μ₀u).
     """
     from .drawing import SheetInfo, map_sheet
-    from .report import magnet_plan_outline, slug
+    from types import SimpleNamespace
+
+    from .report import magnet_plan_outline, section_windings, slug
     from .zones import reach_m, section_directions
 
     magnets = list(site.magnets if magnets is None else magnets)
@@ -143,7 +145,7 @@ def energy_density_sheets(site, magnets=None, levels=DEFAULT_ENERGY_LEVELS_J_PER
     sheets = []
     taken: set[str] = set()
     notes = ("u = |B|²/2μ₀ of all magnets superposed (vacuum; Jackson Eq. 5.148).",
-             "Blank inside windings.")
+             "Windings drawn in grey (their cross-section in the section plane).")
     for m in magnets:
         half = 1.2 * reach_m(m, b_low)
         step = half / 60.0
@@ -154,6 +156,8 @@ def energy_density_sheets(site, magnets=None, levels=DEFAULT_ENERGY_LEVELS_J_PER
         sec = energy_density_section_map(site, c, along, ax, c[2] + ax, levels)
         name = slug(m.name, taken)
         outlines = [(m.name, magnet_plan_outline(m))]
+        cut, _projected = section_windings(m, SimpleNamespace(unit=along))
+        windings = [] if cut.is_empty else [(m.name, cut)]
         for mp, kind, labels in (
                 (plan, "plan", ("x (east), m", "y (north), m")),
                 (sec, "section", ("s along the axis, m", "z (height), m"))):
@@ -166,6 +170,7 @@ def energy_density_sheets(site, magnets=None, levels=DEFAULT_ENERGY_LEVELS_J_PER
             fig = map_sheet(mp.u_m, mp.v_m, mp.energy_density_J_per_m3, levels, info,
                             unit="J/m³", quantity="u", notes=notes,
                             magnets=outlines if kind == "plan" else (),
+                            windings=windings if kind == "section" else (),
                             x_label=labels[0], y_label=labels[1],
                             north_arrow=kind == "plan")
             sheets.append((f"energy-{kind}-{name}", fig))

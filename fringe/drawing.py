@@ -1080,6 +1080,7 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
               boundary_label: str | None = None, rooms: Sequence[RoomMark] = (),
               equipment: Sequence[EquipmentMark] = (), magnets: Sequence = (),
               overlays: Sequence = (), notes: Sequence[str] = (), cmap: str = "viridis_r",
+              windings: Sequence = (),
               band_alpha: float = 0.62, log_contours: bool | None = None,
               x_label: str = "x (east), m", y_label: str = "y (north), m",
               north_arrow: bool = True) -> Figure:
@@ -1109,6 +1110,9 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
         ``(name, polygon)``, :class:`Overlay` or ``(label, geometry, kind)``.
     notes : sequence of str
         Extra notes appended after ``info.notes``.
+    windings : sequence of MagnetOutline or (name, polygon)
+        Winding cross-sections, for a map in a vertical plane (drawn filled, as on
+        :func:`section_sheet`).
     cmap : str
         Matplotlib colormap name; the lowest band takes the start of the map (light for
         the reversed perceptually uniform maps "viridis_r", "cividis_r", "magma_r").
@@ -1150,6 +1154,7 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
                                      band_alpha=band_alpha, log_contours=log_contours)
     entries += _draw_overlays(ax, overlays)
     mag_texts, mag_entries = _draw_magnets(ax, magnets)
+    mag_entries += _draw_magnets(ax, windings, section=True)[1]
     sx, _sy = _display_per_metre(ax)
     keep_clear = [m.polygon if isinstance(m, MagnetOutline) else m[1] for m in magnets]
     keep_clear = [g.buffer(6.0 / sx) for g in keep_clear]
