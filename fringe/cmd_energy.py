@@ -133,9 +133,9 @@ def energy_density_sheets(site, magnets=None, levels=DEFAULT_ENERGY_LEVELS_J_PER
     centre along the axis), drawn with :func:`fringe.drawing.map_sheet`. The window is
     1.2× the reach of the lowest level's field |B| = √(2μ₀u).
     """
-    from .drawing import SheetInfo, map_sheet
     from types import SimpleNamespace
 
+    from .drawing import SheetInfo, map_sheet
     from .report import magnet_plan_outline, section_windings, slug
     from .zones import reach_m, section_directions
 
