@@ -147,8 +147,12 @@ class MagnetOutline:
 #: Styles of extra line layers; the key is ``Overlay.kind``.
 #: hazard  : hatched area with a bold outline (e.g. the attraction-hazard zone);
 #: outline : dashed line (e.g. an extra footprint, a proposed wall);
-#: contour : dotted line (e.g. energy-density contours).
+#: contour : dotted line (e.g. energy-density contours);
+#: wall    : solid heavy grey line (walls read from a CAD drawing; grey, so it is never
+#:           mistaken for the black boundary line).
 OVERLAY_KINDS: dict[str, dict[str, Any]] = {
+    "wall": {"hatch": None, "edgecolor": "0.6", "linewidth": 3.4, "linestyle": "-",
+             "zorder": 2.2},  # under the field lines, above the bands
     "hazard": {"hatch": "xx", "edgecolor": "#3d0b57", "linewidth": 1.6, "linestyle": "-"},
     "outline": {"hatch": None, "edgecolor": "0.1", "linewidth": 1.2, "linestyle": (0, (6, 3))},
     "contour": {"hatch": None, "edgecolor": "#3d0b57", "linewidth": 1.0,
@@ -867,7 +871,8 @@ def _draw_overlays(ax, overlays) -> list:
         else:
             for xy in _lines_of(geom):
                 ax.plot(xy[:, 0], xy[:, 1], color=st["edgecolor"],
-                        linewidth=st["linewidth"], linestyle=st["linestyle"], zorder=4.5,
+                        linewidth=st["linewidth"], linestyle=st["linestyle"],
+                        zorder=st.get("zorder", 4.5),
                         path_effects=[patheffects.withStroke(linewidth=st["linewidth"] + 2,
                                                              foreground="white")])
             handle = Line2D([], [], color=st["edgecolor"], linewidth=st["linewidth"],

@@ -414,10 +414,14 @@ def parse_rooms(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Room, 
         if not p.is_absolute():
             p = Path(file).parent / p
         loaded = ROOM_LOADERS[fmt](p, {"floor": default_floor, **options}, str(p))
-        if fmt == "dxf":  # the report writes its zones back into this drawing
+        if fmt == "dxf":  # the report draws its walls and writes its zones back into it
+            from .cad import read_dxf_plan
+
+            walls = read_dxf_plan(p, {"floor": default_floor, **options}, str(p)).walls
             drawings.append(RoomDrawing(str(p), tuple(sorted({rm.floor for rm in loaded})),
                                         tuple(float(v) for v in options.get("offset_m",
-                                                                            (0.0, 0.0)))))
+                                                                            (0.0, 0.0))),
+                                        tuple(walls)))
         for j, room in enumerate(loaded):
             check_floor(room.floor, f"{fr.key('path')} → room {room.name!r} floor", fr.file)
             rooms.append((room, f"{fr.key('path')} → features[{j}].properties.name"))
@@ -442,11 +446,14 @@ class RoomDrawing:
         Floors of the rooms it gave.
     offset_m : (float, float)
         Its ``offset_m`` (drawing origin in the site frame, m).
+    walls : tuple of shapely geometry
+        Lines and outlines on its wall layers, site metres (drawn on the plan sheets).
     """
 
     path: str
     floors: tuple[str, ...]
     offset_m: tuple[float, float]
+    walls: tuple = ()
 
 
 # -- [[equipment]] --------------------------------------------------------------------

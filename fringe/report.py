@@ -671,6 +671,7 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
         facts, findings)))
 
     # plans
+    room_drawings = () if r.site is None else (r.site.section("room_drawing") or ())
     taken: set[str] = set()
     for name, fm in r.floor_maps.items():
         say(f"drawing the plan of floor {name!r}")
@@ -690,6 +691,11 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
             else:
                 overlays.append(dr.Overlay(f"{m.name} on the {home} floor (outline)",
                                            poly.exterior, "outline"))
+        walls = [w for d in room_drawings if name in d.floors for w in d.walls]
+        if walls:
+            lines = [w.boundary if w.geom_type.endswith("Polygon") else w for w in walls]
+            overlays.insert(0, dr.Overlay("walls (from the floor's DXF drawing)",
+                                          shapely.union_all(lines), "wall"))
         fa = None if r.attraction is None else r.attraction.floors.get(name)
         if fa is not None and not fa.geometry.is_empty:
             overlays.append(dr.Overlay(ATTRACTION_ZONE_LABEL, fa.geometry, "hazard"))

@@ -121,6 +121,15 @@ layers = {{ {layers} }}
     fp = r.floor_footprint("ground", 0.5)
     back = read_dxf_polygons(f, zone_layer_name(0.5), offset_m=(1.0, 2.0))
     assert shapely.hausdorff_distance(back, fp.geometry) < MM
+    # the drawing's wall layer reaches the plan sheet, in site metres
+    from matplotlib.text import Text
+
+    from fringe.report import build_sheets
+
+    (wall,) = r.site.section("room_drawing")[0].walls
+    assert wall.length == pytest.approx(10.35) and wall.bounds[1] == pytest.approx(1.8)
+    plan = dict(build_sheets(r))["plan-ground"]
+    assert "walls (from the floor's DXF drawing)" in [t.get_text() for t in plan.findobj(Text)]
 
 
 def test_force_product_reported_per_floor(demo_result):
