@@ -249,3 +249,52 @@ def test_demo_magnet_budget_every_number_traced(demo_site, capsys):
         L_H / 0.5 * math.log(100.0), rel=1e-12)
     # Energy into the resistor = W (R_magnet = 0), W = ½·L·I0² for the series circuit.
     assert d["dump_circuit"]["energy_into_resistor_J"] == pytest.approx(W, rel=1e-9)
+
+
+def test_demo_scenario_budget_as_shipped_every_number_and_the_cautions(demo_site, capsys):
+    """Issue 5 "done when": `fringe quench` on the demo magnet with the inputs of the
+    demo's own [[quench]] table (no options): every JSON number recomputed here, and
+    the cautions printed with the text output."""
+    from CoolProp.CoolProp import PropsSI
+
+    from fringe.quench import QUENCH_CAUTIONS
+
+    m = demo_site.magnets[0]
+    q = demo_site.section("quench")[0]
+    assert (q.helium_L, q.room_volume_m3, q.dump_ohm) == (1500.0, 180.0, None)
+    d = run_json(capsys, ["quench", demo_site.source_file, "--magnet", m.name])
+    W = stored_energy_J(m)
+    p, T, V_room = 101325.0, 293.15, 180.0
+    h_fg = PropsSI("H", "P", p, "Q", 1, "Helium") - PropsSI("H", "P", p, "Q", 0, "Helium")
+    rho_l = PropsSI("D", "P", p, "Q", 0, "Helium")
+    rho_g = PropsSI("D", "P", p, "T", T, "Helium")
+    inv_kg = 1.5 * rho_l                       # 1500 L = 1.5 m³ of saturated liquid
+    boiled = W / h_fg                          # energy-limited, below the inventory here
+    gas, gas_inv = boiled / rho_g, inv_kg / rho_g
+    expected = {
+        "stored_energy_J": W, "helium_inventory_kg": inv_kg,
+        "helium_boiled_uncapped_kg": boiled, "helium_boiled_kg": boiled,
+        "helium_boiled_L": boiled / rho_l * 1e3, "gas_volume_m3": gas,
+        "inventory_gas_volume_m3": gas_inv,
+        "oxygen_fraction_energy_limited": 0.2095 * math.exp(-gas / V_room),
+        "oxygen_fraction_worst_case": 0.2095 * math.exp(-gas_inv / V_room),
+        # displacement cross-check x = 0.2095·(1 − V/V_room), floored at 0
+        "oxygen_fraction_worst_case_displacement": max(0.0, 0.2095 * (1 - gas_inv / V_room)),
+        "room_volume_m3_for_19_5_percent": gas_inv / math.log(0.2095 / 0.195),
+    }
+    for key, value in expected.items():
+        assert d[key] == pytest.approx(value, rel=1e-9, abs=1e-15), key
+    assert d["helium_boiled_capped_by_inventory"] is False
+    assert d["time_constant_s"] is None and d["peak_voltage_V"] is None  # no dump resistor
+    # thresholds 19.5 % (OSHA 29 CFR 1910.146) and 18 %: both passed in the worst case
+    th = {t["threshold"]: t for t in d["oxygen_thresholds"]}
+    for key, frac in (("19.5%", 0.195), ("18%", 0.18)):
+        assert th[key]["fraction"] == frac
+        assert th[key]["worst_case"] == "falls below"
+        assert th[key]["energy_limited"] == "falls below"
+        assert th[key]["room_volume_m3_needed_worst_case"] == pytest.approx(
+            gas_inv / math.log(0.2095 / frac), rel=1e-12)
+    # the text output carries every caution and the advisory notice
+    assert main(["quench", demo_site.source_file, "--magnet", m.name]) == 0
+    text = capsys.readouterr().out
+    assert all(c in text for c in QUENCH_CAUTIONS) and ADVISORY_NOTICE in text
