@@ -257,8 +257,6 @@ def test_demo_scenario_budget_as_shipped_every_number_and_the_cautions(demo_site
     the cautions printed with the text output."""
     from CoolProp.CoolProp import PropsSI
 
-    from fringe.quench import QUENCH_CAUTIONS
-
     m = demo_site.magnets[0]
     q = demo_site.section("quench")[0]
     assert (q.helium_L, q.room_volume_m3, q.dump_ohm) == (1500.0, 180.0, None)
