@@ -6,8 +6,8 @@ those, a forked child can, and it needs no pickling of its inputs (it inherits t
 caller's memory: figures, tables, the loaded site). Only the result comes back, pickled
 through a pipe.
 
-Where ``os.fork`` is missing (Windows), or ``FRINGE_WORKERS=1`` is set, the call runs
-at once in the caller and :meth:`ForkedCall.result` returns what it gave, so results
+Where ``os.fork`` is missing (Windows), ``FRINGE_WORKERS=1`` is set or other threads
+are running, the call runs at once in the caller and :meth:`ForkedCall.result` returns what it gave, so results
 never depend on whether a child was used.
 
 The child dies with its parent (Linux ``PR_SET_PDEATHSIG``), so a killed run leaves no
@@ -20,6 +20,7 @@ import os
 import pickle
 import signal
 import sys
+import threading
 from collections.abc import Callable
 from typing import Any
 
@@ -29,8 +30,11 @@ __all__ = ["ForkedCall", "forking_enabled"]
 
 
 def forking_enabled() -> bool:
-    """True when calls go to a forked child (POSIX, and ``FRINGE_WORKERS`` is not 1)."""
-    return hasattr(os, "fork") and os.environ.get("FRINGE_WORKERS", "").strip() != "1"
+    """True when calls go to a forked child: POSIX, ``FRINGE_WORKERS`` is not 1, and no
+    other Python thread is running (a thread holding a lock at the fork, e.g. in a GUI or
+    a dask worker, could leave the child waiting on it forever)."""
+    return (hasattr(os, "fork") and os.environ.get("FRINGE_WORKERS", "").strip() != "1"
+            and threading.active_count() == 1)
 
 
 def _die_with_parent(parent_pid: int) -> None:

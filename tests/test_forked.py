@@ -74,3 +74,19 @@ def test_prefetched_helium_properties_equal_direct_ones(monkeypatch):
     q.helium_properties.cache_clear()
     assert q.helium_properties(291.0, 100e3, 101325.0) == direct
     assert (291.0, 100e3, 101325.0) not in q._PREFETCHED
+
+
+def test_no_fork_while_other_threads_run(monkeypatch):
+    # a thread holding a lock at the fork could hang the child: run in-process instead
+    import threading
+
+    monkeypatch.delenv("FRINGE_WORKERS", raising=False)
+    stop = threading.Event()
+    t = threading.Thread(target=stop.wait)
+    t.start()
+    try:
+        assert not forking_enabled()
+        assert ForkedCall(_values, 2).result()["pid"] == os.getpid()
+    finally:
+        stop.set()
+        t.join()
