@@ -7,8 +7,8 @@ caller's memory: figures, tables, the loaded site). Only the result comes back, 
 through a pipe.
 
 Where ``os.fork`` is missing (Windows), ``FRINGE_WORKERS=1`` is set or other threads
-are running, the call runs at once in the caller and :meth:`ForkedCall.result` returns what it gave, so results
-never depend on whether a child was used.
+are running, the call runs at once in the caller and :meth:`ForkedCall.result` returns
+what it gave, so results never depend on whether a child was used.
 
 The child dies with its parent (Linux ``PR_SET_PDEATHSIG``), so a killed run leaves no
 worker behind to write into a folder that is about to be discarded.
