@@ -599,6 +599,40 @@ def section_windings(magnet, sec: Section, step_m: float = 0.01):
 ATTRACTION_ZONE_LABEL = "attraction zone: magnetic pull on loose steel exceeds its weight"
 
 
+#: Levels of the force-product sheet, T²/m: decades around the unsaturated soft-iron
+#: sphere's pull-equals-weight level μ₀ρg/3 = 0.0323 T²/m (docs/hazards.md).
+FORCE_PRODUCT_LEVELS_T2_PER_M: tuple[float, ...] = (0.001, 0.01, 0.1, 1.0, 10.0)
+
+
+def _force_product_sheet(r: ReportResult, sec, att_section, windings, s_label, base):
+    """Section sheet of B·|∇|B|| (T²/m) with the attraction zone (PDF only)."""
+    from . import drawing as dr
+
+    amap, zone = att_section
+    overlays = [] if zone.is_empty else [dr.Overlay(ATTRACTION_ZONE_LABEL, zone, "hazard")]
+    info = dr.SheetInfo(title=f"Force product along the axis of {sec.magnet}",
+                        subtitle="B·|∇|B|| in the vertical plane through the magnet centre; "
+                                 "the pull on soft iron grows with it", **base)
+    notes = [f"{r.attraction.criterion} (hatched).",
+             "B·|∇|B|| sets the unsaturated pull, F = (χ_eff V/μ₀)·B·|∇|B||; an iron sphere "
+             "(χ_eff = 3) is held by its weight below μ₀ρg/3 = 0.0323 T²/m.",
+             "Blank where not evaluated: beyond 1.5× the zone's reach and in the windings."]
+    # the window: where the map was evaluated (within reach of the magnet), plus a margin
+    u, v, fp = amap.u_m, amap.v_m, amap.force_product_T2_per_m
+    rows, cols = np.nonzero(np.isfinite(fp))
+    if rows.size:
+        pad_u = max(2, int(0.15 * (cols.max() - cols.min())))
+        pad_v = max(2, int(0.15 * (rows.max() - rows.min())))
+        c0, c1 = max(cols.min() - pad_u, 0), min(cols.max() + pad_u + 1, u.size)
+        r0, r1 = max(rows.min() - pad_v, 0), min(rows.max() + pad_v + 1, v.size)
+        u, v, fp = u[c0:c1], v[r0:r1], fp[r0:r1, c0:c1]
+    fig = dr.map_sheet(u, v, fp,
+                       FORCE_PRODUCT_LEVELS_T2_PER_M, info, unit="T²/m", quantity="B·|∇|B||",
+                       overlays=overlays, windings=windings, notes=notes,
+                       x_label=s_label, y_label="z (up), m", north_arrow=False)
+    return (None, fig)
+
+
 def _boundary_note(r: ReportResult) -> str:
     return (f"Controlled access area boundary: {r.boundary.value_mT:g} mT "
             f"({r.boundary.source})")
@@ -728,6 +762,7 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
 
     # sections
     exposure = dr.exposure_lines_from_registry(plan.settings.exposure_lines)
+    force_sheets: list[tuple[None, object]] = []  # PDF only, after the sections
     for k, sec in enumerate(r.sections):
         say(f"drawing the section {sec.direction} the axis of {sec.magnet!r}")
         sec_overlays = []
@@ -768,6 +803,12 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
                                exposure_lines=exposure, overlays=sec_overlays)
         stem = sec.magnet if sec.direction == "along" else f"{sec.magnet}-{sec.direction}"
         sheets.append((f"section-{slug(stem, taken)}", fig))
+        if (sec.direction == "along" and r.attraction is not None
+                and k < len(r.attraction.sections)):
+            force_sheets.append(_force_product_sheet(r, sec, r.attraction.sections[k],
+                                                     windings, s_label, base))
+
+    sheets.extend(force_sheets)
 
     # tables
     info_t = dr.SheetInfo(title="Tables: rooms, equipment, field-line extents", **base)

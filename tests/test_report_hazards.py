@@ -207,4 +207,7 @@ def test_report_sheets_include_energy_density_and_quench(demo_result):
     joined = "\n".join(titles)
     assert sum("Energy density" in t for t in titles) >= 2  # plan and section
     assert "Quench release budget" in joined
+    # issue 8: the force product B·|∇|B|| mapped (section along the axis, T²/m)
+    flat = " ".join(joined.split())  # titles wrap in the title block
+    assert "Force product along the axis of hall-A 1.5 T" in flat and "T²/m" in flat
     assert all("ADVISORY ESTIMATE ONLY" in t for t in titles)  # every sheet
