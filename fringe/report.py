@@ -874,16 +874,16 @@ def _write_drawings(r: ReportResult, folder: Path, say) -> None:
     sheets = build_sheets(r, say)
     figures = dr.number_sheets([f for _, f in sheets])
     say("writing report.pdf and the sheet files")
-    # energy maps (PNG only) go with the PDF: the two processes then take about as long
-    energy = [(stem, fig) for stem, fig in sheets if stem and stem.startswith("energy-")]
-    pdf = ForkedCall(_write_pdf_and_pngs, figures, folder / "report.pdf",
-                     f"{r.site_name}: stray-field report",
-                     [(folder / f"{stem}.png", fig) for stem, fig in energy])
+    pdf = ForkedCall(dr.write_pdf, figures, folder / "report.pdf",
+                     title=f"{r.site_name}: stray-field report")
     try:
         for stem, fig in sheets:
-            if stem is None or stem.startswith("energy-"):
+            if stem is None:
                 continue
             dr.save_figure(fig, folder / f"{stem}.png")
+            if stem.startswith("energy-"):  # energy maps: PNG and PDF only
+                say(f"wrote {stem}.png")
+                continue
             dr.save_figure(fig, folder / f"{stem}.svg")
             say(f"wrote {stem}.png and .svg")
     except BaseException:
@@ -891,12 +891,4 @@ def _write_drawings(r: ReportResult, folder: Path, say) -> None:
             pdf.result()
         raise
     pdf.result()
-    say("wrote report.pdf" + "".join(f", {stem}.png" for stem, _ in energy))
-
-
-def _write_pdf_and_pngs(figures, pdf_path: Path, title: str, pngs) -> None:
-    from . import drawing as dr
-
-    dr.write_pdf(figures, pdf_path, title=title)
-    for path, fig in pngs:
-        dr.save_figure(fig, path)
+    say("wrote report.pdf")
