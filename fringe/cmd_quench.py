@@ -108,6 +108,12 @@ def resolve_inputs(args, site: Site) -> QuenchInputs:
     return QuenchInputs(name, **values)
 
 
+def room_conditions(q: QuenchInputs) -> tuple[float, float]:
+    """Room temperature (°C) and pressure (kPa) of ``q``, defaults filled in."""
+    return (20.0 if q.room_temperature_C is None else float(q.room_temperature_C),
+            101.325 if q.room_pressure_kPa is None else float(q.room_pressure_kPa))
+
+
 def budget_for_site(site: Site, q: QuenchInputs) -> QuenchBudget:
     """Compute the budget of ``q.magnet``: W and L from :mod:`fringe.energy`."""
     from .energy import circuit_inductance_H, stored_energy_J
@@ -126,8 +132,7 @@ def budget_for_site(site: Site, q: QuenchInputs) -> QuenchBudget:
     try:
         return quench_budget(
             w, q.helium_L, q.room_volume_m3,
-            room_temperature_C=20.0 if q.room_temperature_C is None else q.room_temperature_C,
-            room_pressure_kPa=101.325 if q.room_pressure_kPa is None else q.room_pressure_kPa,
+            room_temperature_C=room_conditions(q)[0], room_pressure_kPa=room_conditions(q)[1],
             dump_ohm=q.dump_ohm, inductance_H=inductance, initial_current_A=current,
             magnet_resistance_ohm=q.magnet_resistance_ohm or 0.0,
             dump_refused_reason=refused or "", magnet=q.magnet)

@@ -198,6 +198,13 @@ class HeliumProperties:
 _PREFETCHED: dict[tuple[float, float, float], ForkedCall] = {}
 
 
+def room_conditions_K_Pa(room_temperature_C: float = 20.0,
+                         room_pressure_kPa: float = 101.325) -> tuple[float, float]:
+    """(K, Pa) of room conditions given in °C and kPa, as :func:`quench_budget` passes
+    them to :func:`helium_properties` (so a prefetch asks for exactly the same key)."""
+    return float(room_temperature_C) + 273.15, float(room_pressure_kPa) * 1e3
+
+
 def prefetch_helium_properties(room_temperature_K: float = 293.15,
                                room_pressure_Pa: float = STANDARD_ATMOSPHERE_PA,
                                boil_pressure_Pa: float = STANDARD_ATMOSPHERE_PA) -> None:
@@ -633,7 +640,7 @@ def quench_budget(stored_energy_J: float, helium_L: float, room_volume_m3: float
     if not (math.isfinite(p_kpa) and 50.0 <= p_kpa <= 200.0):
         raise FringeInputError(must_be("room_pressure_kPa", "between 50 and 200 kPa",
                                        room_pressure_kPa))
-    he = helium_properties(t_c + 273.15, p_kpa * 1e3)
+    he = helium_properties(*room_conditions_K_Pa(t_c, p_kpa))
 
     inv_kg = float(liquid_mass_kg(vol_l, he.liquid_density_kg_per_m3))
     boiled_uncapped = float(boiloff_mass_kg(w, he.latent_heat_J_per_kg))

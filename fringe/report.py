@@ -167,12 +167,11 @@ def prefetch_quench_data(site) -> None:
     quench_inputs = tuple(site.section("quench", ()) or ())
     if not quench_inputs:
         return
-    from .quench import prefetch_helium_properties
+    from .cmd_quench import room_conditions
+    from .quench import prefetch_helium_properties, room_conditions_K_Pa
 
     for q in quench_inputs:
-        t_c = 20.0 if q.room_temperature_C is None else float(q.room_temperature_C)
-        p_kpa = 101.325 if q.room_pressure_kPa is None else float(q.room_pressure_kPa)
-        prefetch_helium_properties(t_c + 273.15, p_kpa * 1e3)  # as quench_budget asks
+        prefetch_helium_properties(*room_conditions_K_Pa(*room_conditions(q)))
 
 
 def compute_report(site, *, grid_step_m: float | None = None, progress: Progress = None

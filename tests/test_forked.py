@@ -90,3 +90,21 @@ def test_no_fork_while_other_threads_run(monkeypatch):
     finally:
         stop.set()
         t.join()
+
+
+@pytest.mark.skipif(not hasattr(os, "fork"), reason="needs os.fork")
+def test_report_prefetch_is_the_lookup_the_budget_makes(monkeypatch, demo_site):
+    # the prefetch must ask for exactly the key quench_budget later asks for, or the
+    # CoolProp import would run twice (once wasted in the child)
+    import fringe.quench as q
+    from fringe.cmd_quench import budget_for_site
+    from fringe.report import prefetch_quench_data
+
+    monkeypatch.delenv("FRINGE_WORKERS", raising=False)
+    monkeypatch.setattr(q, "sys", type("S", (), {"modules": {}})())  # as if not imported yet
+    q._PREFETCHED.clear()
+    q.helium_properties.cache_clear()
+    prefetch_quench_data(demo_site)
+    assert len(q._PREFETCHED) == 1
+    budget_for_site(demo_site, demo_site.section("quench")[0])
+    assert not q._PREFETCHED  # collected by the budget's own look-up
