@@ -19,8 +19,9 @@ from pathlib import Path
 import numpy as np
 
 from . import __version__
-from .constants import ADVISORY_NOTICE, MAX_COORDINATE_M
+from .constants import ADVISORY_NOTICE
 from .errors import FringeError, FringeWarning, ScenarioError
+from .field import coordinate_range_problem
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_EXCEEDS = 0, 1, 2, 3
 
@@ -131,10 +132,8 @@ def read_points_file(path: str) -> np.ndarray:
                             str(p))
     if not np.all(np.isfinite(arr)):
         raise ScenarioError("`--points` must be finite numbers; got NaN or inf", str(p))
-    far = float(np.max(np.abs(arr)))
-    if far > MAX_COORDINATE_M:  # far beyond any site; overflows the field kernels
-        raise ScenarioError(f"`--points` must be site coordinates within ±{MAX_COORDINATE_M:g} m; "
-                            f"got a coordinate of {far:g} m", str(p))
+    if problem := coordinate_range_problem(arr, "--points"):
+        raise ScenarioError(problem, str(p))
     return arr
 
 

@@ -9,9 +9,14 @@ import numpy as np
 
 from .atomic import atomic_file
 from .cli import print_json, read_points_file
-from .constants import ADVISORY_NOTICE, MAX_COORDINATE_M
+from .constants import ADVISORY_NOTICE
 from .errors import ScenarioError
-from .field import energy_density_J_per_m3, field_at, points_in_windings
+from .field import (
+    coordinate_range_problem,
+    energy_density_J_per_m3,
+    field_at,
+    points_in_windings,
+)
 from .scenario import load_site
 
 
@@ -59,10 +64,8 @@ def run(args) -> int:
         raise ScenarioError("`--at` or `--points` must give at least one point; got none")
     if not np.all(np.isfinite(points)):
         raise ScenarioError("`--at` must be finite numbers; got NaN or inf")
-    far = float(np.max(np.abs(points)))
-    if far > MAX_COORDINATE_M:
-        raise ScenarioError(f"`--at` must be site coordinates within ±{MAX_COORDINATE_M:g} m; "
-                            f"got a coordinate of {far:g} m")
+    if problem := coordinate_range_problem(points, "--at"):  # --points was checked on reading
+        raise ScenarioError(problem)
     if not site.magnets:
         raise ScenarioError("`magnet` must list at least one magnet; got none", args.scenario)
     B = field_at(site, points)

@@ -44,6 +44,20 @@ def as_magnets(site_or_magnets) -> tuple[Magnet, ...]:
     return out
 
 
+def coordinate_range_problem(points_m: np.ndarray, key: str) -> str | None:
+    """The message for points beyond ±:data:`~fringe.constants.MAX_COORDINATE_M`, else None.
+
+    Such coordinates overflow the field kernels (and magpylib's elliptic-integral
+    iteration then never ends); every entry point refuses them with this one message,
+    naming its own ``key`` (``points_m``, ``--at``, ``--points``).
+    """
+    far = float(np.max(np.abs(points_m), initial=0.0))
+    if far > MAX_COORDINATE_M:
+        return (f"`{key}` must be site coordinates within ±{MAX_COORDINATE_M:g} m; "
+                f"got a coordinate of {far:g} m")
+    return None
+
+
 def _as_points(points_m) -> np.ndarray:
     p = np.asarray(points_m, dtype=float)
     if p.ndim == 1 and p.shape == (3,):
@@ -52,10 +66,8 @@ def _as_points(points_m) -> np.ndarray:
         raise FringeInputError(f"`points_m` must be an array of shape (N, 3); got shape {p.shape}")
     if not np.all(np.isfinite(p)):
         raise FringeInputError("`points_m` must be finite; got NaN or inf")
-    far = float(np.max(np.abs(p), initial=0.0))
-    if far > MAX_COORDINATE_M:  # overflows the kernels (and magpylib's cel() never ends)
-        raise FringeInputError(f"`points_m` must be site coordinates within "
-                               f"±{MAX_COORDINATE_M:g} m; got a coordinate of {far:g} m")
+    if problem := coordinate_range_problem(p, "points_m"):
+        raise FringeInputError(problem)
     return p
 
 
