@@ -343,9 +343,10 @@ def read_dxf_plan(path: str | Path, options: Mapping | None = None,
     return DxfPlan(tuple(rooms), walls_site, insunits, mpu, offset, all_layers)
 
 
-def load_dxf_rooms(path: str | Path, options: dict, file_for_errors: str) -> list[Room]:
-    """Room loader for ``[[room_file]] format = "dxf"`` (see :func:`read_dxf_plan`)."""
-    return list(read_dxf_plan(path, options, file_for_errors).rooms)
+def load_dxf_rooms(path: str | Path, options: dict, file_for_errors: str) -> DxfPlan:
+    """Room loader for ``[[room_file]] format = "dxf"``: the whole :class:`DxfPlan`
+    (rooms, walls, offset), read once (see :func:`read_dxf_plan`)."""
+    return read_dxf_plan(path, options, file_for_errors)
 
 
 #: The scenario keys this loader takes from its ``[[room_file]]`` table (the parser

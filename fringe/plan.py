@@ -87,5 +87,7 @@ BOUNDARY_CHOICES: dict[str, tuple[float, str]] = {
 }
 
 #: Loaders of room outlines from plan files, keyed by format name ("geojson", "dxf", …).
-#: Each is ``fn(path, options: dict, file_for_errors: str) -> list[Room]``.
-ROOM_LOADERS: dict[str, Callable[..., list[Room]]] = {}
+#: Each is ``fn(path, options: dict, file_for_errors: str)`` returning a list of Room, or
+#: a drawing with a ``rooms`` attribute (e.g. ``fringe.cad.DxfPlan``, which also carries
+#: the drawing's walls and offset).
+ROOM_LOADERS: dict[str, Callable[..., Any]] = {}

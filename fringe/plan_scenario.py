@@ -413,15 +413,11 @@ def parse_rooms(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Room, 
         p = Path(rel)
         if not p.is_absolute():
             p = Path(file).parent / p
-        loaded = ROOM_LOADERS[fmt](p, {"floor": default_floor, **options}, str(p))
+        result = ROOM_LOADERS[fmt](p, {"floor": default_floor, **options}, str(p))
+        loaded = list(getattr(result, "rooms", result))
         if fmt == "dxf":  # the report draws its walls and writes its zones back into it
-            from .cad import read_dxf_plan
-
-            walls = read_dxf_plan(p, {"floor": default_floor, **options}, str(p)).walls
             drawings.append(RoomDrawing(str(p), tuple(sorted({rm.floor for rm in loaded})),
-                                        tuple(float(v) for v in options.get("offset_m",
-                                                                            (0.0, 0.0))),
-                                        tuple(walls)))
+                                        tuple(result.offset_m), tuple(result.walls)))
         for j, room in enumerate(loaded):
             check_floor(room.floor, f"{fr.key('path')} → room {room.name!r} floor", fr.file)
             rooms.append((room, f"{fr.key('path')} → features[{j}].properties.name"))
