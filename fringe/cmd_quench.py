@@ -129,10 +129,11 @@ def budget_for_site(site: Site, q: QuenchInputs) -> QuenchBudget:
                        "the dump-resistor decay is not computed")
         else:
             current = abs(float(magnet.coils[0].current_A))  # the common |current|
+    t_c, p_kpa = room_conditions(q)
     try:
         return quench_budget(
             w, q.helium_L, q.room_volume_m3,
-            room_temperature_C=room_conditions(q)[0], room_pressure_kPa=room_conditions(q)[1],
+            room_temperature_C=t_c, room_pressure_kPa=p_kpa,
             dump_ohm=q.dump_ohm, inductance_H=inductance, initial_current_A=current,
             magnet_resistance_ohm=q.magnet_resistance_ohm or 0.0,
             dump_refused_reason=refused or "", magnet=q.magnet)
