@@ -45,7 +45,7 @@ from __future__ import annotations
 import math
 import os
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cached_property, lru_cache
 
 import numpy as np
 
@@ -69,6 +69,10 @@ TABLE_RADIUS_FACTOR: float = 1.6
 TABLE_NODES_PER_RADIUS: int = 100
 #: Highest series degree kept in the model (used for table nodes and error bounds).
 L_BIG: int = 120
+#: Exterior distance bands start as geometric intervals r'_k = 1.6 · 1.15^k (k < 60),
+#: merged where they need the same series degree.
+_BAND_RATIO: float = 1.15
+_RAW_BANDS: int = 60
 #: Points per direction of the tensor-product Lagrange stencil (6: quintic). The cell
 #: [x_0, x_1] is interpolated from nodes x_{-2}..x_3.
 STENCIL: int = 6
@@ -143,15 +147,17 @@ def series_field_scaled(d: np.ndarray, l_max: int, x: np.ndarray, y: np.ndarray,
     s_cur = u * t                        # S̃_1
     f_prev = np.zeros_like(t)            # F̃_0
     f_cur = t * w                        # F̃_1
+    s_next = np.empty_like(t)            # rotating buffers: no allocation per degree
+    f_next = np.empty_like(t)
     bz = np.zeros_like(t)
     g = np.zeros_like(t)
     tmp = np.empty_like(t)
     for l in range(1, l_max + 1):
-        s_next = u * s_cur
+        np.multiply(u, s_cur, out=s_next)
         np.multiply(w, s_prev, out=tmp)
         tmp *= beta_s[l]
         s_next -= tmp
-        f_next = u * f_cur
+        np.multiply(u, f_cur, out=f_next)
         np.multiply(w, f_prev, out=tmp)
         tmp *= beta_f[l]
         f_next -= tmp
@@ -161,12 +167,11 @@ def series_field_scaled(d: np.ndarray, l_max: int, x: np.ndarray, y: np.ndarray,
             bz += tmp
             np.multiply(f_next, dl * c_g[l], out=tmp)
             g += tmp
-        s_prev, s_cur = s_cur, s_next
-        f_prev, f_cur = f_cur, f_next
+        s_prev, s_cur, s_next = s_cur, s_next, s_prev
+        f_prev, f_cur, f_next = f_cur, f_next, f_prev
     return x * g, y * g, bz
 
 
-@lru_cache(maxsize=4)
 @lru_cache(maxsize=8)
 def _scaled_recurrence(l_max: int):
     """Coefficients of the rescaled recurrences used by :func:`series_field_scaled`.
@@ -272,10 +277,20 @@ class AxisymmetricModel:
     table: _Table
     windings_scaled: np.ndarray  # (C, 4): rho_lo, rho_hi, z_lo, z_hi (scaled)
 
-    @property
+    @cached_property
     def band_edges_sq(self) -> np.ndarray:
         """Squared band edges (compared with r'² to avoid a square root per point)."""
         return self.band_edges**2
+
+    def band_of(self, r2: np.ndarray) -> np.ndarray:
+        """Band index (int16) of each scaled r'² ≥ r'_0²: equal to
+        ``searchsorted(band_edges_sq, r2, "right") - 1``, computed as a count of the
+        edges passed (a dozen vectorised comparisons cost less than a binary search per
+        point)."""
+        band = np.zeros(np.shape(r2), dtype=np.int16)
+        for e in self.band_edges_sq[1:]:
+            band += r2 >= e
+        return band
 
 
 def _direct_local(magnet: Magnet, rho_m, z_m, order, panels):
@@ -302,7 +317,7 @@ def _field_floor(d: np.ndarray, radii: np.ndarray) -> np.ndarray:
 
 def _choose_bands(d: np.ndarray, big_d: float):
     """Distance bands and the series degree each needs (see AxisymmetricModel)."""
-    edges = TABLE_RADIUS_FACTOR * 1.15 ** np.arange(0, 60)   # up to ~7000 R_enc
+    edges = TABLE_RADIUS_FACTOR * _BAND_RATIO ** np.arange(0, _RAW_BANDS)   # to ~7000 R_enc
     floors = _field_floor(d, edges)
     target = RELATIVE_TOLERANCE / SAFETY_FACTOR / 2.0
     tails = exterior_tail_bounds_scaled(d, big_d, edges)              # (L, k)
@@ -650,7 +665,7 @@ def fast_local_field(model: AxisymmetricModel, x: np.ndarray, y: np.ndarray, z: 
         err[idx_t] = e
     if idx_t.size == n:
         return bx, by, bz, err
-    band = np.searchsorted(model.band_edges_sq, r2, side="right") - 1
+    band = model.band_of(r2)
     band[idx_t] = -1
     counts = np.bincount(band + 1, minlength=model.band_edges.size + 1)[1:]
     present = np.flatnonzero(counts)
@@ -683,13 +698,34 @@ def fast_field_site_T(magnet: Magnet, points_3n: np.ndarray, order: int = DEFAUL
     """
     model, amps = _model_and_scale(magnet.coils, order, panels)
     rot = magnet.rotation.as_matrix()            # local → site
-    c = np.asarray(magnet.center_m)[:, None]
-    loc = (rot.T / model.scale_m) @ (points_3n - c)   # (3, N), scaled local
+    loc = _to_scaled_local(rot, magnet.center_m, model.scale_m, points_3n)
     bx, by, bz, err = fast_local_field(model, loc[0], loc[1], loc[2])
-    b = (rot * amps) @ np.stack([bx, by, bz])
+    b = _rotate(rot * amps, (bx, by, bz))
     if amps != 1.0:
         err *= abs(amps)
     return b, err
+
+
+def _rotate(mat: np.ndarray, v) -> np.ndarray:
+    """``mat @ v`` for a 3×3 matrix and three rows of N values, in element-wise numpy.
+
+    Avoids BLAS, whose own threads would compete with the evaluation threads of
+    :func:`fringe.field.field_at` (the work is memory-bound either way).
+    """
+    out = np.empty((3, v[0].size))
+    for i in range(3):
+        np.multiply(v[0], mat[i, 0], out=out[i])
+        out[i] += mat[i, 1] * v[1]
+        out[i] += mat[i, 2] * v[2]
+    return out
+
+
+def _to_scaled_local(rot: np.ndarray, center_m, scale_m: float,
+                     points_3n: np.ndarray) -> np.ndarray:
+    """Local coordinates divided by ``scale_m`` of site points (3, N); ``rot``: local → site."""
+    c = np.asarray(center_m, float)
+    d = [points_3n[j] - c[j] for j in range(3)]
+    return _rotate(rot.T / scale_m, d)
 
 
 #: A coil set gets its fast model once this many points have been asked of it (or at
@@ -919,8 +955,8 @@ def fast_gradient_site(magnet: Magnet, points_3n: np.ndarray, order: int = DEFAU
     model, amps = _model_and_scale(magnet.coils, order, panels)
     rot = magnet.rotation.as_matrix()
     c = np.asarray(magnet.center_m)[:, None]
-    loc = (rot.T / model.scale_m) @ (points_3n - c)
+    loc = _to_scaled_local(rot, c[:, 0], model.scale_m, points_3n)
     B, J, err = fast_gradient_local(model, loc[0], loc[1], loc[2])
-    b = amps * (rot @ B)
+    b = _rotate(rot * amps, B)
     js = amps * np.einsum("ia,abn,jb->ijn", rot, J, rot)
     return b, js, abs(amps) * err

@@ -13,7 +13,8 @@ cylinder, Derby & Olbert 2010), so only the radial integral is numerical:
   d = h is below 1e-6 (tests/test_field_core.py);
 * near the winding or inside it, each point gets its own rule: the interval is split
   at the point's own radius (clipped to the winding) and each side is covered by a
-  geometrically graded mesh toward the split (ratio σ = 0.2, :data:`NEAR_LEVELS` levels;
+  geometrically graded mesh toward the split (ratio σ = 0.2, up to :data:`NEAR_LEVELS` levels,
+  fewer for a point outside the winding: :func:`near_levels`;
   Schwab, *p- and hp-Finite Element Methods*, 1998, Sec. 4.4 for graded meshes
   resolving end-point singularities). This resolves the near-singular integrand down
   to about σ^NEAR_LEVELS of the winding thickness, and integrates across the kink
@@ -23,13 +24,15 @@ cylinder, Derby & Olbert 2010), so only the radial integral is numerical:
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 
 import numpy as np
 
 from .coils import DEFAULT_RADIAL_ORDER, Coil
 from .constants import MU0_T_M_PER_A
 
-__all__ = ["coil_field_local_T", "distance_to_winding_m", "NEAR_LEVELS", "NEAR_RATIO"]
+__all__ = ["coil_field_local_T", "distance_to_winding_m", "near_levels", "NEAR_LEVELS",
+           "NEAR_RATIO"]
 
 #: Graded levels on each side of the split point in the near-field rule.
 NEAR_LEVELS: int = 14
@@ -90,8 +93,9 @@ def _far_rule(coil: Coil, order: int, panels: int) -> tuple[np.ndarray, np.ndarr
     return (mid[:, None] + half[:, None] * x).ravel(), (half[:, None] * w).ravel()
 
 
+@lru_cache(maxsize=64)
 def _graded_unit_rule(order: int, levels: int, ratio: float) -> tuple[np.ndarray, np.ndarray]:
-    """Nodes/weights on [0, 1] graded geometrically toward 0."""
+    """Nodes/weights on [0, 1] graded geometrically toward 0 (panel edges 0, σ^levels, …, σ, 1)."""
     edges = np.concatenate([[0.0], ratio ** np.arange(levels, -1, -1)])
     x, w = np.polynomial.legendre.leggauss(order)
     half = np.diff(edges) / 2
@@ -99,9 +103,28 @@ def _graded_unit_rule(order: int, levels: int, ratio: float) -> tuple[np.ndarray
     return (mid[:, None] + half[:, None] * x).ravel(), (half[:, None] * w).ravel()
 
 
-def _near_rule(coil: Coil, rho: np.ndarray, order: int) -> tuple[np.ndarray, np.ndarray]:
+def near_levels(coil: Coil, distance_m: np.ndarray) -> np.ndarray:
+    """Graded levels the near rule needs for points at ``distance_m`` from the winding.
+
+    The integrand's singularities lie at least the point's distance d from the winding's
+    cross-section, so graded panels much shorter than d add nothing: the innermost panel
+    [0, σ^K·t] (t the winding thickness) is kept no longer than σ·d, i.e.
+    K = ⌈log(d/t)/log σ⌉ + 1, between 1 and :data:`NEAR_LEVELS` (all levels inside the
+    winding, d = 0). The other panels are those of the full rule, so each keeps the
+    full rule's ratio of distance to length (the convergence argument of the module
+    docstring); only the innermost one changes, toward a more favourable ratio.
+    """
+    d = np.asarray(distance_m, float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        k = np.ceil(np.log(d / coil.thickness_m) / math.log(NEAR_RATIO)) + 1.0
+    k = np.where(np.isfinite(k), k, NEAR_LEVELS)
+    return np.clip(k, 1, NEAR_LEVELS).astype(np.intp)
+
+
+def _near_rule(coil: Coil, rho: np.ndarray, order: int,
+               levels: int = NEAR_LEVELS) -> tuple[np.ndarray, np.ndarray]:
     """Per-point nodes (N, K) and weights: split at clip(ρ), graded toward the split."""
-    t, wt = _graded_unit_rule(order, NEAR_LEVELS, NEAR_RATIO)
+    t, wt = _graded_unit_rule(order, int(levels), NEAR_RATIO)
     s = np.clip(rho, coil.r_inner_m, coil.r_outer_m)[:, None]
     left = s - coil.r_inner_m
     right = coil.r_outer_m - s
@@ -146,7 +169,8 @@ def coil_field_local_T(coil: Coil, rho_m: np.ndarray, z_m: np.ndarray,
         near = np.zeros(rho.size, dtype=bool)
     else:
         half_width = coil.thickness_m / (2 * p)
-        near = distance_to_winding_m(coil, rho, z) < half_width
+        dist = distance_to_winding_m(coil, rho, z)
+        near = dist < half_width
     b_rho = np.empty(rho.size)
     b_z = np.empty(rho.size)
     far = ~near
@@ -155,6 +179,10 @@ def coil_field_local_T(coil: Coil, rho_m: np.ndarray, z_m: np.ndarray,
                                       np.broadcast_to(weights, (nf, nodes.size)),
                                       rho[far], z[far])
     if near.any():
-        nn, wn = _near_rule(coil, rho[near], order)
-        b_rho[near], b_z[near] = _sheet_sum(coil, nn, wn, rho[near], z[near])
+        idx = np.flatnonzero(near)
+        levels = near_levels(coil, dist[idx])
+        for k in np.unique(levels):              # one kernel call per level count
+            sel = idx[levels == k]
+            nn, wn = _near_rule(coil, rho[sel], order, int(k))
+            b_rho[sel], b_z[sel] = _sheet_sum(coil, nn, wn, rho[sel], z[sel])
     return b_rho, b_z

@@ -163,6 +163,41 @@ def test_fixed_sheet_rule_alone_is_not_enough_near_windings():
     assert rel_err(plain, ref).max() > RTOL_OUTSIDE
 
 
+@pytest.mark.parametrize("gap_m", [0.0, 1e-6, 1e-4, 3e-3, 0.012, 0.029])
+def test_near_rule_with_fewer_levels_matches_adaptive_scipy_quadrature(gap_m):
+    # Independent reference: the radial integral B = ∫ μ0 J B_sheet(r) dr over the
+    # winding thickness by scipy.integrate.quad (QUADPACK, adaptive), split at the
+    # point's own radius, with the same closed-form sheet kernel (magpylib). The near
+    # rule drops graded levels finer than the point's distance (quadrature.near_levels);
+    # it must agree with QUADPACK and with the full 14-level rule to far below 1e-4.
+    from fringe import quadrature as Q
+
+    c = Coil(0.46, 0.52, 0.05, 0.25, 2180, 220.0)
+    rho = np.array([0.52 + gap_m, 0.49, 0.49 - gap_m / 2, 0.46 - gap_m])
+    z = np.array([0.15, 0.25 + gap_m, 0.15, 0.05 - gap_m])
+    kernel = Q._kernel()
+    h, zc = c.length_m / 2, (c.z_min_m + c.z_max_m) / 2
+    scale = MU0 * c.current_density_A_per_m2
+
+    def sheet(r, p_rho, p_z, k):
+        return scale * float(np.asarray(kernel(np.array([h / r]), np.array([p_rho / r]),
+                                               np.array([(p_z - zc) / r])))[k, 0])
+
+    ref = np.zeros((rho.size, 2))
+    for n in range(rho.size):
+        split = [min(max(rho[n], c.r_inner_m), c.r_outer_m)]
+        for col, k in ((0, 0), (1, 2)):
+            ref[n, col] = integrate.quad(sheet, c.r_inner_m, c.r_outer_m,
+                                         args=(rho[n], z[n], k), points=split,
+                                         epsabs=1e-14, epsrel=1e-12, limit=500)[0]
+    got = np.array(Q.coil_field_local_T(c, rho, z)).T
+    d = Q.distance_to_winding_m(c, rho, z)
+    full = np.array(Q._sheet_sum(c, *Q._near_rule(c, rho, 8, Q.NEAR_LEVELS), rho, z)).T
+    assert (Q.near_levels(c, d) < Q.NEAR_LEVELS).any() == (gap_m > 0)
+    assert rel_err(got, ref).max() < 1e-8
+    assert rel_err(got, full).max() < 1e-10
+
+
 # -- cross-check with magpylib's object interface -------------------------------------
 
 def test_kernel_path_equals_magpylib_objects(demo_site):
