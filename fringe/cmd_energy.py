@@ -144,8 +144,13 @@ def energy_density_sheets(site, magnets=None, levels=DEFAULT_ENERGY_LEVELS_J_PER
     b_low = math.sqrt(2 * MU0_T_M_PER_A * min(levels))  # |B| of the lowest level
     sheets = []
     taken: set[str] = set()
-    notes = ("u = |B|²/2μ₀ of all magnets superposed (vacuum; Jackson Eq. 5.148).",
-             "Windings drawn in grey (their cross-section in the section plane).")
+    notes_for = {
+        "plan": ("u = |B|²/2μ₀ of all magnets superposed (vacuum; Jackson Eq. 5.148).",
+                 "The magnet's footprint (its windings projected on the plan) is left "
+                 "blank; the section sheet shows u inside it."),
+        "section": ("u = |B|²/2μ₀ of all magnets superposed (vacuum; Jackson Eq. 5.148).",
+                    "Windings drawn in grey (their cross-section in the section plane)."),
+    }
     for m in magnets:
         half = 1.2 * reach_m(m, b_low)
         step = half / 60.0
@@ -168,7 +173,7 @@ def energy_density_sheets(site, magnets=None, levels=DEFAULT_ENERGY_LEVELS_J_PER
                                        "vertical plane through the centre along the axis"),
                              magnets=(m.name,))
             fig = map_sheet(mp.u_m, mp.v_m, mp.energy_density_J_per_m3, levels, info,
-                            unit="J/m³", quantity="u", notes=notes,
+                            unit="J/m³", quantity="u", notes=notes_for[kind],
                             magnets=outlines if kind == "plan" else (),
                             windings=windings if kind == "section" else (),
                             x_label=labels[0], y_label=labels[1],

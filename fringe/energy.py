@@ -680,7 +680,9 @@ class EnergyDensityMap:
         In-plane coordinates, m: plan → site x and y; section → signed horizontal
         distance from ``origin_m`` along ``direction`` and absolute height z.
     energy_density_J_per_m3 : ndarray (nv, nu)
-        u in J/m³ (NaN inside windings, where the map is not meant to be read).
+        u in J/m³, finite everywhere: inside a winding it is the energy density of
+        the coil model's own current distribution there (the refined direct sum), so
+        contour bands run up to the winding outlines drawn over them.
     origin_m, direction : ndarray (3,)
         Section origin and horizontal unit vector (plan: origin (0, 0, height), x).
     levels_J_per_m3 : tuple of float
@@ -696,11 +698,11 @@ class EnergyDensityMap:
 
 
 def _map_values(site, pts: np.ndarray, shape) -> np.ndarray:
-    from .field import energy_density_J_per_m3, field_at, points_in_windings
+    # Not blanked inside windings: a NaN node blanks every grid cell it touches, which
+    # left a white halo around each winding on the drawn sheets.
+    from .field import energy_density_J_per_m3, field_at
 
-    u = energy_density_J_per_m3(field_at(site, pts))
-    u[points_in_windings(site, pts)] = np.nan
-    return u.reshape(shape)
+    return energy_density_J_per_m3(field_at(site, pts)).reshape(shape)
 
 
 def energy_density_plan_map(site, height_m: float, x_m, y_m,
