@@ -103,7 +103,9 @@ def _rotation_to_axis(axis: tuple[float, float, float]) -> Rotation:
     a = np.asarray(axis, dtype=float)
     z = np.array([0.0, 0.0, 1.0])
     v = np.cross(z, a)  # (−a_y, a_x, 0): exact, however small
-    s = float(np.linalg.norm(v))
+    # hypot, not the norm: squaring a component below ~1e-154 underflows to a subnormal,
+    # whose square root is off by up to ~1e-9 relative, and the half turn with it
+    s = math.hypot(float(v[0]), float(v[1]))
     if s == 0.0:  # exactly along ±z (no cut-off: an axis 1e-8 rad off z must stay off)
         return Rotation.identity() if a[2] > 0 else Rotation.from_rotvec([math.pi, 0.0, 0.0])
     angle = math.atan2(s, float(a[2]))
@@ -138,10 +140,11 @@ class Magnet:
 
     def __post_init__(self) -> None:
         a = np.asarray(self.axis, dtype=float)
-        n = float(np.linalg.norm(a))
-        if not np.isfinite(n) or n == 0.0:
+        big = float(np.max(np.abs(a))) if a.shape == (3,) else float("nan")
+        if not (np.all(np.isfinite(a)) and big > 0.0):
             raise ValueError(f"`axis` must be a non-zero finite vector; got {self.axis!r}")
-        object.__setattr__(self, "axis", tuple(float(x) for x in a / n))
+        a = a / big                 # a direction of any size: no underflow or overflow
+        object.__setattr__(self, "axis", tuple(float(x) for x in a / math.sqrt(a @ a)))
         object.__setattr__(self, "center_m", tuple(float(x) for x in self.center_m))
         object.__setattr__(self, "coils", tuple(self.coils))
 

@@ -283,12 +283,28 @@ def test_auto_path_matches_analytic_references_to_stated_accuracy():
 
 
 @pytest.mark.parametrize("axis", [(0.0, 1e-8, 1.0), (1e-12, 0.0, -1.0), (0.0, 0.0, 1.0),
-                                  (0.0, 0.0, -1.0), (3e-9, -2e-9, 1.0)])
+                                  (0.0, 0.0, -1.0), (3e-9, -2e-9, 1.0),
+                                  (0.0, 1.4774186170503925e-158, -1.0), (1e-160, 0.0, 1.0)])
 def test_local_frame_axis_is_the_stated_axis_even_near_z(axis):
     # the local z axis must land on the normalised stated axis to round-off, however
-    # close to ±z it is (an axis 1e-8 rad off z was once snapped onto z; found by the
-    # rotation-symmetry property test; common practice, no source)
+    # close to ±z it is (an axis 1e-8 rad off z was once snapped onto z; an axis 1.5e-158
+    # off −z was turned 1e-9 rad away, the norm of the cross product underflowing; both
+    # found by the rotation-symmetry property test; common practice, no source)
     from fringe.coils import Coil, Magnet
 
     m = Magnet("m", (0.0, 0.0, 0.0), axis, (Coil(0.3, 0.32, -0.2, 0.2, 10.0, 1.0),))
     np.testing.assert_allclose(m.rotation.apply([0.0, 0.0, 1.0]), m.axis, rtol=0, atol=1e-15)
+
+
+@pytest.mark.parametrize("axis, unit", [((1e-200, 0.0, 0.0), (1.0, 0.0, 0.0)),
+                                        ((3e200, 0.0, -3e200), (2**-0.5, 0.0, -(2**-0.5))),
+                                        ((1e-170, 1e-170, 0.0), (2**-0.5, 2**-0.5, 0.0))])
+def test_axis_of_any_magnitude_is_a_direction(axis, unit):
+    # An axis is a direction: its length must not matter, however small or large (the
+    # squared norm once underflowed to 0 or overflowed, refusing a valid axis; common
+    # practice, no source).
+    from fringe.coils import Coil, Magnet
+
+    m = Magnet("m", (0.0, 0.0, 0.0), axis, (Coil(0.3, 0.32, -0.2, 0.2, 10.0, 1.0),))
+    np.testing.assert_allclose(m.axis, unit, rtol=0, atol=1e-15)
+    np.testing.assert_allclose(m.rotation.apply([0.0, 0.0, 1.0]), unit, rtol=0, atol=1e-15)
