@@ -69,7 +69,7 @@ from scipy.optimize import brentq
 from .coils import Magnet
 from .constants import MU0_T_M_PER_A, STANDARD_GRAVITY_M_PER_S2
 from .errors import FringeInputError
-from .field import _as_points, field_at, points_in_windings
+from .field import as_points, field_at, points_in_windings
 
 __all__ = [
     "SteelMaterial", "ObjectKind", "MATERIALS", "OBJECT_KINDS", "DEFAULT_MATERIAL",
@@ -397,7 +397,7 @@ def field_and_gradient(site, points_m, *, step_m: float = DEFAULT_STEP_M,
     h = float(step_m)
     if not (math.isfinite(h) and h > 0):
         raise FringeInputError(f"`step_m` must be a positive finite number; got {step_m!r}")
-    p = _as_points(points_m)
+    p = as_points(points_m)
     n = len(p)
     b0 = field_at(site, p, method=method)
     bmag = np.linalg.norm(b0, axis=1)

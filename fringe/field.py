@@ -23,7 +23,8 @@ from .errors import FringeInputError
 from .quadrature import coil_field_local_T
 
 __all__ = ["field_at", "field_gradient_at", "field_at_magpylib", "magnet_field_local_T",
-           "energy_density_J_per_m3", "points_in_windings", "as_magnets", "METHODS"]
+           "energy_density_J_per_m3", "points_in_windings", "as_magnets", "as_points",
+           "METHODS"]
 
 #: Evaluation methods accepted by :func:`field_at` (one list, checked everywhere).
 METHODS: tuple[str, ...] = ("auto", "direct")
@@ -58,7 +59,10 @@ def coordinate_range_problem(points_m: np.ndarray, key: str) -> str | None:
     return None
 
 
-def _as_points(points_m) -> np.ndarray:
+def as_points(points_m) -> np.ndarray:
+    """Site points as a float array (N, 3), checked: one point (3,) or an (N, 3) array,
+    finite and within ±:data:`~fringe.constants.MAX_COORDINATE_M`; else
+    :class:`~fringe.errors.FringeInputError` naming ``points_m``."""
     p = np.asarray(points_m, dtype=float)
     if p.ndim == 1 and p.shape == (3,):
         p = p[None, :]
@@ -167,7 +171,7 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
     if method not in METHODS:
         raise FringeInputError(f"`method` must be one of {', '.join(METHODS)}; got {method!r}")
     mags = as_magnets(site)
-    p = _as_points(points_m)
+    p = as_points(points_m)
     if not isinstance(chunk_size, (int, np.integer)) or chunk_size < 1:
         raise FringeInputError(f"`chunk_size` must be a positive integer; got {chunk_size!r}")
     out = np.zeros_like(p)
@@ -262,7 +266,7 @@ def field_gradient_at(site, points_m, *, method: str = "auto", chunk_size: int =
     if method not in METHODS:
         raise FringeInputError(f"`method` must be one of {', '.join(METHODS)}; got {method!r}")
     mags = as_magnets(site)
-    p = _as_points(points_m)
+    p = as_points(points_m)
     n = len(p)
     B = np.zeros((n, 3))
     J = np.zeros((n, 3, 3))
@@ -328,7 +332,7 @@ def field_at_magpylib(site, points_m, order: int = DEFAULT_RADIAL_ORDER,
     """
     import magpylib as magpy
 
-    p = _as_points(points_m)
+    p = as_points(points_m)
     out = np.zeros_like(p)
     for m in as_magnets(site):
         col = magpylib_sources(m, order, panels)
@@ -344,7 +348,7 @@ def energy_density_J_per_m3(B_T) -> np.ndarray:
 
 def points_in_windings(site, points_m, margin_m: float = 0.0) -> np.ndarray:
     """Boolean mask (N,) of points inside (or within margin of) any winding."""
-    p = _as_points(points_m)
+    p = as_points(points_m)
     mask = np.zeros(len(p), dtype=bool)
     for m in as_magnets(site):
         mask |= m.contains_points(p, margin_m)
