@@ -140,7 +140,9 @@ class Magnet:
 
     def __post_init__(self) -> None:
         a = np.asarray(self.axis, dtype=float)
-        big = float(np.max(np.abs(a))) if a.shape == (3,) else float("nan")
+        if a.shape != (3,):
+            raise ValueError(f"`axis` must be a vector of 3 numbers; got {self.axis!r}")
+        big = float(np.max(np.abs(a)))
         if not (np.all(np.isfinite(a)) and big > 0.0):
             raise ValueError(f"`axis` must be a non-zero finite vector; got {self.axis!r}")
         a = a / big                 # a direction of any size: no underflow or overflow

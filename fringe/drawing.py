@@ -1098,7 +1098,8 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     y_m : (ny,) float
         Grid y (north) coordinates, m, strictly increasing.
     values : (ny, nx) float
-        The map in the unit ``unit`` (NaN where undefined, e.g. inside windings).
+        The map in the unit ``unit``; NaN where undefined (a NaN node leaves every
+        grid cell it touches unfilled).
     levels : sequence of float
         Band edges in ``unit``; the lowest band starts at ``levels[0]`` (no fill below),
         the highest is open above ``levels[-1]``.
