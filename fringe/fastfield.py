@@ -709,8 +709,8 @@ def fast_field_site_T(magnet: Magnet, points_3n: np.ndarray, order: int = DEFAUL
 def _rotate(mat: np.ndarray, v) -> np.ndarray:
     """``mat @ v`` for a 3×3 matrix and three rows of N values, in element-wise numpy.
 
-    Avoids BLAS, whose own threads would compete with the evaluation threads of
-    :func:`fringe.field.field_at` (the work is memory-bound either way).
+    Avoids a BLAS call per chunk: with its threads on, the matrix products of the fast
+    path ran slower, not faster (the work is memory-bound; docs/performance.md).
     """
     out = np.empty((3, v[0].size))
     for i in range(3):
@@ -925,15 +925,14 @@ def fast_gradient_local(model: AxisymmetricModel, x: np.ndarray, y: np.ndarray,
     ie = np.flatnonzero(~in_table)
     if ie.size:
         xe, ye, ze, re2 = x[ie], y[ie], z[ie], r2[ie]
-        band = np.searchsorted(model.band_edges_sq, re2, side="right") - 1
-        L = int(model.band_lmax[max(int(band.min()), 0)])
+        k0 = int(model.band_of(re2).min())        # innermost band present: its degree
+        L = int(model.band_lmax[k0])
         g_, bz_, dzz_, m_ = series_gradient_scaled(model.d, L, xe, ye, ze)
         G[ie] = g_
         bz[ie] = bz_
         dzz[ie] = dzz_
         drr[ie] = -dzz_ - g_
         dzr[ie] = rho[ie] * m_
-        k0 = max(int(band.min()), 0)
         err[ie] = model.band_err[k0] * _power_half(model.band_edges_sq[k0] / re2, L + 3)
     A = drr - G
     inv = 1.0 / model.scale_m
@@ -954,8 +953,7 @@ def fast_gradient_site(magnet: Magnet, points_3n: np.ndarray, order: int = DEFAU
     """Site-frame B (3, N) T, Jacobian (3, 3, N) T/m and B's error estimate (N,) T."""
     model, amps = _model_and_scale(magnet.coils, order, panels)
     rot = magnet.rotation.as_matrix()
-    c = np.asarray(magnet.center_m)[:, None]
-    loc = _to_scaled_local(rot, c[:, 0], model.scale_m, points_3n)
+    loc = _to_scaled_local(rot, magnet.center_m, model.scale_m, points_3n)
     B, J, err = fast_gradient_local(model, loc[0], loc[1], loc[2])
     b = _rotate(rot * amps, B)
     js = amps * np.einsum("ia,abn,jb->ijn", rot, J, rot)
