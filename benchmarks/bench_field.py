@@ -2,7 +2,7 @@
 
 Prints, for the same random points, the wall time of both, the speed-up, the fast path's
 max and 95th-percentile relative error |ΔB|/|B| against ``magpylib.getB`` over the magnet's
-current sheets (:func:`fringe.field.field_at_magpylib`), and points per second.
+current sheets (:func:`fringe.field.evaluate.field_at_magpylib`), and points per second.
 
 Cases
 -----
@@ -35,9 +35,9 @@ from importlib import resources
 
 import numpy as np
 
-from fringe.fastfield import prepare_models
-from fringe.field import field_at, field_at_magpylib
-from fringe.scenario import load_site
+from fringe.field.evaluate import field_at, field_at_magpylib
+from fringe.field.fast import prepare_models
+from fringe.io.scenario import load_site
 
 
 def points(magnet, n, r_lo, r_hi, law, seed):
@@ -53,8 +53,8 @@ def points(magnet, n, r_lo, r_hi, law, seed):
 
 def near_windings(magnet, pts):
     """Points inside a winding or closer than half a radial panel to it: there the
-    fixed-sheet sum (magpylib) is not converged and fringe refines it (fringe.quadrature)."""
-    from fringe.quadrature import default_panels, distance_to_winding_m
+    fixed-sheet sum (magpylib) is not converged and fringe refines it (fringe.field._quadrature)."""
+    from fringe.field._quadrature import default_panels, distance_to_winding_m
 
     loc = magnet.to_local(pts)
     rho = np.hypot(loc[:, 0], loc[:, 1])

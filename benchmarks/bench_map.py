@@ -25,8 +25,8 @@ import time
 from importlib import resources
 from pathlib import Path
 
-from fringe.gridmap import grid_from_box, write_map
-from fringe.scenario import load_site
+from fringe.io.gridmap import grid_from_box, write_map
+from fringe.io.scenario import load_site
 
 
 def main() -> None:

@@ -1,7 +1,7 @@
 """fringe: static stray field, controlled zones, stored energy and quench budgets.
 
-Public API (a small curated set; everything else lives in its module)
------------------------------------------------------------------------
+Public API (a small curated set; everything else lives in its layer)
+--------------------------------------------------------------------
 load_site(path) -> Site
     Read and validate a TOML scenario file.
 field_at(site, points_m) -> ndarray (N, 3)
@@ -21,41 +21,52 @@ fit_magnet(...) -> FitResult
 search_placement(...) -> PlacementResult
     Where to put a magnet so its field lines stay in the controlled area.
 
-All results are advisory estimates; see :data:`fringe.constants.ADVISORY_NOTICE`.
-Heavy modules are imported on first use of their names.
+The package is layered (``docs/architecture.md``): ``model`` → ``field`` → ``physics`` →
+``analysis`` → ``io`` → ``render`` → ``cli``, each importing only the layers before it.
+Every name here is imported on first use, so ``import fringe`` costs nothing.
+
+All results are advisory estimates; see :data:`fringe.model.constants.ADVISORY_NOTICE`.
 """
 
 from __future__ import annotations
 
 import importlib
+from typing import Any
 
-__version__ = "0.1.0"
+from fringe.model.constants import VERSION as __version__
 
-from .coils import Coil, Magnet  # noqa: E402
-from .constants import ADVISORY_NOTICE  # noqa: E402
-from .errors import FringeError, FringeInputError, FringeIOError, ScenarioError  # noqa: E402
-from .field import energy_density_J_per_m3, field_at  # noqa: E402
-from .scenario import Site, load_site  # noqa: E402
-
-#: Names exported lazily: name → module.
-_LAZY = {
-    "threshold_extents_m": "extents",
-    "compute_report": "report", "write_report": "report", "ReportResult": "report",
-    "stored_energy_J": "energy", "inductance_matrix_H": "energy",
-    "circuit_inductance_H": "energy", "magnet_energy": "energy",
-    "quench_budget": "quench", "QuenchBudget": "quench", "helium_properties": "quench",
-    "fit_magnet": "fit", "FieldLine": "fit", "FitResult": "fit",
-    "search_placement": "place", "PlacementResult": "place",
+#: Public names → the module that defines them (one list, read by ``__all__``).
+_PUBLIC: dict[str, str] = {
+    "Coil": "fringe.model.magnet", "Magnet": "fringe.model.magnet",
+    "Site": "fringe.io.scenario",
+    "ADVISORY_NOTICE": "fringe.model.constants",
+    "FringeError": "fringe.model.errors", "ScenarioError": "fringe.model.errors",
+    "FringeInputError": "fringe.model.errors", "FringeIOError": "fringe.model.errors",
+    "field_at": "fringe.field.evaluate", "energy_density_J_per_m3": "fringe.field.evaluate",
+    "threshold_extents_m": "fringe.field.extents",
+    "stored_energy_J": "fringe.physics.energy", "inductance_matrix_H": "fringe.physics.energy",
+    "circuit_inductance_H": "fringe.physics.energy", "magnet_energy": "fringe.physics.energy",
+    "quench_budget": "fringe.physics.quench", "QuenchBudget": "fringe.physics.quench",
+    "helium_properties": "fringe.physics.quench",
+    "fit_magnet": "fringe.physics.fit", "FieldLine": "fringe.physics.fit",
+    "FitResult": "fringe.physics.fit",
+    "compute_report": "fringe.analysis.report", "ReportResult": "fringe.analysis.report",
+    "search_placement": "fringe.analysis.placement",
+    "PlacementResult": "fringe.analysis.placement",
+    "load_site": "fringe.io.scenario",
+    "write_report": "fringe.analysis.report",
 }
 
-__all__ = ["__version__", "Coil", "Magnet", "Site", "load_site", "field_at",
-           "energy_density_J_per_m3", "ADVISORY_NOTICE", "FringeError", "ScenarioError",
-           "FringeInputError", "FringeIOError", *_LAZY]
+__all__ = ["__version__", *_PUBLIC]
 
 
-def __getattr__(name: str):
-    if name in _LAZY:
-        value = getattr(importlib.import_module(f".{_LAZY[name]}", __name__), name)
+def __getattr__(name: str) -> Any:
+    if name in _PUBLIC:
+        value = getattr(importlib.import_module(_PUBLIC[name]), name)
         globals()[name] = value
         return value
     raise AttributeError(f"module 'fringe' has no attribute {name!r}")
+
+
+def __dir__() -> list[str]:
+    return sorted(__all__)

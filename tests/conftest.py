@@ -18,7 +18,7 @@ if os.environ.get("CI"):
 @pytest.fixture(scope="session")
 def demo_site():
     """The invented demo site shipped with the package."""
-    from fringe.scenario import load_site
+    from fringe.io.scenario import load_site
 
     with resources.as_file(resources.files("fringe") / "data" / "demo_site.toml") as p:
         return load_site(p)
@@ -57,8 +57,8 @@ def write_file(tmp_path):
 
 @pytest.fixture
 def run_cli(capsys):
-    """``run_cli(*argv)`` → (exit code, stdout, stderr) of ``fringe.cli.main``."""
-    from fringe.cli import main
+    """``run_cli(*argv)`` → (exit code, stdout, stderr) of ``fringe.cli.main.main``."""
+    from fringe.cli.main import main
 
     def run(*argv) -> tuple[int, str, str]:
         code = main([str(a) for a in argv])

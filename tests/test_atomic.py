@@ -1,7 +1,7 @@
 """Atomic outputs: a failed or killed run never damages the previous results.
 
-In-process: an exception inside :func:`fringe.atomic.atomic_file` /
-:func:`fringe.atomic.atomic_directory` leaves the old file/folder byte for byte and no
+In-process: an exception inside :func:`fringe.io.atomic.atomic_file` /
+:func:`fringe.io.atomic.atomic_directory` leaves the old file/folder byte for byte and no
 temporary left behind. Out of process: a writer killed with SIGKILL (no clean-up code
 runs at all) mid-write leaves the old results intact; the real ``fringe probe`` killed
 while writing its output, or interrupted with Ctrl-C (SIGINT), does too.
@@ -20,8 +20,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from fringe.atomic import atomic_directory, atomic_file, write_text_atomic
-from fringe.errors import FringeIOError
+from fringe.io.atomic import atomic_directory, atomic_file, write_text_atomic
+from fringe.model.errors import FringeIOError
 
 OLD = b"old results, complete\n"
 
@@ -103,7 +103,7 @@ def test_atomic_directory_success_replaces_whole(tmp_path):
 
 def test_atomic_directory_failed_swap_puts_old_back(tmp_path, monkeypatch):
     """If renaming the new folder in fails, the old one is moved back before the error."""
-    import fringe.atomic as atomic
+    import fringe.io.atomic as atomic
 
     out = _old_folder(tmp_path)
     before = _snapshot(out)
@@ -137,7 +137,7 @@ def test_atomic_directory_refuses_a_file(tmp_path):
 _WRITER = r"""
 import sys, time
 from pathlib import Path
-from fringe.atomic import atomic_directory, atomic_file
+from fringe.io.atomic import atomic_directory, atomic_file
 mode, target = sys.argv[1], Path(sys.argv[2])
 if mode == "file":
     with atomic_file(target) as tmp, open(tmp, "wb") as fh:

@@ -9,7 +9,11 @@ import pytest
 from scipy.optimize import brentq
 from scipy.special import ellipe, ellipk
 
-from fringe.attraction import (
+from fringe.field.evaluate import field_at
+from fringe.field.extents import threshold_extents_m
+from fringe.model.errors import FringeInputError
+from fringe.model.magnet import Coil, Magnet
+from fringe.physics.attraction import (
     DEFAULT_OBJECT,
     DEFAULT_STEP_M,
     MATERIALS,
@@ -31,10 +35,6 @@ from fringe.attraction import (
     section_attraction,
     site_attraction,
 )
-from fringe.coils import Coil, Magnet
-from fringe.errors import FringeInputError
-from fringe.extents import threshold_extents_m
-from fringe.field import field_at
 
 MU0 = 4e-7 * math.pi  # μ₀ to 1e-9 relative (CODATA 2018: 1.00000000055 × 4π·10⁻⁷)
 
@@ -117,7 +117,7 @@ def test_gradient_step_converges(demo_magnet):
 
 
 def test_fast_engine_gradient_agrees_with_direct_sum(demo_magnet):
-    # consistency: the fast field path (error ≤ 1e-4·|B|, fringe.fastfield) differenced
+    # consistency: the fast field path (error ≤ 1e-4·|B|, fringe.field.fast) differenced
     # at the default step against the direct sheet sum. An engine error ε|B| can move a
     # Richardson difference by ≤ 1.5ε|B|/h, i.e. ≤ 1.5ε·r/(n·h) relative to |∇|B|| ≈ n|B|/r
     # (worst case 2e-2 at r = 4 m, n = 3); measured ≤ 7e-5 on these points, so 1e-3
@@ -316,8 +316,8 @@ def test_site_attraction_for_a_report(demo_site, demo_magnet):
     # consistency: the report bundle reuses the zone helper's grids; the section along the
     # axis spans the axial extent, the one across it the radial extent (0.2 m grid, so
     # within the marching-squares interpolation of one step)
-    from fringe.plan import Floor
-    from fringe.zones import floor_map, magnet_sections
+    from fringe.analysis.zones import floor_map, magnet_sections
+    from fringe.model.building import Floor
 
     c = np.asarray(demo_magnet.center_m)
     x = c[0] + np.arange(-3.0, 3.01, 0.2)

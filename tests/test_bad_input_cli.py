@@ -18,7 +18,7 @@ import numpy as np
 import pytest
 from conftest import SMALL_SCENARIO_TOML
 
-from fringe.errors import FringeWarning
+from fringe.model.errors import FringeWarning
 
 OLD_OUTPUT = b"previous results\n"
 
@@ -176,8 +176,8 @@ def test_points_outside_windings_do_not_warn(scenario, run_cli):
 
 
 def test_implausible_centre_field_warns_with_the_number(write_file, run_cli):
-    from fringe.field import field_at
-    from fringe.scenario import load_site
+    from fringe.field.evaluate import field_at
+    from fringe.io.scenario import load_site
 
     text = SMALL_SCENARIO_TOML.replace("current_A = 100.0", "current_A = 100000.0")
     scen = write_file(text, "strong.toml")

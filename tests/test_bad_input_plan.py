@@ -181,7 +181,7 @@ def _assert_refused(code, out, err, expected, out_dir):
 
 
 def test_plan_base_is_valid(write_file):
-    from fringe.scenario import load_site
+    from fringe.io.scenario import load_site
 
     site = load_site(write_file(PLAN_TOML))
     assert [r.name for r in site.section("room")] == ["magnet room", "corridor"]

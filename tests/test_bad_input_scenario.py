@@ -248,8 +248,8 @@ def test_non_utf8_file(payload, byte, tmp_path, write_file, run_cli):
 ], ids=["plain", "crlf", "utf8-bom"])
 def test_good_file_variants_load_alike(transform, write_file, run_cli):
     """Windows line ends and a UTF-8 byte-order mark (Notepad) are not input errors."""
-    from fringe.field import field_at
-    from fringe.scenario import load_site
+    from fringe.field.evaluate import field_at
+    from fringe.io.scenario import load_site
 
     ref = load_site(write_file(SMALL_SCENARIO_TOML, "ref.toml"))
     scen = write_file(transform(SMALL_SCENARIO_TOML), "variant.toml")
@@ -285,9 +285,9 @@ def _cpu_limited(fn, seconds: float):
 
 @pytest.mark.filterwarnings("ignore::RuntimeWarning")
 def test_solid_coil_field_on_axis_finishes():
-    from fringe.coils import Coil, Magnet
-    from fringe.energy import center_field_T
-    from fringe.field import field_at
+    from fringe.field.evaluate import field_at
+    from fringe.model.magnet import Coil, Magnet
+    from fringe.physics.energy import center_field_T
 
     m = Magnet("disc", (0.0, 0.0, 0.0), (0.0, 0.0, 1.0),
                (Coil(0.0, 0.1, -0.05, 0.05, 100.0, 10.0),))
@@ -307,8 +307,8 @@ def test_absurdly_far_probe_point_finishes(coord, write_file, run_cli):
     assert code == 2 and "Traceback" not in err
     assert "`--at` must be site coordinates within ±1e+08 m" in err
     from fringe import load_site
-    from fringe.errors import FringeInputError
-    from fringe.field import field_at
+    from fringe.field.evaluate import field_at
+    from fringe.model.errors import FringeInputError
 
     site = load_site(scen)
     with pytest.raises(FringeInputError, match="`points_m` must be site coordinates"):

@@ -1,4 +1,4 @@
-"""Room and equipment verdicts (fringe.checks) on a hand-built site."""
+"""Room and equipment verdicts (fringe.analysis.verdicts) on a hand-built site."""
 
 from __future__ import annotations
 
@@ -8,12 +8,12 @@ import numpy as np
 import pytest
 import shapely
 
-from fringe.checks import VERDICTS, boundary_outside_controlled_m2, room_limit, verdict
-from fringe.extents import threshold_extents_m
-from fringe.field import field_at
-from fringe.plan import Boundary, Room
-from fringe.report import compute_report
-from fringe.scenario import parse_site
+from fringe.analysis.report import compute_report
+from fringe.analysis.verdicts import VERDICTS, boundary_outside_controlled_m2, room_limit, verdict
+from fringe.field.evaluate import field_at
+from fringe.field.extents import threshold_extents_m
+from fringe.io.scenario import parse_site
+from fringe.model.building import Boundary, Room
 
 # A compact solenoid at (0, 0, 1.2), axis east: its 0.5 mT line reaches ≈ 2.3 m along the
 # axis and ≈ 1.8 m across (point-dipole estimate; checked below with extents).

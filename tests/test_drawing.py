@@ -1,4 +1,4 @@
-"""Tests of the drawing sheets (fringe.drawing).
+"""Tests of the drawing sheets (fringe.render.drawing).
 
 The field arrays are synthetic: |B| of a point dipole computed here with numpy
 (Jackson, Classical Electrodynamics, 3rd ed., Eq. 5.56). These tests check drawing
@@ -18,9 +18,9 @@ import pytest
 from matplotlib.figure import Figure
 from shapely.geometry import Polygon, box
 
-from fringe import drawing as d
-from fringe.constants import ADVISORY_NOTICE
-from fringe.errors import FringeInputError, FringeIOError
+from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.errors import FringeInputError, FringeIOError
+from fringe.render import drawing as d
 
 CENTRE = np.array([5.0, 4.0, 1.1])
 MOMENT_AM2 = np.array([1.6e5, 0.0, 0.0])  # invented: the 0.5 mT line at 4 m on the axis
@@ -328,7 +328,7 @@ def test_save_figure_rejects_unknown_suffix_and_missing_folder(tmp_path):
 
 def test_drawing_module_knows_nothing_of_the_field_engine():
     # DESIGN.md: outputs know nothing of magpylib; no pyplot global state
-    from fringe import sheets
+    from fringe.render import sheet as sheets
 
     names = set()
     src = "\n".join(Path(m.__file__).read_text(encoding="utf-8") for m in (d, sheets))

@@ -7,8 +7,8 @@ from importlib import resources
 
 import pytest
 
-from fringe.cli import main
-from fringe.constants import ADVISORY_NOTICE
+from fringe.cli.main import main
+from fringe.model.constants import ADVISORY_NOTICE
 
 
 @pytest.fixture(scope="module")
@@ -104,8 +104,8 @@ def test_energy_outside_a_radius_tends_to_the_dipole_tail(tmp_path, capsys):
 
     from conftest import SMALL_SCENARIO_TOML
 
-    from fringe.constants import MU0_T_M_PER_A as MU0
-    from fringe.scenario import load_site
+    from fringe.io.scenario import load_site
+    from fringe.model.constants import MU0_T_M_PER_A as MU0
 
     scen = tmp_path / "s.toml"
     scen.write_text(SMALL_SCENARIO_TOML, encoding="utf-8")

@@ -10,9 +10,11 @@ import math
 import numpy as np
 import pytest
 
-from fringe.coils import Coil, Magnet
-from fringe.constants import MU0_T_M_PER_A as MU0
-from fringe.energy import (
+from fringe.field.evaluate import field_at, magnet_field_local_T, points_in_windings
+from fringe.field.multipole import zonal_moments_Am
+from fringe.model.constants import MU0_T_M_PER_A as MU0
+from fringe.model.magnet import Coil, Magnet
+from fringe.physics.energy import (
     DEFAULT_ENERGY_LEVELS_J_PER_M3,
     center_field_T,
     coil_pair_inductance_H,
@@ -30,8 +32,6 @@ from fringe.energy import (
     stored_energy_J,
     winding_field_local_T,
 )
-from fringe.field import field_at, magnet_field_local_T, points_in_windings
-from fringe.multipole import zonal_moments_Am
 
 THICK = Magnet("thick", (0.0, 0.0, 0.0), (0, 0, 1), (Coil(0.3, 0.5, -0.4, 0.4, 1000, 100.0),))
 

@@ -12,9 +12,9 @@ import pytest
 from scipy import integrate
 from scipy.special import ellipe, ellipk
 
-from fringe.coils import Coil, Magnet
-from fringe.constants import MU0_T_M_PER_A as MU0
-from fringe.energy import (
+from fringe.model.constants import MU0_T_M_PER_A as MU0
+from fringe.model.magnet import Coil, Magnet
+from fringe.physics.energy import (
     circuit_inductance_H,
     coil_pair_inductance_H,
     inductance_matrix_H,

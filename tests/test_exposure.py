@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import pytest
 
-from fringe.errors import FringeInputError
-from fringe.exposure import (
+from fringe.model.errors import FringeInputError
+from fringe.physics.exposure import (
     EXPOSURE_LIMITS,
     ICNIRP_2009_SOURCE,
     exposure_label,

@@ -8,12 +8,12 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
-from fringe.coils import Coil, Magnet
-from fringe.constants import MU0_T_M_PER_A
-from fringe.errors import FringeInputError
-from fringe.extents import extents_from_moments, field_bound_radius_m, threshold_extents_m
-from fringe.field import magnet_field_local_T
-from fringe.multipole import zonal_moments_Am
+from fringe.field.evaluate import magnet_field_local_T
+from fringe.field.extents import extents_from_moments, field_bound_radius_m, threshold_extents_m
+from fringe.field.multipole import zonal_moments_Am
+from fringe.model.constants import MU0_T_M_PER_A
+from fringe.model.errors import FringeInputError
+from fringe.model.magnet import Coil, Magnet
 
 
 def _direct_root(magnet: Magnet, threshold_T: float, axial: bool, lo: float, hi: float):

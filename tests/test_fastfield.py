@@ -1,6 +1,6 @@
 """Fast axisymmetric field path: bounded error against the direct sum.
 
-The fast path (fringe.fastfield, used by ``field_at(method="auto")``) promises
+The fast path (fringe.field.fast, used by ``field_at(method="auto")``) promises
 |B_auto − B_direct| ≤ 1e-4 |B_direct| at every point. These tests check that promise on
 seeded random points at all distances and directions around a shielded magnet (the
 demo magnet, whose dipole nearly cancels), an unshielded whole-body solenoid and a small
@@ -17,9 +17,8 @@ import numpy as np
 import pytest
 
 from fringe import Coil, Magnet
-from fringe.constants import MU0_T_M_PER_A as MU0
-from fringe.errors import FringeInputError
-from fringe.fastfield import (
+from fringe.field.evaluate import field_at
+from fringe.field.fast import (
     L_BIG,
     RELATIVE_TOLERANCE,
     axisymmetric_model,
@@ -27,8 +26,9 @@ from fringe.fastfield import (
     series_field_scaled,
     sheet_zonal_moments_Am,
 )
-from fringe.field import field_at
-from fringe.multipole import zonal_moments_Am
+from fringe.field.multipole import zonal_moments_Am
+from fringe.model.constants import MU0_T_M_PER_A as MU0
+from fringe.model.errors import FringeInputError
 
 TOL = RELATIVE_TOLERANCE  # 1e-4: the bound stated by the fast path (issue 6)
 
@@ -68,7 +68,7 @@ def random_points(magnet: Magnet, n: int, seed: int, r_min_factor=0.02, r_max_fa
 def always_fast(monkeypatch):
     """Exercise the fast path even for the few points of a test (normally a new coil set
     is summed directly until 2·10⁴ points have been asked of it)."""
-    from fringe import fastfield
+    from fringe.field import fast as fastfield
 
     monkeypatch.setattr(fastfield, "BUILD_AFTER_POINTS", 0)
 
@@ -81,7 +81,7 @@ def magnets(demo_site):
 
 @pytest.mark.parametrize("name", ["demo-shielded", "unshielded", "lab"])
 def test_auto_within_bound_of_direct_sum_at_random_points(magnets, name):
-    # Source: consistency with the direct sum (fringe.field.magnet_field_local_T), the
+    # Source: consistency with the direct sum (fringe.field.evaluate.magnet_field_local_T), the
     # reference the fast path promises to match within 1e-4 relative to |B|.
     m = magnets[name]
     pts = random_points(m, 2500, seed={"demo-shielded": 1, "unshielded": 2, "lab": 3}[name])
@@ -96,7 +96,7 @@ def test_demo_magnet_far_points_use_the_fast_path(magnets):
     # common practice, no source: the far field must not silently fall back to the direct
     # sum everywhere (that would meet the bound but not the purpose). Count fast points by
     # the error estimate the fast path returns.
-    from fringe.fastfield import SAFETY_FACTOR, fast_field_site_T
+    from fringe.field.fast import SAFETY_FACTOR, fast_field_site_T
 
     m = magnets["demo-shielded"]
     pts = random_points(m, 2000, seed=5, r_min_factor=1.7, r_max_factor=30.0)
@@ -147,10 +147,10 @@ def test_superposed_magnets_that_cancel():
 
 
 def test_sheet_moments_equal_exact_coil_moments_at_low_degree(magnets):
-    # Source: the coil's zonal moments (fringe.multipole, exact Gauss-Legendre integration
+    # Source: the coil's zonal moments (fringe.field.multipole, exact Gauss-Legendre integration
     # of Smythe's loop formula, Sec. 7.13): the sheet rule integrates r^(l+1) exactly for
     # l ≤ 14 (8-node Gauss-Legendre, A&S 25.4.29), so both agree to rounding there.
-    from fringe.coils import current_sheets
+    from fringe.model.magnet import current_sheets
 
     m = magnets["demo-shielded"]
     s = current_sheets(m)
@@ -245,7 +245,7 @@ def test_unknown_method_is_refused_with_the_choices():
 def test_disk_cache_round_trip(tmp_path, monkeypatch):
     # common practice, no source: a model read back from the disk cache gives the same
     # field as the one built; "off" disables the cache.
-    from fringe import fastfield
+    from fringe.field import fast as fastfield
 
     coils = (Coil(0.011, 0.013, -0.02, 0.03, 300, 2.0),)      # asymmetric, tiny
     pts = np.array([[0.0, 0.0, 0.0], [0.01, 0.0, 0.05], [0.1, 0.2, -0.3]])
@@ -267,10 +267,10 @@ def test_disk_cache_round_trip(tmp_path, monkeypatch):
 
 @pytest.mark.parametrize("name", ["demo-shielded", "lab"])
 def test_gradient_matches_differences_of_the_direct_sum(magnets, name):
-    # Source: consistency with central differences of the direct sum (fringe.field);
+    # Source: consistency with central differences of the direct sum (fringe.field.evaluate);
     # outside windings J must also be symmetric and traceless: ∇×B = 0 and ∇·B = 0
     # (Jackson, 3rd ed., Eqs. 5.22 and 5.5).
-    from fringe.field import field_gradient_at, points_in_windings
+    from fringe.field.evaluate import field_gradient_at, points_in_windings
 
     m = magnets[name]
     pts = random_points(m, 600, seed=21, r_min_factor=0.05, r_max_factor=40.0)
@@ -291,7 +291,7 @@ def test_gradient_of_the_far_field_is_the_dipole_gradient():
     # Source: gradient of the dipole field B = μ0/4π (3(m·r̂)r̂ − m)/r³ (Jackson Eq. 5.56),
     # differentiated analytically: ∂_j B_i = 3μ0/(4π r⁴)[m_j r̂_i + m_i r̂_j + (m·r̂)(δ_ij
     # − 5 r̂_i r̂_j)] (next multipole smaller by (a/r)² ~ 1e-5 at r = 300 a).
-    from fringe.field import field_gradient_at
+    from fringe.field.evaluate import field_gradient_at
 
     a, current = 0.2, 40.0
     loop = Magnet("loop", (0.0, 0.0, 0.0), (0.0, 0.0, 1.0),
@@ -315,7 +315,7 @@ def test_few_points_on_a_new_coil_set_use_the_direct_sum(monkeypatch, tmp_path):
     # common practice, no source: building a model costs about 2·10⁴ direct points, so
     # a handful of points on an unseen coil set (a fit iteration) is summed directly, and
     # the model is built once the points asked of that coil set pass the threshold.
-    from fringe import fastfield
+    from fringe.field import fast as fastfield
 
     monkeypatch.setattr(fastfield, "BUILD_AFTER_POINTS", 1000)
     monkeypatch.setenv("FRINGE_CACHE_DIR", str(tmp_path))

@@ -14,13 +14,13 @@ from scipy import integrate
 from scipy.spatial.transform import Rotation
 
 from fringe import Coil, Magnet, field_at
-from fringe.constants import MU0_T_M_PER_A as MU0
-from fringe.field import (
+from fringe.field.evaluate import (
     _magnet_field_site_T,
     field_at_magpylib,
     magnet_field_local_T,
     points_in_windings,
 )
+from fringe.model.constants import MU0_T_M_PER_A as MU0
 
 RTOL_OUTSIDE = 1e-4  # the engine's stated accuracy outside windings (issue: core)
 
@@ -170,7 +170,7 @@ def test_near_rule_with_fewer_levels_matches_adaptive_scipy_quadrature(gap_m):
     # point's own radius, with the same closed-form sheet kernel (magpylib). The near
     # rule drops graded levels finer than the point's distance (quadrature.near_levels);
     # it must agree with QUADPACK and with the full 14-level rule to far below 1e-4.
-    from fringe import quadrature as Q
+    from fringe.field import _quadrature as Q
 
     c = Coil(0.46, 0.52, 0.05, 0.25, 2180, 220.0)
     rho = np.array([0.52 + gap_m, 0.49, 0.49 - gap_m / 2, 0.46 - gap_m])
@@ -262,7 +262,7 @@ def test_auto_path_matches_analytic_references_to_stated_accuracy():
     # The fast path promises |ΔB| ≤ 1e-4 |B| (docs/performance.md); here against the
     # thick-solenoid closed form (Montgomery 1969) and the dipole limit (Jackson Eq. 5.56),
     # with the magnet's fast model built up front so the fast path is really used.
-    from fringe.fastfield import prepare_models
+    from fringe.field.fast import prepare_models
 
     c = Coil(0.20, 0.35, -0.4, 0.6, 5000, 80.0)
     m = one([c])
@@ -290,7 +290,7 @@ def test_local_frame_axis_is_the_stated_axis_even_near_z(axis):
     # close to ±z it is (an axis 1e-8 rad off z was once snapped onto z; an axis 1.5e-158
     # off −z was turned 1e-9 rad away, the norm of the cross product underflowing; both
     # found by the rotation-symmetry property test; common practice, no source)
-    from fringe.coils import Coil, Magnet
+    from fringe.model.magnet import Coil, Magnet
 
     m = Magnet("m", (0.0, 0.0, 0.0), axis, (Coil(0.3, 0.32, -0.2, 0.2, 10.0, 1.0),))
     np.testing.assert_allclose(m.rotation.apply([0.0, 0.0, 1.0]), m.axis, rtol=0, atol=1e-15)
@@ -303,7 +303,7 @@ def test_axis_of_any_magnitude_is_a_direction(axis, unit):
     # An axis is a direction: its length must not matter, however small or large (the
     # squared norm once underflowed to 0 or overflowed, refusing a valid axis; common
     # practice, no source).
-    from fringe.coils import Coil, Magnet
+    from fringe.model.magnet import Coil, Magnet
 
     m = Magnet("m", (0.0, 0.0, 0.0), axis, (Coil(0.3, 0.32, -0.2, 0.2, 10.0, 1.0),))
     np.testing.assert_allclose(m.axis, unit, rtol=0, atol=1e-15)

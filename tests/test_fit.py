@@ -9,12 +9,12 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
-from fringe.cli import main
-from fringe.constants import ADVISORY_NOTICE
-from fringe.errors import FringeWarning, ScenarioError
-from fringe.field import magnet_field_local_T
-from fringe.fit import FieldLine, check_request, fit_magnet
-from fringe.scenario import load_site, parse_site
+from fringe.cli.main import main
+from fringe.field.evaluate import magnet_field_local_T
+from fringe.io.scenario import load_site, parse_site
+from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.errors import FringeWarning, ScenarioError
+from fringe.physics.fit import FieldLine, check_request, fit_magnet
 
 
 def _direct_extent_m(magnet, threshold_T, axial, guess_m):
@@ -80,12 +80,12 @@ def test_request_checks_name_the_problem():
 def test_minimum_dipole_bound():
     # thin loop of radius a at the centre: B0 = μ0 I/(2a), m = Iπa² (Jackson 5.57 and
     # Sec. 5.5), hence m = 2π B0 a³/μ0 exactly: the bound is attained by a single loop
-    from fringe.constants import MU0_T_M_PER_A
-    from fringe.fit import minimum_dipole_moment_Am2
+    from fringe.model.constants import MU0_T_M_PER_A
+    from fringe.physics.fit import minimum_dipole_moment_Am2
     a, current = 0.46, 1.0e6
     b0 = MU0_T_M_PER_A * current / (2 * a)
     assert minimum_dipole_moment_Am2(b0, a) == pytest.approx(current * np.pi * a**2, rel=1e-12)
-    from fringe.presets import unshielded_whole_body
+    from fringe.physics.families import unshielded_whole_body
     m = unshielded_whole_body(1.5, 0.46, 0.9)
     assert m.dipole_moment_Am2 > minimum_dipole_moment_Am2(1.5, 0.46)  # bound holds
     w = check_request(1.5, [FieldLine(5e-4, 5.0, 4.0)], False, 0.46)
@@ -95,8 +95,8 @@ def test_minimum_dipole_bound():
 @pytest.mark.parametrize("shielded", [False, True])
 def test_two_lines_of_a_family_member_are_recovered(shielded):
     # round trip (consistency): lines of an invented family member are reproduced
-    from fringe.extents import threshold_extents_m
-    from fringe.presets import shielded_whole_body, unshielded_whole_body
+    from fringe.field.extents import threshold_extents_m
+    from fringe.physics.families import shielded_whole_body, unshielded_whole_body
     truth = (shielded_whole_body(1.5, 0.46, 0.7, 1.0, 0.05) if shielded
              else unshielded_whole_body(1.5, 0.5, 1.0))
     lines = [(t, *threshold_extents_m(truth, t)) for t in (5e-4, 1e-3)]
@@ -105,7 +105,7 @@ def test_two_lines_of_a_family_member_are_recovered(shielded):
 
 
 def test_bad_numbers_are_errors():
-    from fringe.errors import FringeInputError
+    from fringe.model.errors import FringeInputError
     with pytest.raises(FringeInputError, match="`line\\[0\\].axial_m` must be"):
         fit_magnet(1.5, [(5e-4, -4.0, 2.5)])
     with pytest.raises(FringeInputError, match="`center_field_T` must be"):
@@ -141,7 +141,7 @@ def test_scenario_datasheet_magnet(tmp_path):
     assert m.origin == "datasheet-fit"
     assert "Equivalent coil model fitted to data-sheet numbers" in m.description
     # placed on the site: along the axis (x) from the centre, |B| = 0.5 mT at 10 m
-    from fringe.field import field_at
+    from fringe.field.evaluate import field_at
     b = field_at(site, np.array([[5.0 + 10.0, 4.0, 1.1], [5.0, 4.0 + 7.8, 1.1]]))
     # 2 % in the extent is ~6 % in B (B ∝ r⁻³ far out); consistency with the fit
     assert np.linalg.norm(b, axis=1) == pytest.approx([5e-4, 5e-4], rel=0.06)
@@ -168,7 +168,7 @@ def test_cli_fit_prints_loadable_block(tmp_path, capsys):
     assert ADVISORY_NOTICE in text and "[[magnet]]" in text and "[[magnet.coil]]" in text
     assert "equivalent model fitted to data-sheet numbers" in text.lower()
     site = parse_site(tomllib.loads('[site]\nname = "t"\n' + out.read_text()), str(out))
-    from fringe.extents import threshold_extents_m
+    from fringe.field.extents import threshold_extents_m
     ax, rad = threshold_extents_m(site.magnets[0], 5e-4)
     assert (ax, rad) == pytest.approx((10.0, 7.8), rel=0.02)  # tolerance from the issue
 
@@ -181,8 +181,8 @@ def test_cli_fit_bad_input_exit_2(capsys):
 
 def test_centre_field_implausible_for_the_family_warns_with_the_number():
     # issue 10: a magnet whose centre field is implausible for its family; whole-body MR
-    # magnets are built up to about 11.7 T (from memory; fringe.fit.FAMILY_FIELD_RANGE_T)
-    from fringe.fit import FAMILY_FIELD_RANGE_T
+    # magnets are built up to about 11.7 T (from memory; fringe.physics.fit.FAMILY_FIELD_RANGE_T)
+    from fringe.physics.fit import FAMILY_FIELD_RANGE_T
 
     with pytest.warns(FringeWarning) as rec:
         res = fit_magnet(20.0, [(5e-4, 9.0, 7.2)], shielded=False, bore_m=0.9)

@@ -1,4 +1,4 @@
-"""fringe.forked: a call in a forked child gives what the same call gives in-process.
+"""fringe.io.forked: a call in a forked child gives what the same call gives in-process.
 
 Consistency checks (no outside source): the value, the exception and the in-process
 fallback (``FRINGE_WORKERS=1``) must match a plain call.
@@ -11,8 +11,8 @@ import os
 import numpy as np
 import pytest
 
-from fringe.errors import FringeError, FringeInputError
-from fringe.forked import ForkedCall, forking_enabled
+from fringe.io.forked import ForkedCall, forking_enabled
+from fringe.model.errors import FringeError, FringeInputError
 
 
 def _values(n: int, *, scale: float = 1.0) -> dict:
@@ -64,7 +64,7 @@ def test_workers_1_runs_in_process(monkeypatch):
 @pytest.mark.skipif(not hasattr(os, "fork"), reason="needs os.fork")
 def test_prefetched_helium_properties_equal_direct_ones(monkeypatch):
     # the forked prefetch must hand back exactly what CoolProp gives in-process
-    import fringe.quench as q
+    import fringe.physics.quench as q
 
     monkeypatch.delenv("FRINGE_WORKERS", raising=False)
     direct = q._coolprop_helium_properties(291.0, 100e3, 101325.0)
@@ -96,9 +96,9 @@ def test_no_fork_while_other_threads_run(monkeypatch):
 def test_report_prefetch_is_the_lookup_the_budget_makes(monkeypatch, demo_site):
     # the prefetch must ask for exactly the key quench_budget later asks for, or the
     # CoolProp import would run twice (once wasted in the child)
-    import fringe.quench as q
-    from fringe.cmd_quench import budget_for_site
-    from fringe.report import prefetch_quench_data
+    import fringe.physics.quench as q
+    from fringe.analysis.report import prefetch_quench_data
+    from fringe.cli.quench import budget_for_site
 
     monkeypatch.delenv("FRINGE_WORKERS", raising=False)
     monkeypatch.setattr(q, "sys", type("S", (), {"modules": {}})())  # as if not imported yet

@@ -1,8 +1,8 @@
 """Fuzzing plan files referenced by a scenario (``[[room_file]]``): GeoJSON and DXF.
 
 Plan files come from other programs, so anything may be in them. Through the whole
-loader route (:func:`fringe.scenario.load_site` of a scenario naming the file) the only
-outcomes allowed are a valid Site or one :class:`~fringe.errors.ScenarioError` naming a
+loader route (:func:`fringe.io.scenario.load_site` of a scenario naming the file) the only
+outcomes allowed are a valid Site or one :class:`~fringe.model.errors.ScenarioError` naming a
 file. Inputs: mutants of a valid GeoJSON FeatureCollection (random values, deletions,
 extreme numbers), random JSON, mutated lines of a valid DXF drawing written by ezdxf,
 and random bytes.
@@ -20,7 +20,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from test_fuzz_scenario import EXTREME_NUMBERS, parse_or_clear_error
 
-from fringe.scenario import load_site
+from fringe.io.scenario import load_site
 
 SCENARIO = SMALL_SCENARIO_TOML + """
 [[floor]]

@@ -6,12 +6,12 @@ Inputs (hypothesis):
   equipment, plus a quench table and the small test magnet): one to four random edits
   (replace a value by random data, delete, add a random or schema key, duplicate a list
   item, wrap a value in an array, swap in an extreme number), fed to
-  :func:`fringe.scenario.parse_site` and, written out as TOML, to
-  :func:`fringe.scenario.load_site`;
+  :func:`fringe.io.scenario.parse_site` and, written out as TOML, to
+  :func:`fringe.io.scenario.load_site`;
 * random structures built from the schema's own key names;
 * random text and random bytes as a scenario file.
 
-Every :class:`~fringe.errors.ScenarioError` must name a file; every returned Site must
+Every :class:`~fringe.model.errors.ScenarioError` must name a file; every returned Site must
 satisfy the loader's promises (unique magnet names, valid coils, unit axes).
 TOML is written by the small writer below (``tomli_w`` is not a dependency).
 """
@@ -33,8 +33,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import fringe
-from fringe.errors import ScenarioError
-from fringe.scenario import Site, load_site, parse_site
+from fringe.io.scenario import Site, load_site, parse_site
+from fringe.model.errors import ScenarioError
 
 # -- a tiny TOML writer (inline tables and arrays only; enough for any dict tomllib reads)
 
@@ -85,7 +85,7 @@ def _schema_keys() -> list[str]:
     pat = re.compile(r'\.(?:number|string|vector|tables|table|boolean|raw|has)\(\s*"(\w+)"')
     for f in pkg.glob("*.py"):
         keys |= set(pat.findall(f.read_text(encoding="utf-8")))
-    from fringe.scenario import MAGNET_BUILDERS, SECTION_PARSERS
+    from fringe.io.scenario import MAGNET_BUILDERS, SECTION_PARSERS
 
     return sorted(keys | set(SECTION_PARSERS) | set(MAGNET_BUILDERS) | {"site", "magnet"})
 
@@ -166,7 +166,7 @@ def mutants(draw):
 # -- the contract ---------------------------------------------------------------------
 
 def check_site(site: Site) -> None:
-    """What a returned Site promises (fringe.scenario, fringe.coils)."""
+    """What a returned Site promises (fringe.io.scenario, fringe.model.magnet)."""
     assert isinstance(site, Site)
     names = [m.name for m in site.magnets]
     assert len(names) == len(set(names))

@@ -10,11 +10,11 @@ import numpy as np
 import pytest
 
 from fringe import Coil, Magnet
-from fringe.cli import main
-from fringe.constants import ADVISORY_NOTICE
-from fringe.errors import FringeInputError
-from fringe.field import field_at
-from fringe.gridmap import Grid, grid_from_box, grid_points, map_blocks, read_vti, write_map
+from fringe.cli.main import main
+from fringe.field.evaluate import field_at
+from fringe.io.gridmap import Grid, grid_from_box, grid_points, map_blocks, read_vti, write_map
+from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.errors import FringeInputError
 
 
 def small_magnet() -> Magnet:
@@ -116,7 +116,7 @@ def test_unknown_scheduler_address_is_an_input_error():
 def test_map_memory_is_bounded_by_the_block_not_the_map(tmp_path):
     # common practice, no source: peak traced memory for a 4× larger map stays the same
     # (the arrays are streamed to disk block by block).
-    from fringe.fastfield import prepare_models
+    from fringe.field.fast import prepare_models
 
     m = small_magnet()
     # build the model first: one point would not (a coil set stays on the direct sum until

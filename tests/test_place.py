@@ -1,4 +1,4 @@
-"""Placement search (fringe.place, fringe.cmd_place)."""
+"""Placement search (fringe.analysis.placement, fringe.cli.place)."""
 
 from __future__ import annotations
 
@@ -10,10 +10,7 @@ import numpy as np
 import pytest
 import shapely
 
-from fringe.cli import main
-from fringe.coils import Coil, Magnet
-from fringe.extents import threshold_extents_m
-from fringe.place import (
+from fringe.analysis.placement import (
     OUTSIDE_ROOMS,
     Zone,
     allowed_region,
@@ -23,7 +20,10 @@ from fringe.place import (
     score_footprints,
     search_placement,
 )
-from fringe.scenario import parse_site
+from fringe.cli.main import main
+from fringe.field.extents import threshold_extents_m
+from fringe.io.scenario import parse_site
+from fringe.model.magnet import Coil, Magnet
 
 COIL = Coil(0.30, 0.32, -0.25, 0.25, 1000, 100.0)
 MAGNET = """
@@ -139,7 +139,7 @@ def test_symmetric_site_best_at_the_centre():
     assert best.center_m[2] == pytest.approx(1.0)
     assert abs(best.axis[0]) == pytest.approx(1.0) and best.spill_area_m2 == 0.0
     ax, rad = _extents()
-    # hand calculation from the extents (fringe.extents): equal clearances on all sides;
+    # hand calculation from the extents (fringe.field.extents): equal clearances on all sides;
     # 0.03 m: contour interpolation on the 0.1 m grid plus the search tolerance
     assert best.margin_m == pytest.approx(ly - rad, abs=0.03)
     # the scenario placement (0.7, -0.4) is never ranked above the best; its clearance
@@ -155,7 +155,7 @@ def test_relative_footprint_extents_match_threshold_extents():
     fp = res.relative[0.0].polygons[("ground", 0.5)]
     ax, rad = _extents()
     x0, y0, x1, y1 = fp.bounds
-    # independent computation (Brent root on the axis / centre plane, fringe.extents)
+    # independent computation (Brent root on the axis / centre plane, fringe.field.extents)
     assert (x1 - x0) / 2 == pytest.approx(ax, abs=0.02)
     assert (y1 - y0) / 2 == pytest.approx(rad, abs=0.02)
 
@@ -175,7 +175,7 @@ def test_no_fit_shortfall_matches_hand_calculation():
     for b in hit.values():
         assert b["depth_m"] == pytest.approx(rad - w, abs=0.03)
         assert b["through_floor"] is False
-    from fringe.cmd_place import shortfall
+    from fringe.cli.place import shortfall
 
     sf = shortfall(res)
     assert sf["extra_distance_m"] == pytest.approx(rad - w, abs=0.03)
@@ -183,7 +183,7 @@ def test_no_fit_shortfall_matches_hand_calculation():
 
 def test_region_errors_and_polygon_region():
     site = parse_site(tomllib.loads(_strip_site_text()), "strip.toml")
-    from fringe.errors import ScenarioError
+    from fringe.model.errors import ScenarioError
 
     with pytest.raises(ScenarioError, match="`--region` must be a room of the scenario"):
         search_placement(site, "m", "nowhere", (0,))
@@ -277,7 +277,7 @@ def test_demo_placement_at_least_as_good_as_the_demo(demo_site):
     # not only because the scenario placement is always ranked: the search itself
     # finds one at least as good
     assert any(p.source != "scenario" and p.key <= cur.key for p in res.candidates)
-    from fringe.cmd_place import why
+    from fringe.cli.place import why
 
     assert any("margin" in s for s in why(res))
 
@@ -293,11 +293,11 @@ def test_two_magnets_reported_with_the_combined_field():
     res = search_placement(site, "m", "scan", (0,), coarse_points=20)
     assert all(p.exact for p in res.candidates)
     # independent check (common practice, no source): |B| of both magnets superposed
-    # (fringe.field.field_at) on a plan grid through fringe.zones, clearance to the
-    # north and south rooms measured directly with shapely
-    from fringe.place import moved_site
-    from fringe.plan_scenario import site_plan
-    from fringe.zones import floor_map, footprints, plan_axes_m
+    # (fringe.field.evaluate.field_at) on a plan grid through fringe.analysis.zones, clearance to
+    # the north and south rooms measured directly with shapely
+    from fringe.analysis.placement import moved_site
+    from fringe.analysis.zones import floor_map, footprints, plan_axes_m
+    from fringe.io.scenario_plan import site_plan
 
     best = res.best
     s2 = moved_site(site, res.magnet, best)
@@ -315,9 +315,9 @@ def test_vertical_shortfall_matches_the_extents(axis, which):
     """A floor whose occupied band ends 1.5 m below the centre: the 0.5 mT line of a
     short solenoid reaches furthest straight down, so the shortfall is the extent (radial
     for a horizontal axis, axial for a vertical one) minus 1.5 m (hand calculation from
-    fringe.extents)."""
-    from fringe.place import vertical_shortfall_m
-    from fringe.plan import Floor
+    fringe.field.extents)."""
+    from fringe.analysis.placement import vertical_shortfall_m
+    from fringe.model.building import Floor
 
     m = Magnet("m", (0, 0, 1.0), axis, (COIL,))
     ext = _extents()[which]

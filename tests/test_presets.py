@@ -7,12 +7,12 @@ import math
 import numpy as np
 import pytest
 
-from fringe.coils import Coil, Magnet
-from fringe.constants import MU0_T_M_PER_A
-from fringe.errors import FringeInputError
-from fringe.field import magnet_field_local_T
-from fringe.multipole import zonal_moments_Am
-from fringe.presets import (
+from fringe.field.evaluate import magnet_field_local_T
+from fringe.field.multipole import zonal_moments_Am
+from fringe.model.constants import MU0_T_M_PER_A
+from fringe.model.errors import FringeInputError
+from fringe.model.magnet import Coil, Magnet
+from fringe.physics.families import (
     FAMILIES,
     helmholtz_pair,
     shielded_whole_body,

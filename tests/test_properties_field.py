@@ -24,8 +24,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from scipy.spatial.transform import Rotation
 
-from fringe.coils import Coil, Magnet
-from fringe.field import field_at
+from fringe.field.evaluate import field_at
+from fringe.model.magnet import Coil, Magnet
 
 SETTINGS = settings(max_examples=20, deadline=None,
                     suppress_health_check=[HealthCheck.too_slow])
@@ -162,7 +162,7 @@ def test_divergence_and_curl_free_outside_windings(m, seed):
 @given(m=magnets(max_coils=3))
 def test_closed_form_centre_field_matches_engine(m):
     """The closed form behind the scenario's plausibility warning equals the engine."""
-    from fringe.energy import center_field_T
+    from fringe.physics.energy import center_field_T
 
     b_engine = field_at(m, np.asarray(m.center_m), method="direct")[0]
     b_axis = float(np.dot(b_engine, m.axis))
@@ -186,7 +186,7 @@ def demo_magnet(demo_site):
 @given(shift=st.tuples(*(st.floats(-30.0, 30.0),) * 3), rot_seed=st.integers(0, 2**32 - 1),
        seed=st.integers(0, 2**32 - 1))
 def test_auto_path_moves_and_turns_with_the_magnet(demo_magnet, shift, rot_seed, seed):
-    from fringe.fastfield import RELATIVE_TOLERANCE
+    from fringe.field.fast import RELATIVE_TOLERANCE
 
     m = demo_magnet
     R = Rotation.random(random_state=rot_seed)
@@ -206,7 +206,7 @@ def test_auto_path_moves_and_turns_with_the_magnet(demo_magnet, shift, rot_seed,
 @given(shift=st.tuples(*(st.floats(-3.0, 3.0),) * 3), rot_seed=st.integers(0, 2**32 - 1),
        seed=st.integers(0, 2**32 - 1))
 def test_auto_path_superposes_two_magnets(demo_magnet, shift, rot_seed, seed):
-    from fringe.fastfield import RELATIVE_TOLERANCE
+    from fringe.field.fast import RELATIVE_TOLERANCE
 
     m = demo_magnet
     R = Rotation.random(random_state=rot_seed)

@@ -17,7 +17,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from test_properties_field import coils
 
-from fringe.coils import Magnet
+from fringe.model.magnet import Magnet
 
 SETTINGS = settings(max_examples=15, deadline=None,
                     suppress_health_check=[HealthCheck.too_slow])
@@ -35,8 +35,8 @@ def local_magnets(draw, max_coils=3):
 @given(m=local_magnets(), currents=st.lists(st.floats(-500.0, 500.0), min_size=3, max_size=3),
        k=st.floats(-30.0, 30.0).filter(lambda k: abs(k) > 1e-3))
 def test_stored_energy_positive_and_quadratic(m, currents, k):
-    from fringe.coils import Coil
-    from fringe.energy import stored_energy_J
+    from fringe.model.magnet import Coil
+    from fringe.physics.energy import stored_energy_J
 
     # arbitrary per-coil currents (coils may even overlap): W = ½∫ J·A dV > 0 for any
     # non-zero current distribution (Jackson Sec. 5.16), i.e. M is positive definite
@@ -58,12 +58,12 @@ def test_stored_energy_positive_and_quadratic(m, currents, k):
 @given(m=local_magnets(max_coils=2), k=st.floats(1.05, 20.0),
        threshold_mT=st.sampled_from([0.5, 1.0, 3.0]))
 def test_extents_grow_with_current(m, k, threshold_mT):
-    from fringe.extents import threshold_extents_m
+    from fringe.field.extents import threshold_extents_m
 
     t = threshold_mT * 1e-3
     ax1, rad1 = threshold_extents_m(m, t)
     axk, radk = threshold_extents_m(m.scaled(k), t)
-    tol = 2e-4  # extents are refined to 0.1 mm (fringe.extents), twice for two routes
+    tol = 2e-4  # extents are refined to 0.1 mm (fringe.field.extents), twice for two routes
     # |B| ∝ I (Biot-Savart), so {|B_k| ≥ t} ⊇ {|B| ≥ t}: the outermost crossing moves out
     assert axk >= ax1 - tol and radk >= rad1 - tol
     # and the scaled magnet's t-line is the unscaled magnet's (t/k)-line
@@ -96,7 +96,7 @@ def grids(draw):
 @settings(max_examples=60, deadline=None)
 @given(grid=grids(), q=st.tuples(st.floats(0.0, 1.0), st.floats(0.0, 1.0)))
 def test_superlevel_footprints_nested(grid, q):
-    from fringe.zones import superlevel_polygons
+    from fringe.analysis.zones import superlevel_polygons
 
     x, y, v = grid
     lo, hi = sorted(np.quantile(v, q))
@@ -114,9 +114,9 @@ def test_superlevel_footprints_nested(grid, q):
 
 
 def test_floor_footprints_nested_for_demo_site(demo_site):
-    from fringe.constants import DEFAULT_THRESHOLDS_MT
-    from fringe.plan import Floor
-    from fringe.zones import floor_map, footprints, plan_axes_m
+    from fringe.analysis.zones import floor_map, footprints, plan_axes_m
+    from fringe.model.building import Floor
+    from fringe.model.constants import DEFAULT_THRESHOLDS_MT
 
     x, y = plan_axes_m(((-1.0, -2.0), (11.0, 10.0)), 0.5)
     fm = floor_map(demo_site, Floor("ground", 0.0), x, y, 0.5,

@@ -9,11 +9,11 @@ import re
 import pytest
 
 from fringe import ScenarioError, load_site
-from fringe.cli import main
-from fringe.constants import ADVISORY_NOTICE
-from fringe.energy import circuit_inductance_H, stored_energy_J
-from fringe.quench import QUENCH_CAUTIONS, helium_properties
-from fringe.quench_scenario import QuenchInputs
+from fringe.cli.main import main
+from fringe.io.scenario_quench import QuenchInputs
+from fringe.model.constants import ADVISORY_NOTICE
+from fringe.physics.energy import circuit_inductance_H, stored_energy_J
+from fringe.physics.quench import QUENCH_CAUTIONS, helium_properties
 
 ONE_COIL = """
 [site]
@@ -199,8 +199,8 @@ def test_two_magnets_need_a_choice(tmp_path, capsys):
 
 
 def test_pdf_sheets_budget_table_and_decay_curves(tmp_path, capsys):
-    from fringe.quench import quench_budget
-    from fringe.quench_drawing import quench_decay_sheet, quench_sheets
+    from fringe.physics.quench import quench_budget
+    from fringe.render.quench import quench_decay_sheet, quench_sheets
 
     no_dump = quench_budget(1e6, 100.0, 100.0, magnet="m")
     assert quench_decay_sheet(no_dump, "site") is None

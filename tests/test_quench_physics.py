@@ -15,8 +15,8 @@ from CoolProp.CoolProp import PropsSI
 from scipy import constants as sc
 from scipy.integrate import cumulative_trapezoid, quad, solve_ivp
 
-from fringe.errors import FringeInputError
-from fringe.quench import (
+from fringe.model.errors import FringeInputError
+from fringe.physics.quench import (
     AIR_OXYGEN_FRACTION,
     OXYGEN_THRESHOLDS,
     QUENCH_CAUTIONS,

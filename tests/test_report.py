@@ -1,5 +1,5 @@
-"""`fringe report`: summary.json, zones.geojson, CSV, drawings, exit codes (fringe.report,
-fringe.cmd_report)."""
+"""`fringe report`: summary.json, zones.geojson, CSV, drawings, exit codes (fringe.analysis.report,
+fringe.cli.report)."""
 
 from __future__ import annotations
 
@@ -11,10 +11,10 @@ import pytest
 import shapely
 from shapely.geometry import shape
 
-from fringe.cli import main
-from fringe.constants import ADVISORY_NOTICE
-from fringe.report import compute_report, summary_dict, zones_geojson
-from fringe.scenario import parse_site
+from fringe.analysis.report import compute_report, summary_dict, zones_geojson
+from fringe.cli.main import main
+from fringe.io.scenario import parse_site
+from fringe.model.constants import ADVISORY_NOTICE
 
 BASE = """
 [site]

@@ -1,7 +1,7 @@
 """The report's hazard layers: attraction zone, exposure lines, zones back out as DXF.
 
-Consistency checks tie the report to the modules it draws on (fringe.attraction,
-fringe.exposure, fringe.cad), which have their own checks against outside sources in
+Consistency checks tie the report to the modules it draws on (fringe.physics.attraction,
+fringe.physics.exposure, fringe.io.dxf), which have their own checks against outside sources in
 test_attraction.py, test_drawing.py and test_cad.py; the values named here come from
 ICNIRP (2009) Health Phys. 96(4):504-514, Table 1.
 """
@@ -15,10 +15,10 @@ import pytest
 import shapely
 from test_cad import LAYERS, MM, make_mm_plan
 
-from fringe.attraction import attraction_extents_m
-from fringe.cad import ATTRACTION_LAYER, read_dxf_polygons, zone_layer_name
-from fringe.report import compute_report, summary_dict, write_report
-from fringe.scenario import load_site
+from fringe.analysis.report import compute_report, summary_dict, write_report
+from fringe.io.dxf import ATTRACTION_LAYER, read_dxf_polygons, zone_layer_name
+from fringe.io.scenario import load_site
+from fringe.physics.attraction import attraction_extents_m
 
 
 @pytest.fixture(scope="module")
@@ -124,7 +124,7 @@ layers = {{ {layers} }}
     # the drawing's wall layer reaches the plan sheet, in site metres
     from matplotlib.text import Text
 
-    from fringe.report import build_sheets
+    from fringe.analysis.report import build_sheets
 
     (wall,) = r.site.section("room_drawing")[0].walls
     assert wall.length == pytest.approx(10.35) and wall.bounds[1] == pytest.approx(1.8)
@@ -153,7 +153,7 @@ def test_force_product_reported_per_floor(demo_result):
 def test_exposure_lines_are_optional(lines, expected, tmp_path):
     from conftest import SMALL_SCENARIO_TOML
 
-    from fringe.scenario import parse_site
+    from fringe.io.scenario import parse_site
 
     text = SMALL_SCENARIO_TOML + f"[plan]\ngrid_step_m = 0.25\nexposure_lines = {lines}\n"
     import tomllib
@@ -176,7 +176,7 @@ def test_datasheet_only_magnet_gets_a_full_report_that_says_so(tmp_path):
     # report, and the report states the magnet is an equivalent model fitted to them
     from test_fit import DATASHEET_SITE
 
-    from fringe.report import build_sheets
+    from fringe.analysis.report import build_sheets
 
     p = tmp_path / "site.toml"
     p.write_text(DATASHEET_SITE + "[plan]\ngrid_step_m = 0.5\n", encoding="utf-8")
@@ -199,7 +199,7 @@ def test_report_sheets_include_energy_density_and_quench(demo_result):
     # issues 4 and 5: the energy-density maps and the quench budget join the report
     from matplotlib.text import Text
 
-    from fringe.report import build_sheets
+    from fringe.analysis.report import build_sheets
 
     titles = []
     for _stem, fig in build_sheets(demo_result):

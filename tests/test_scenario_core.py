@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from fringe import ScenarioError, field_at, load_site
-from fringe.cli import main
+from fringe.cli.main import main
 
 MAGNET = """
 [site]

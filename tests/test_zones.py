@@ -1,4 +1,4 @@
-"""Plan grids, band envelopes, contours → polygons, sections (fringe.zones)."""
+"""Plan grids, band envelopes, contours → polygons, sections (fringe.analysis.zones)."""
 
 from __future__ import annotations
 
@@ -8,11 +8,7 @@ import numpy as np
 import pytest
 import shapely
 
-from fringe.coils import Coil, Magnet
-from fringe.constants import MU0_T_M_PER_A
-from fringe.errors import FringeInputError
-from fringe.plan import Floor
-from fringe.zones import (
+from fringe.analysis.zones import (
     band_envelope,
     band_levels_m,
     band_max_T,
@@ -25,6 +21,10 @@ from fringe.zones import (
     slice_map_T,
     superlevel_polygons,
 )
+from fringe.model.building import Floor
+from fringe.model.constants import MU0_T_M_PER_A
+from fringe.model.errors import FringeInputError
+from fringe.model.magnet import Coil, Magnet
 
 # A compact solenoid: 1e5 ampere-turns at r ≈ 0.31 m, so the 0.5 mT line lies ~2 m out.
 SOLENOID = Magnet("test solenoid", (0.0, 0.0, 1.3), (1.0, 0.0, 0.0),

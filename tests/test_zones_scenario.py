@@ -1,5 +1,5 @@
 """Scenario sections of the building: [plan], [[floor]], [[room]], [[room_file]],
-[[equipment]] (fringe.plan_scenario)."""
+[[equipment]] (fringe.io.scenario_plan)."""
 
 from __future__ import annotations
 
@@ -8,10 +8,10 @@ import tomllib
 
 import pytest
 
-from fringe.errors import ScenarioError
-from fringe.plan import BOUNDARY_CHOICES, ROOM_LOADERS
-from fringe.plan_scenario import site_plan
-from fringe.scenario import load_site, parse_site
+from fringe.io.scenario import load_site, parse_site
+from fringe.io.scenario_plan import site_plan
+from fringe.model.building import BOUNDARY_CHOICES, ROOM_LOADERS
+from fringe.model.errors import ScenarioError
 
 MAGNET = """
 [[magnet]]
@@ -196,7 +196,7 @@ def test_demo_site_building_parses(demo_site):
 def test_geojson_property_typos_are_warned_not_swallowed(tmp_path):
     # a misspelt `access` would silently leave a room open: warn with the key meant;
     # properties of other tools (far from ours) stay quiet
-    from fringe.errors import FringeWarning
+    from fringe.model.errors import FringeWarning
 
     sq = [[[0, 0], [4, 0], [4, 3], [0, 3], [0, 0]]]
     (tmp_path / "r.geojson").write_text(_geojson([

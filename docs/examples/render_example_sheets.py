@@ -15,7 +15,7 @@ from pathlib import Path
 import numpy as np
 from shapely.geometry import Polygon, box
 
-from fringe import drawing as d
+from fringe.render import drawing as d
 
 
 def dipole_B_T(points_m, center_m, moment_Am2):

@@ -1,0 +1,95 @@
+"""``fringe probe``: the field at chosen points."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import numpy as np
+
+from fringe.cli.main import print_json, read_points_file
+from fringe.field.evaluate import (
+    coordinate_range_problem,
+    energy_density_J_per_m3,
+    field_at,
+    points_in_windings,
+)
+from fringe.io.atomic import atomic_file
+from fringe.io.scenario import load_site
+from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.errors import ScenarioError
+
+
+def register(sub) -> None:
+    p = sub.add_parser("probe", help="field at points",
+                       description="B at points of a scenario's site. " + ADVISORY_NOTICE)
+    p.add_argument("scenario", help="scenario TOML file")
+    p.add_argument("--at", nargs=3, type=float, action="append", metavar=("X", "Y", "Z"),
+                   default=[], help="a point in the site frame, m (repeatable)")
+    p.add_argument("--points", metavar="FILE", help="many points: .npy (N,3) or .csv x,y,z in m")
+    p.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    p.add_argument("--out", metavar="FILE", help="write the (N,3) field in T to .npy or .csv")
+    p.set_defaults(func=run)
+
+
+def field_table_rows(points_m: np.ndarray, B_T: np.ndarray) -> list[dict]:
+    """Per-point records in the JSON form of ``fringe probe --json``."""
+    b_abs = np.linalg.norm(B_T, axis=1)
+    u = energy_density_J_per_m3(B_T)
+    return [{"point_m": p.tolist(), "B_T": b.tolist(), "B_abs_T": float(a),
+             "energy_density_J_per_m3": float(e)} for p, b, a, e in zip(points_m, B_T, b_abs, u,
+                                                                        strict=True)]
+
+
+def format_table(points_m: np.ndarray, B_T: np.ndarray) -> str:
+    """A plain text table of points, |B| (mT and T), components (mT) and energy density."""
+    b_abs = np.linalg.norm(B_T, axis=1)
+    u = energy_density_J_per_m3(B_T)
+    head = (f"{'x_m':>8} {'y_m':>8} {'z_m':>8} | {'|B|_mT':>12} {'|B|_T':>11} | "
+            f"{'Bx_mT':>11} {'By_mT':>11} {'Bz_mT':>11} | {'u_J/m3':>11}")
+    lines = [head, "-" * len(head)]
+    for p, b, a, e in zip(points_m, B_T, b_abs, u, strict=True):
+        lines.append(f"{p[0]:8.3f} {p[1]:8.3f} {p[2]:8.3f} | {a * 1e3:12.5g} {a:11.4e} | "
+                     f"{b[0] * 1e3:11.4g} {b[1] * 1e3:11.4g} {b[2] * 1e3:11.4g} | {e:11.4e}")
+    return "\n".join(lines)
+
+
+def run(args) -> int:
+    site = load_site(args.scenario)
+    pts = [np.asarray(args.at, dtype=float).reshape(-1, 3)]
+    if args.points:
+        pts.append(read_points_file(args.points))
+    points = np.concatenate(pts)
+    if len(points) == 0:
+        raise ScenarioError("`--at` or `--points` must give at least one point; got none")
+    if not np.all(np.isfinite(points)):
+        raise ScenarioError("`--at` must be finite numbers; got NaN or inf")
+    if problem := coordinate_range_problem(points, "--at"):  # --points was checked on reading
+        raise ScenarioError(problem)
+    if not site.magnets:
+        raise ScenarioError("`magnet` must list at least one magnet; got none", args.scenario)
+    B = field_at(site, points)
+    inside = points_in_windings(site, points)
+    if inside.any():
+        sys.stderr.write(f"fringe: warning: {int(inside.sum())} point(s) lie inside a winding; "
+                         "the field there is a quadrature estimate of lower accuracy\n")
+    if args.out:
+        out = Path(args.out)
+        suffix = out.suffix.lower()
+        if suffix not in (".npy", ".csv"):
+            raise ScenarioError(f"`--out` must end in .npy or .csv; got {out.name!r}")
+        with atomic_file(out) as tmp:
+            if suffix == ".npy":
+                with open(tmp, "wb") as fh:
+                    np.save(fh, B)
+            else:
+                np.savetxt(tmp, B, delimiter=",", header="Bx_T,By_T,Bz_T", comments="")
+        sys.stderr.write(f"wrote {len(B)} field vectors (T) to {out}\n")
+        return 0
+    if args.json:
+        print_json({"points": field_table_rows(points, B)})
+    else:
+        print(f"site: {site.name}")
+        print(format_table(points, B))
+        print(ADVISORY_NOTICE)
+    return 0

@@ -1,0 +1,235 @@
+"""``fringe quench``: the quench release budget of one magnet.
+
+Only parses, calls the library and renders: the physics is in :mod:`fringe.physics.quench`,
+the stored energy and circuit inductance in :mod:`fringe.physics.energy`.
+"""
+
+from __future__ import annotations
+
+import math
+import sys
+
+from fringe.cli.main import print_json
+from fringe.io.scenario import Site, load_site
+from fringe.io.scenario_quench import QuenchInputs, quench_inputs_for
+from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.errors import FringeInputError, ScenarioError, must_be
+from fringe.physics.quench import QuenchBudget, quench_budget
+
+#: CLI option → (QuenchInputs attribute, scenario key, check). One list: parsing,
+#: scenario fall-back and error messages all read it.
+_OPTIONS: tuple[tuple[str, str, str], ...] = (
+    ("--helium-L", "helium_L", "positive"),
+    ("--room-volume-m3", "room_volume_m3", "positive"),
+    ("--dump-ohm", "dump_ohm", "positive"),
+    ("--magnet-resistance-ohm", "magnet_resistance_ohm", "non-negative"),
+    ("--room-temperature-C", "room_temperature_C", "room temperature"),
+    ("--room-pressure-kPa", "room_pressure_kPa", "room pressure"),
+)
+
+
+def register(sub) -> None:
+    p = sub.add_parser(
+        "quench", help="quench release budget: helium boil-off, gas, room oxygen, dump decay",
+        description=("Quench release budget of one magnet: energy-limited and whole-inventory "
+                     "helium release, gas volume at room conditions, room oxygen after a "
+                     "release into the magnet room, and the decay into an external dump "
+                     "resistor. Values may come from a [[quench]] table of the scenario; "
+                     "options override them. " + ADVISORY_NOTICE))
+    p.add_argument("scenario", help="scenario TOML file")
+    p.add_argument("--magnet", metavar="NAME",
+                   help="magnet name (default: the only [[quench]] table's or the only magnet)")
+    p.add_argument("--helium-L", dest="helium_L", type=float, metavar="LITRES",
+                   help="liquid helium inventory, litres")
+    p.add_argument("--room-volume-m3", dest="room_volume_m3", type=float, metavar="V",
+                   help="free air volume of the magnet room, m³")
+    p.add_argument("--dump-ohm", dest="dump_ohm", type=float, metavar="R",
+                   help="external dump resistance, Ω (adds the current decay)")
+    p.add_argument("--magnet-resistance-ohm", dest="magnet_resistance_ohm", type=float,
+                   metavar="R", help="magnet's own resistance during the decay, Ω (default 0)")
+    p.add_argument("--room-temperature-C", dest="room_temperature_C", type=float, metavar="T",
+                   help="room temperature, °C (default 20)")
+    p.add_argument("--room-pressure-kPa", dest="room_pressure_kPa", type=float, metavar="P",
+                   help="room pressure, kPa (default 101.325)")
+    p.add_argument("--json", action="store_true", help="print JSON instead of text")
+    p.add_argument("--pdf", metavar="FILE",
+                   help="also write the budget sheets (and the decay curves) to a PDF")
+    p.set_defaults(func=run)
+
+
+def _pick_magnet(site: Site, name: str | None) -> str:
+    if name is not None:
+        return site.magnet(name).name  # ScenarioError listing the names otherwise
+    tables = site.section("quench", ()) or ()
+    if len(tables) == 1:
+        return tables[0].magnet
+    if len(site.magnets) == 1:
+        return site.magnets[0].name
+    names = ", ".join(repr(m.name) for m in site.magnets) or "none"
+    raise ScenarioError(f"`--magnet` must be given to choose one of the magnets ({names}); "
+                        "got nothing", site.source_file or None)
+
+
+def _check_option(option: str, kind: str, value: float) -> None:
+    ok = math.isfinite(value)
+    expectation = {"positive": "a finite number > 0",
+                   "non-negative": "a finite number ≥ 0",
+                   "room temperature": "a temperature between -60 and 60 °C",
+                   "room pressure": "a pressure between 50 and 200 kPa"}[kind]
+    if kind == "positive":
+        ok = ok and value > 0
+    elif kind == "non-negative":
+        ok = ok and value >= 0
+    elif kind == "room temperature":
+        ok = ok and -60.0 <= value <= 60.0
+    else:
+        ok = ok and 50.0 <= value <= 200.0
+    if not ok:
+        raise ScenarioError(must_be(option, expectation, value))
+
+
+def resolve_inputs(args, site: Site) -> QuenchInputs:
+    """Merge the scenario's ``[[quench]]`` table with the command-line options."""
+    name = _pick_magnet(site, args.magnet)
+    base = quench_inputs_for(site.sections, name) or QuenchInputs(name)
+    values = {}
+    for option, attr, kind in _OPTIONS:
+        v = getattr(args, attr, None)
+        if v is not None:
+            _check_option(option, kind, v)
+            values[attr] = float(v)
+        else:
+            values[attr] = getattr(base, attr)
+    for option, attr in (("--helium-L", "helium_L"), ("--room-volume-m3", "room_volume_m3")):
+        if values[attr] is None:
+            raise ScenarioError(
+                f"`{option}` must be given (or `{attr}` in a [[quench]] table for magnet "
+                f"{name!r}); got nothing", site.source_file or None)
+    return QuenchInputs(name, **values)
+
+
+def room_conditions(q: QuenchInputs) -> tuple[float, float]:
+    """Room temperature (°C) and pressure (kPa) of ``q``, defaults filled in."""
+    return (20.0 if q.room_temperature_C is None else float(q.room_temperature_C),
+            101.325 if q.room_pressure_kPa is None else float(q.room_pressure_kPa))
+
+
+def budget_for_site(site: Site, q: QuenchInputs) -> QuenchBudget:
+    """Compute the budget of ``q.magnet``: W and L from :mod:`fringe.physics.energy`."""
+    from fringe.physics.energy import circuit_inductance_H, stored_energy_J
+
+    magnet = site.magnet(q.magnet)
+    w = stored_energy_J(magnet)
+    inductance = refused = current = None
+    if q.dump_ohm is not None:
+        inductance = circuit_inductance_H(magnet)
+        if inductance is None:
+            refused = (f"magnet {q.magnet!r}: the windings carry different current "
+                       "magnitudes, so it is not one series circuit with one inductance; "
+                       "the dump-resistor decay is not computed")
+        else:
+            current = abs(float(magnet.coils[0].current_A))  # the common |current|
+    t_c, p_kpa = room_conditions(q)
+    try:
+        return quench_budget(
+            w, q.helium_L, q.room_volume_m3,
+            room_temperature_C=t_c, room_pressure_kPa=p_kpa,
+            dump_ohm=q.dump_ohm, inductance_H=inductance, initial_current_A=current,
+            magnet_resistance_ohm=q.magnet_resistance_ohm or 0.0,
+            dump_refused_reason=refused or "", magnet=q.magnet)
+    except FringeInputError as e:
+        raise ScenarioError(str(e), site.source_file or None) from None
+
+
+def _pct(x: float) -> str:
+    return f"{100.0 * x:.2f} %"
+
+
+def format_budget(b: QuenchBudget, site_name: str = "") -> str:
+    """The human-readable budget, cautions included."""
+    he = b.helium
+    room = f"{b.room_temperature_C:g} °C, {b.room_pressure_kPa:g} kPa"
+    lines = []
+    if site_name:
+        lines.append(f"site: {site_name}")
+    lines += [
+        f"QUENCH RELEASE BUDGET — magnet {b.magnet!r}",
+        "",
+        f"  stored energy W                 {b.stored_energy_J / 1e6:10.4g} MJ",
+        f"  helium inventory                {b.helium_L:10.5g} L liquid  "
+        f"= {b.inventory_kg:.4g} kg",
+        "  energy-limited boil-off W/h_fg  "
+        f"{b.helium_boiled_uncapped_kg:10.4g} kg"
+        + ("  (more than the inventory: capped)" if b.capped_by_inventory else ""),
+        f"    after the inventory cap       {b.helium_boiled_kg:10.4g} kg = "
+        f"{b.helium_boiled_L:.4g} L liquid -> {b.gas_volume_m3:.4g} m³ gas at {room}",
+        f"  worst case: whole inventory     {b.inventory_kg:10.4g} kg = "
+        f"{b.helium_L:.4g} L liquid -> {b.inventory_gas_volume_m3:.4g} m³ gas",
+        "  (W/h_fg is an upper bound for the boil-off the energy alone causes — part of W "
+        "warms the cold",
+        "   mass and the gas — but the whole inventory can still be lost: plan for the "
+        "worst case.)",
+        "",
+        f"ROOM OXYGEN if the gas stays in the room ({b.room_volume_m3:g} m³; well mixed, "
+        "displaced air escapes, no ventilation, vent pipe failed)",
+        f"  after the energy-limited release {_pct(b.oxygen_fraction_energy_limited):>10}",
+        f"  after the whole inventory        {_pct(b.oxygen_fraction_worst_case):>10}"
+        f"   (displacement estimate: {_pct(b.oxygen_fraction_worst_case_displacement)})",
+    ]
+    for t in b.thresholds:
+        lines.append(f"  {t['threshold']:>6} threshold: energy-limited {t['energy_limited']}; "
+                     f"worst case {t['worst_case']}; the worst case stays above it only in a "
+                     f"room ≥ {t['room_volume_m3_needed_worst_case']:,.0f} m³")
+        lines.append(f"         ({t['source']})")
+    lines.append("")
+    if b.dump is not None:
+        d = b.dump
+        lines += [
+            f"DUMP RESISTOR DECAY (R_dump = {d.dump_ohm:g} Ω, R_magnet = "
+            f"{d.magnet_resistance_ohm:g} Ω, L = {d.inductance_H:.4g} H, "
+            f"I0 = {d.initial_current_A:.4g} A)",
+            f"  time constant τ = L/R           {d.time_constant_s:10.4g} s",
+            f"  peak terminal voltage I0·R      {d.peak_voltage_V:10.4g} V",
+            f"  time to 1 % current (τ ln 100)  {d.time_to_1_percent_s:10.4g} s",
+            f"  energy into the dump resistor   {d.energy_into_resistor_J / 1e6:10.4g} MJ",
+            f"  energy into the magnet itself   {d.energy_into_magnet_J / 1e6:10.4g} MJ",
+            "  (the boil-off above still assumes all of W reaches the helium: an upper bound)",
+            "",
+        ]
+    elif b.dump_refused_reason:
+        lines += [f"DUMP RESISTOR: not computed — {b.dump_refused_reason}", ""]
+    lines += [
+        f"HELIUM PROPERTIES ({he.source})",
+        f"  normal boiling point            {he.boiling_temperature_K:10.5g} K",
+        f"  saturated liquid density        {he.liquid_density_kg_per_m3:10.5g} kg/m³",
+        f"  latent heat h_fg                {he.latent_heat_J_per_kg / 1e3:10.5g} kJ/kg",
+        f"  gas density at {room:<17}{he.gas_density_kg_per_m3:10.5g} kg/m³",
+        f"  expansion ratio liquid -> gas   {he.expansion_ratio:10.4g}",
+        "",
+        "CAUTIONS",
+    ]
+    lines += [f"  * {c}" for c in b.cautions]
+    lines += ["", ADVISORY_NOTICE]
+    return "\n".join(lines)
+
+
+def run(args) -> int:
+    site = load_site(args.scenario)
+    if not site.magnets:
+        raise ScenarioError("`magnet` must list at least one magnet; got none", args.scenario)
+    q = resolve_inputs(args, site)
+    budget = budget_for_site(site, q)
+    if args.pdf:
+        from fringe.render.quench import write_quench_pdf
+
+        if not str(args.pdf).lower().endswith(".pdf"):
+            raise ScenarioError(must_be("--pdf", "a file name ending in .pdf", args.pdf))
+        write_quench_pdf(budget, site.name, args.pdf)
+        sys.stderr.write(f"wrote the quench budget sheets to {args.pdf}\n")
+    if args.json:
+        out = {"site": site.name}
+        out.update(budget.to_dict())
+        print_json(out)
+    else:
+        print(format_budget(budget, site.name))
+    return 0

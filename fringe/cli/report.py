@@ -1,0 +1,131 @@
+"""``fringe report``: maps, footprints, verdicts, drawings and summary for a scenario."""
+
+from __future__ import annotations
+
+import sys
+import time
+from pathlib import Path
+
+from fringe.io.scenario import load_site
+from fringe.model.constants import ADVISORY_NOTICE
+
+EXIT_OK, EXIT_EXCEEDS = 0, 3
+
+
+def register(sub) -> None:
+    p = sub.add_parser(
+        "report", help="floor-plan footprints, room and equipment verdicts, drawings",
+        description="Compute each floor's field footprints (largest |B| over the occupied "
+                    "band), verdicts for rooms and equipment, sections through each magnet, "
+                    "and write summary.json, zones.geojson, CSV tables, plan and section "
+                    "sheets (PNG, SVG) and report.pdf into --out (replaced whole, "
+                    "atomically). Exit code 3 when any verdict is 'exceeds' — a room, a "
+                    "piece of equipment, or a floor where the boundary line leaves the "
+                    "controlled rooms (unless --no-fail). " + ADVISORY_NOTICE)
+    p.add_argument("scenario", help="scenario TOML file")
+    p.add_argument("--out", required=True, metavar="DIR",
+                   help="output folder (created; an existing one is replaced)")
+    p.add_argument("--no-fail", action="store_true",
+                   help="exit 0 even when a verdict is 'exceeds'")
+    p.add_argument("--grid-step-m", type=float, metavar="M", default=None,
+                   help="plan and section grid step in m (overrides plan.grid_step_m)")
+    p.add_argument("--no-drawings", action="store_true",
+                   help="write only the JSON, GeoJSON and CSV outputs (faster)")
+    p.add_argument("--quiet", action="store_true", help="no progress messages on stderr")
+    p.set_defaults(func=run)
+
+
+class _Progress:
+    """Progress messages on stderr with elapsed time (one line each)."""
+
+    def __init__(self, quiet: bool) -> None:
+        self.quiet = quiet
+        self.t0 = time.monotonic()
+
+    def __call__(self, msg: str) -> None:
+        if not self.quiet:
+            sys.stderr.write(f"[{time.monotonic() - self.t0:5.1f} s] {msg}\n")
+            sys.stderr.flush()
+
+
+def terminal_summary(result, out_dir: str | Path) -> str:
+    """The short text printed after a report (verdicts first, then where files went)."""
+    r = result
+    lines = [f"site: {r.site_name}",
+             f"boundary: {r.boundary.value_mT:g} mT ({r.boundary.source})"]
+    for m in r.magnets:
+        for t, a, rr in m.boundaries:
+            if abs(t - r.boundary.value_mT) < 1e-9 * t:
+                lines.append(f"magnet {m.name}: centre {m.center_field_T:.3g} T; {t:g} mT line "
+                             f"{a:.2f} m along, {rr:.2f} m across the axis; stored energy "
+                             f"{m.stored_energy_J / 1e6:.3g} MJ")
+        if m.origin != "coils" and m.description:
+            lines.append(f"  model: {m.description}")
+    for name, fps in r.footprints.items():
+        b = next(fp for fp in fps if abs(fp.threshold_mT - r.boundary.value_mT)
+                 < 1e-9 * fp.threshold_mT)
+        fm = r.floor_maps[name]
+        lines.append(f"floor {name}: {b.threshold_mT:g} mT footprint {b.area_m2:.2f} m² "
+                     f"({r.outside_controlled_m2[name]:.2f} m² outside controlled rooms); "
+                     f"band-sampling error {100 * fm.band_error_rel:.2g} %"
+                     + ("; CLIPPED at the plan edge" if b.clipped else ""))
+    if r.rooms:
+        w = max(len(c.name) for c in r.rooms)
+        lines.append("rooms:")
+        for c in r.rooms:
+            lim = "-" if c.limit_T is None else f"{c.limit_T * 1e3:g}"
+            lines.append(f"  {c.name:<{w}}  {c.floor:<10} {c.access:<10} max "
+                         f"{c.max_field_T * 1e3:10.4g} mT  limit {lim:>6} mT  {c.verdict}")
+    if r.equipment:
+        w = max(len(e.name) for e in r.equipment)
+        lines.append("equipment:")
+        for e in r.equipment:
+            lines.append(f"  {e.name:<{w}}  {e.field_T * 1e3:10.4g} mT  limit "
+                         f"{e.limit_T * 1e3:g} mT  {e.verdict}")
+    for b in r.quench:
+        below = [t["threshold"] for t in b.to_dict()["oxygen_thresholds"]
+                 if t["worst_case"] == "falls below"]
+        lines.append(f"quench {b.magnet}: energy-limited boil-off {b.helium_boiled_kg:.3g} kg; "
+                     f"whole inventory {b.inventory_kg:.3g} kg; worst-case room oxygen "
+                     f"{100 * b.oxygen_fraction_worst_case:.2g} % in {b.room_volume_m3:g} m³"
+                     + (f" — falls below {', '.join(below)} oxygen if the vent fails: the quench "
+                        "vent and oxygen monitoring must be in place per local code and the "
+                        "supplier" if below else ""))
+    n_ex = sum(c.verdict == "exceeds" for c in r.rooms) + sum(
+        e.verdict == "exceeds" for e in r.equipment)
+    spill = [f for f in r.floor_maps if r.floor_verdict(f) == "exceeds"]
+    if spill:
+        lines.append(f"the {r.boundary.value_mT:g} mT line reaches beyond the controlled rooms "
+                     f"on floor(s) {', '.join(spill)}: extend the controlled access area or "
+                     "change the layout")
+    lines.append(f"verdict: {n_ex} item(s) exceed their limit" if n_ex
+                 else "verdict: no room or equipment exceeds its limit")
+    lines.append(f"outputs: {out_dir}")
+    lines.append(ADVISORY_NOTICE)
+    return "\n".join(lines)
+
+
+def run_report(scenario: str | Path, out_dir: str | Path, *, grid_step_m: float | None = None,
+               drawings: bool = True, quiet: bool = False):
+    """Load, compute, write; returns the :class:`fringe.analysis.report.ReportResult`."""
+    from fringe.analysis.report import compute_report, prefetch_quench_data, write_report
+
+    site = load_site(scenario)
+    progress = _Progress(quiet)
+    progress(f"loaded {scenario}")
+    if drawings:  # import the drawing stack while a child starts CoolProp (both ~1 s+)
+        prefetch_quench_data(site)
+        from fringe.render import drawing  # noqa: F401
+    result = compute_report(site, grid_step_m=grid_step_m, progress=progress)
+    write_report(result, out_dir, drawings=drawings, progress=progress)
+    progress(f"wrote {out_dir}")
+    return result
+
+
+def run(args) -> int:
+    result = run_report(args.scenario, args.out, grid_step_m=args.grid_step_m,
+                        drawings=not args.no_drawings, quiet=args.quiet)
+    print(terminal_summary(result, args.out))
+    if result.exceeds and not args.no_fail:
+        return EXIT_EXCEEDS
+    return EXIT_OK

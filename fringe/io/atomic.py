@@ -1,0 +1,142 @@
+"""Atomic outputs: nothing half-written is ever left under a user's name.
+
+Files are written to a temporary sibling and renamed into place (``os.replace`` is
+atomic on POSIX within one file system). Output folders are built in a temporary
+sibling folder and swapped in only when complete; the previous folder survives any
+interruption before the swap.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import shutil
+import tempfile
+from collections.abc import Iterator
+from pathlib import Path
+
+from fringe.model.errors import FringeIOError
+
+__all__ = ["atomic_file", "atomic_directory", "write_text_atomic", "write_bytes_atomic",
+           "check_output_folder"]
+
+
+def _default_file_mode() -> int:
+    """0o666 less the process umask: the mode a plain ``open(path, "w")`` would give."""
+    mask = os.umask(0)
+    os.umask(mask)
+    return 0o666 & ~mask
+
+
+@contextlib.contextmanager
+def atomic_file(path: str | Path, suffix: str | None = None) -> Iterator[Path]:
+    """Yield a temporary path beside ``path``; rename it onto ``path`` on success.
+
+    The temporary name keeps the final suffix (so libraries that pick a format from
+    the extension still work). On any exception the temporary file is removed and
+    ``path`` is untouched.
+    """
+    path = Path(path)
+    parent = path.parent if str(path.parent) else Path(".")
+    if not parent.is_dir():
+        raise FringeIOError(f"{path}: the folder {parent} does not exist")
+    if path.is_dir():
+        raise FringeIOError(f"{path}: exists and is a folder, not a file")
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=suffix or path.suffix,
+                                   dir=parent)
+    except OSError as e:
+        raise FringeIOError(f"{path}: cannot write in {parent} ({e.strerror or e})") from None
+    os.close(fd)
+    tmp_path = Path(tmp)
+    try:
+        yield tmp_path
+        os.chmod(tmp_path, _default_file_mode())
+        try:
+            os.replace(tmp_path, path)
+        except OSError as e:
+            raise FringeIOError(f"{path}: cannot replace it ({e.strerror or e})") from None
+    except BaseException:
+        with contextlib.suppress(OSError):
+            tmp_path.unlink()
+        raise
+
+
+def write_bytes_atomic(path: str | Path, data: bytes) -> None:
+    """Write ``data`` to ``path`` atomically."""
+    with atomic_file(path) as tmp:
+        tmp.write_bytes(data)
+
+
+def write_text_atomic(path: str | Path, text: str) -> None:
+    """Write UTF-8 ``text`` to ``path`` atomically."""
+    write_bytes_atomic(path, text.encode("utf-8"))
+
+
+@contextlib.contextmanager
+def atomic_directory(path: str | Path) -> Iterator[Path]:
+    """Yield an empty temporary folder; on success it replaces ``path`` whole.
+
+    If ``path`` exists it is moved aside, the new folder renamed in, then the old one
+    removed; a failure before the swap leaves ``path`` exactly as it was.
+    """
+    path = Path(path)
+    parent = path.parent if str(path.parent) else Path(".")
+    try:
+        parent.mkdir(parents=True, exist_ok=True)
+    except OSError as e:
+        raise FringeIOError(f"{path}: cannot create the output folder ({e.strerror})") from None
+    if path.exists() and not path.is_dir():
+        raise FringeIOError(f"{path}: exists and is not a folder")
+    try:
+        tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}.partial.", dir=parent))
+    except OSError as e:
+        raise FringeIOError(f"{path}: cannot write in {parent} ({e.strerror or e})") from None
+    try:
+        yield tmp
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    os.chmod(tmp, 0o777 & ~(_default_file_mode() ^ 0o666))
+    old = None
+    if path.exists():
+        old = Path(tempfile.mkdtemp(prefix=f".{path.name}.old.", dir=parent))
+        os.rmdir(old)
+        os.replace(path, old)
+    try:
+        os.replace(tmp, path)
+    except OSError as e:  # put the previous results back before reporting
+        if old is not None:
+            os.replace(old, path)
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise FringeIOError(f"{path}: cannot replace it ({e.strerror or e})") from None
+    if old is not None:
+        shutil.rmtree(old, ignore_errors=True)
+
+
+def check_output_folder(out_dir: str | Path, *, scenario_file: str = "", marker: str) -> None:
+    """Refuse an output folder that :func:`atomic_directory` must not replace.
+
+    An output folder is replaced whole, so it must be new, empty, or a previous output of
+    the same command (recognised by the file ``marker`` in it). It must not hold the
+    scenario file, nor be the current folder or one above it.
+
+    Raises
+    ------
+    FringeIOError
+        Naming ``--out`` and what it holds.
+    """
+    out = Path(out_dir)
+    if not out.exists():
+        return
+    if not out.is_dir():
+        raise FringeIOError(f"`--out` must be a folder; {out} is a file")
+    res = out.resolve()
+    if scenario_file and Path(scenario_file).resolve().is_relative_to(res):
+        raise FringeIOError(f"`--out` must not hold the scenario file; got {out}")
+    cwd = Path.cwd().resolve()
+    if res == cwd or res in cwd.parents:
+        raise FringeIOError(f"`--out` must not be the current folder or one above it; got {out}")
+    if any(out.iterdir()) and not (out / marker).is_file():
+        raise FringeIOError(f"`--out` must be a new or empty folder or a previous output "
+                            f"(it is replaced whole); {out} holds other files")

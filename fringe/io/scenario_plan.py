@@ -1,0 +1,484 @@
+"""Scenario sections of the building: ``[plan]``, ``[[floor]]``, ``[[room]]``,
+``[[room_file]]`` and ``[[equipment]]``; plus the GeoJSON room loader.
+
+Parsers register in :data:`fringe.io.scenario.SECTION_PARSERS` (imported once by
+:mod:`fringe.io.sections`); their results land in ``Site.sections`` and are gathered by
+:func:`site_plan` into one frozen :class:`SitePlan`.
+
+See ``docs/scenario.md`` ("Floors, rooms, equipment") for every key.
+"""
+
+from __future__ import annotations
+
+import difflib
+import json
+import math
+import warnings
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import shapely
+
+from fringe.io.scenario import EXTRA_TOP_LEVEL_KEYS, SECTION_PARSERS, Reader, finite_number
+from fringe.model.building import (
+    ACCESS_CLASSES,
+    BOUNDARY_CHOICES,
+    ROOM_LOADERS,
+    Boundary,
+    Equipment,
+    Floor,
+    Room,
+)
+from fringe.model.constants import DEFAULT_THRESHOLDS_MT
+from fringe.model.errors import FringeWarning, ScenarioError, must_be
+
+__all__ = ["PlanSettings", "SitePlan", "site_plan", "outline_polygon", "load_geojson_rooms",
+           "DEFAULT_BOUNDARY", "DEFAULT_GRID_STEP_M", "DEFAULT_BAND_STEP_M", "DEFAULT_BAND_M",
+           "DEFAULT_FLOOR"]
+
+#: Default boundary choice (key of :data:`fringe.model.building.BOUNDARY_CHOICES`): 0.5 mT.
+DEFAULT_BOUNDARY: str = "icnirp-2009"
+#: Default plan-grid step in m. 0.1 m keeps contour positions within a few cm
+#: (linear interpolation between nodes) while a 25 m × 15 m floor stays ~40 000 nodes.
+DEFAULT_GRID_STEP_M: float = 0.1
+#: Default largest vertical step between sampled levels of an occupied band, m.
+DEFAULT_BAND_STEP_M: float = 0.25
+#: Default occupied band above each floor: (bottom, top) in m.
+DEFAULT_BAND_M: tuple[float, float] = (0.0, 2.0)
+#: The floor assumed when a scenario declares none.
+DEFAULT_FLOOR: Floor = Floor("ground", 0.0)
+
+
+@dataclass(frozen=True)
+class PlanSettings:
+    """Site-wide plan settings from the ``[plan]`` table.
+
+    Attributes
+    ----------
+    boundary : Boundary
+        The controlled-area boundary value (mT) and its source.
+    thresholds_mT : tuple of float
+        Field lines drawn and reported, ascending; always includes the boundary value.
+    grid_step_m : float
+        Plan and section grid step, m.
+    band_step_m : float
+        Largest vertical step between sampled levels of an occupied band, m.
+    band_m : tuple of 2 float
+        Site-wide occupied band (bottom, top) above each floor, m.
+    extent_m : tuple or None
+        Plan window ((x_min, y_min), (x_max, y_max)) in m, or None to fit the site.
+    """
+
+    boundary: Boundary
+    thresholds_mT: tuple[float, ...]
+    grid_step_m: float = DEFAULT_GRID_STEP_M
+    band_step_m: float = DEFAULT_BAND_STEP_M
+    band_m: tuple[float, float] = DEFAULT_BAND_M
+    extent_m: tuple[tuple[float, float], tuple[float, float]] | None = None
+    #: Exposure limits drawn on section sheets (keys of fringe.physics.exposure.EXPOSURE_LIMITS);
+    #: all of them by default, none for an empty list.
+    exposure_lines: tuple[str, ...] | None = None
+
+
+def default_settings() -> PlanSettings:
+    """Settings used when a scenario has no ``[plan]`` table."""
+    v, src = BOUNDARY_CHOICES[DEFAULT_BOUNDARY]
+    return PlanSettings(Boundary(v, src), _with_boundary(DEFAULT_THRESHOLDS_MT, v))
+
+
+@dataclass(frozen=True)
+class SitePlan:
+    """Everything the maps and checks need about the building."""
+
+    settings: PlanSettings
+    floors: tuple[Floor, ...]
+    rooms: tuple[Room, ...]
+    equipment: tuple[Equipment, ...]
+    floors_declared: bool = True
+
+    def floor(self, name: str) -> Floor:
+        """The floor called ``name`` (KeyError otherwise)."""
+        for f in self.floors:
+            if f.name == name:
+                return f
+        raise KeyError(name)
+
+    def floor_of_point(self, z_m: float) -> Floor:
+        """The floor a point at height ``z_m`` stands on: the highest floor at or below it
+        (the lowest floor for points below every floor)."""
+        below = [f for f in self.floors if f.elevation_m <= z_m + 1e-9]
+        if below:
+            return max(below, key=lambda f: f.elevation_m)
+        return min(self.floors, key=lambda f: f.elevation_m)
+
+
+def site_plan(site) -> SitePlan:
+    """Gather the parsed building sections of ``site`` (defaults where absent)."""
+    settings = site.section("plan") or default_settings()
+    floors = site.section("floor") or ()
+    declared = bool(floors)
+    if not floors:
+        floors = (Floor(DEFAULT_FLOOR.name, DEFAULT_FLOOR.elevation_m, *settings.band_m),)
+    return SitePlan(settings, tuple(floors), tuple(site.section("room") or ()),
+                    tuple(site.section("equipment") or ()), declared)
+
+
+def _with_boundary(thresholds_mT, boundary_mT: float) -> tuple[float, ...]:
+    vals = {float(t) for t in thresholds_mT}
+    if not any(math.isclose(t, boundary_mT, rel_tol=1e-9) for t in vals):
+        vals.add(float(boundary_mT))
+    return tuple(sorted(vals))
+
+
+def _band(r: Reader, name: str, default: tuple[float, float]) -> tuple[float, float]:
+    if not r.has(name):
+        r.raw(name, None)
+        return default
+    lo, hi = r.vector(name, 2)
+    if not (lo >= 0.0 and hi > lo):
+        r.fail(r.key(name), "[bottom, top] in m above the floor with 0 ≤ bottom < top",
+               [lo, hi])
+    return (lo, hi)
+
+
+# -- [plan] -------------------------------------------------------------------------
+
+def parse_plan(root: Reader, file: Path, magnets, parsed: dict) -> PlanSettings:
+    """Parse the optional ``[plan]`` table (see docs/scenario.md)."""
+    r = root.table("plan")
+    if r is None:
+        return default_settings()
+    if r.has("boundary") and (r.has("boundary_mT") or r.has("boundary_source")):
+        r.fail(r.key("boundary"), "absent when `plan.boundary_mT` and "
+               "`plan.boundary_source` give a value of your own", r.raw("boundary"))
+    if r.has("boundary_mT"):
+        v = r.number("boundary_mT", low=0.0, low_open=True)
+        if not r.has("boundary_source"):
+            raise ScenarioError("`plan.boundary_source` is missing; a numeric "
+                                "`plan.boundary_mT` needs the source it comes from", r.file)
+        boundary = Boundary(v, r.string("boundary_source"))
+    else:
+        if r.has("boundary_source"):
+            r.fail(r.key("boundary_source"), "given only together with `plan.boundary_mT`",
+                   r.raw("boundary_source"))
+        key = r.string("boundary", DEFAULT_BOUNDARY, choices=tuple(BOUNDARY_CHOICES))
+        boundary = Boundary(*BOUNDARY_CHOICES[key])
+    th = r.raw("thresholds_mT", list(DEFAULT_THRESHOLDS_MT))
+    if (not isinstance(th, list) or not th
+            or any(isinstance(x, bool) or not isinstance(x, (int, float)) for x in th)
+            or not all(finite_number(x) and x > 0 for x in th)):
+        r.fail(r.key("thresholds_mT"), "a non-empty array of positive numbers (mT)", th)
+    if len(set(th)) != len(th):
+        r.fail(r.key("thresholds_mT"), "free of repeated values", th)
+    step = r.number("grid_step_m", DEFAULT_GRID_STEP_M, low=0.0, low_open=True, high=5.0)
+    band_step = r.number("band_step_m", DEFAULT_BAND_STEP_M, low=0.0, low_open=True)
+    band = _band(r, "occupied_band_m", DEFAULT_BAND_M)
+    extent = None
+    if r.has("extent_m"):
+        e = r.raw("extent_m")
+        ok = (isinstance(e, list) and len(e) == 2
+              and all(isinstance(c, list) and len(c) == 2 for c in e)
+              and all(isinstance(x, (int, float)) and not isinstance(x, bool)
+                      and finite_number(x) for c in e for x in c))
+        if not ok or not (e[1][0] > e[0][0] and e[1][1] > e[0][1]):
+            r.fail(r.key("extent_m"), "[[x_min, y_min], [x_max, y_max]] in m with "
+                   "x_max > x_min and y_max > y_min", e)
+        extent = ((float(e[0][0]), float(e[0][1])), (float(e[1][0]), float(e[1][1])))
+        n = ((extent[1][0] - extent[0][0]) / step) * ((extent[1][1] - extent[0][1]) / step)
+        if n > 4e6:
+            r.fail(r.key("grid_step_m"), f"coarse enough for at most 4 million plan nodes "
+                   f"over `plan.extent_m` (this step gives {n:.3g})", step)
+    exposure = None
+    if r.has("exposure_lines"):
+        from fringe.physics.exposure import EXPOSURE_LIMITS
+
+        ex = r.raw("exposure_lines")
+        if not isinstance(ex, list) or not all(isinstance(x, str) for x in ex):
+            r.fail(r.key("exposure_lines"), "an array of exposure-limit names", ex)
+        for i, x in enumerate(ex):
+            if x not in EXPOSURE_LIMITS:
+                r.fail(f"{r.key('exposure_lines')}[{i}]",
+                       f"one of {', '.join(map(repr, EXPOSURE_LIMITS))}", x)
+        exposure = tuple(dict.fromkeys(ex))
+    r.finish()
+    return PlanSettings(boundary, _with_boundary(th, boundary.value_mT), step, band_step,
+                        band, extent, exposure)
+
+
+# -- [[floor]] ------------------------------------------------------------------------
+
+def parse_floors(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Floor, ...]:
+    """Parse ``[[floor]]`` tables: ``name``, ``elevation_m``, optional ``occupied_band_m``."""
+    settings: PlanSettings = parsed.get("plan") or default_settings()
+    out: list[Floor] = []
+    for fr in root.tables("floor"):
+        name = fr.string("name")
+        if any(f.name == name for f in out):
+            fr.fail(fr.key("name"), "unique among floors", name)
+        elev = fr.number("elevation_m")
+        lo, hi = _band(fr, "occupied_band_m", settings.band_m)
+        fr.finish()
+        out.append(Floor(name, elev, lo, hi))
+    return tuple(out)
+
+
+# -- [[room]] and [[room_file]] -------------------------------------------------------
+
+def _ring(value: Any) -> list[tuple[float, float]] | None:
+    if not isinstance(value, list) or len(value) < 3:
+        return None
+    pts = []
+    for p in value:
+        if (not isinstance(p, list) or len(p) not in (2, 3)
+                or any(isinstance(x, bool) or not isinstance(x, (int, float)) for x in p)
+                or not all(finite_number(x) for x in p)):
+            return None
+        pts.append((float(p[0]), float(p[1])))
+    return pts
+
+
+def outline_polygon(shell: Any, holes: Any, key_path: str, file: str | None,
+                    room: str | None = None):
+    """A validated shapely Polygon from coordinate arrays, or :class:`ScenarioError`.
+
+    Parameters
+    ----------
+    shell : list of [x, y]
+        Outer ring in site metres (closing point optional).
+    holes : list of rings or None
+        Inner rings (courtyards, shafts), same form.
+    key_path : str
+        Key path named in any error, e.g. ``room[2].outline_m``.
+    file : str or None
+        File named in any error.
+    room : str, optional
+        Name of the room, also named in any error.
+
+    Raises
+    ------
+    ScenarioError
+        For fewer than 3 points, non-numbers, zero area, or an invalid polygon (the
+        shapely reason, e.g. ``Self-intersection[4 3]``, is quoted).
+    """
+    of = "" if room is None else f" for room {room!r}"
+    ring = _ring(shell)
+    if ring is None:
+        raise ScenarioError(must_be(key_path, f"an array of at least 3 [x, y] points in m{of}",
+                                    shell), file)
+    inner = []
+    for i, h in enumerate(holes or []):
+        hr = _ring(h)
+        if hr is None:
+            raise ScenarioError(must_be(f"{key_path} hole[{i}]",
+                                        f"an array of at least 3 [x, y] points in m{of}", h),
+                                file)
+        inner.append(hr)
+    poly = shapely.Polygon(ring, inner)
+    if not shapely.is_valid(poly):
+        reason = shapely.is_valid_reason(poly)
+        raise ScenarioError(must_be(key_path, f"a valid simple polygon{of} (shapely: {reason})",
+                                    shell), file)
+    if not poly.area > 0.0:
+        raise ScenarioError(must_be(key_path, f"a polygon of non-zero area{of}", shell), file)
+    return shapely.normalize(poly)
+
+
+#: Feature properties the GeoJSON room loader reads.
+GEOJSON_ROOM_PROPERTIES: tuple[str, ...] = ("name", "floor", "access", "limit_mT")
+
+
+def load_geojson_rooms(path: str | Path, options: dict, file_for_errors: str) -> list[Room]:
+    """Rooms from a GeoJSON (RFC 7946) FeatureCollection of Polygon features.
+
+    Coordinates are read as site-frame metres (x east, y north), not longitude and
+    latitude: a local plan frame "by prior arrangement" (RFC 7946, Sec. 4). Each
+    feature's ``properties`` give ``name`` (required), ``floor`` (or ``options["floor"]``),
+    ``access`` (default ``"open"``) and optional ``limit_mT``.
+
+    Parameters
+    ----------
+    path : str or Path
+        The GeoJSON file.
+    options : dict
+        ``{"floor": default floor name or None}``.
+    file_for_errors : str
+        Name used in error messages (the GeoJSON file).
+
+    References
+    ----------
+    H. Butler et al., "The GeoJSON Format", RFC 7946, IETF, 2016.
+    """
+    p = Path(path)
+    try:
+        data = json.loads(p.read_text(encoding="utf-8"))
+    except OSError as e:
+        raise ScenarioError(f"cannot read the room file: {e.strerror or e}", str(p)) from None
+    except (UnicodeDecodeError, json.JSONDecodeError) as e:
+        raise ScenarioError(f"not valid UTF-8 JSON: {e}", str(p)) from None
+    except RecursionError:
+        raise ScenarioError("not a usable GeoJSON file: arrays nested too deeply", str(p)) from None
+    if isinstance(data, dict) and data.get("type") == "Feature":
+        data = {"type": "FeatureCollection", "features": [data]}
+    if not isinstance(data, dict) or data.get("type") != "FeatureCollection":
+        raise ScenarioError(must_be("type", "'FeatureCollection' (or 'Feature')",
+                                    data.get("type") if isinstance(data, dict) else data),
+                            file_for_errors)
+    feats = data.get("features")
+    if not isinstance(feats, list):
+        raise ScenarioError(must_be("features", "an array of Features", feats), file_for_errors)
+    rooms: list[Room] = []
+    for i, f in enumerate(feats):
+        kp = f"features[{i}]"
+        if not isinstance(f, dict):
+            raise ScenarioError(must_be(kp, "a Feature object", f), file_for_errors)
+        props = f.get("properties") or {}
+        geom = f.get("geometry") or {}
+        if not isinstance(props, dict):
+            raise ScenarioError(must_be(f"{kp}.properties", "an object", props), file_for_errors)
+        if not isinstance(geom, dict) or geom.get("type") != "Polygon":
+            raise ScenarioError(must_be(f"{kp}.geometry.type", "'Polygon'",
+                                        geom.get("type") if isinstance(geom, dict) else geom),
+                                file_for_errors)
+        coords = geom.get("coordinates")
+        if not isinstance(coords, list) or not coords:
+            raise ScenarioError(must_be(f"{kp}.geometry.coordinates",
+                                        "an array of linear rings", coords), file_for_errors)
+        name = props.get("name")
+        if not isinstance(name, str) or not name.strip():
+            raise ScenarioError(must_be(f"{kp}.properties.name", "a non-empty string", name),
+                                file_for_errors)
+        # other tools' properties are kept quiet, but a near-miss of ours is a typo that
+        # would silently turn a controlled room open or drop its limit
+        for key in props:
+            if key in GEOJSON_ROOM_PROPERTIES:
+                continue
+            hint = difflib.get_close_matches(key, GEOJSON_ROOM_PROPERTIES, n=1, cutoff=0.75)
+            if hint:
+                warnings.warn(f"{file_for_errors}: `{kp}.properties.{key}` (room {name!r}) is "
+                              f"not read; did you mean `{hint[0]}`?", FringeWarning,
+                              stacklevel=2)
+        poly = outline_polygon(coords[0], coords[1:], f"{kp}.geometry.coordinates "
+                               f"(room {name!r})", file_for_errors)
+        floor = props.get("floor", options.get("floor"))
+        if not isinstance(floor, str) or not floor:
+            raise ScenarioError(must_be(f"{kp}.properties.floor", "a floor name (or give "
+                                        "`floor` in the [[room_file]] table)", floor),
+                                file_for_errors)
+        access = props.get("access", "open")
+        if access not in ACCESS_CLASSES:
+            raise ScenarioError(must_be(f"{kp}.properties.access",
+                                        f"one of {', '.join(map(repr, ACCESS_CLASSES))}",
+                                        access), file_for_errors)
+        limit = props.get("limit_mT")
+        if limit is not None and (isinstance(limit, bool) or not isinstance(limit, (int, float))
+                                  or not finite_number(limit) or limit <= 0):
+            raise ScenarioError(must_be(f"{kp}.properties.limit_mT", "a positive number",
+                                        limit), file_for_errors)
+        rooms.append(Room(name, floor, poly, access,
+                          None if limit is None else float(limit)))
+    return rooms
+
+
+ROOM_LOADERS["geojson"] = load_geojson_rooms
+
+
+def parse_rooms(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Room, ...]:
+    """Parse ``[[room]]`` tables and rooms loaded through ``[[room_file]]``."""
+    floors = parsed.get("floor") or ()
+    floor_names = tuple(f.name for f in floors) or (DEFAULT_FLOOR.name,)
+    rooms: list[tuple[Room, str]] = []  # (room, key path for errors)
+
+    def check_floor(floor: str, kp: str, where: str | None) -> None:
+        if floor not in floor_names:
+            hint = "" if floors else " (no [[floor]] is declared, so only the implied floor)"
+            raise ScenarioError(must_be(kp, f"one of the floors {', '.join(map(repr, floor_names))}"
+                                        f"{hint}", floor), where)
+
+    for rr in root.tables("room"):
+        name = rr.string("name")
+        floor = rr.string("floor", floor_names[0] if not floors else ...)
+        check_floor(floor, rr.key("floor"), rr.file)
+        access = rr.string("access", "open", choices=ACCESS_CLASSES)
+        poly = outline_polygon(rr.raw("outline_m"), rr.raw("holes_m", []), rr.key("outline_m"),
+                               rr.file, room=name)
+        limit = rr.number("limit_mT", None, low=0.0, low_open=True)
+        rr.finish()
+        rooms.append((Room(name, floor, poly, access, limit), rr.key("name")))
+
+    drawings: list[RoomDrawing] = []
+    for fr in root.tables("room_file"):
+        rel = fr.string("path")
+        fmt = fr.string("format", "geojson", choices=tuple(sorted(ROOM_LOADERS)))
+        default_floor = fr.string("floor", None)
+        if default_floor is not None:
+            check_floor(default_floor, fr.key("floor"), fr.file)
+        # Further keys are options of the chosen loader, which declares them in its
+        # ``option_keys`` attribute and validates their values itself.
+        option_keys = tuple(getattr(ROOM_LOADERS[fmt], "option_keys", ()))
+        options = {k: fr.raw(k) for k in option_keys if k != "floor" and fr.has(k)}
+        fr.finish()
+        p = Path(rel)
+        if not p.is_absolute():
+            p = Path(file).parent / p
+        result = ROOM_LOADERS[fmt](p, {"floor": default_floor, **options}, str(p))
+        loaded = list(getattr(result, "rooms", result))
+        if fmt == "dxf":  # the report draws its walls and writes its zones back into it
+            drawings.append(RoomDrawing(str(p), tuple(sorted({rm.floor for rm in loaded})),
+                                        tuple(result.offset_m), tuple(result.walls)))
+        for j, room in enumerate(loaded):
+            check_floor(room.floor, f"{fr.key('path')} → room {room.name!r} floor", fr.file)
+            rooms.append((room, f"{fr.key('path')} → features[{j}].properties.name"))
+
+    seen: set[str] = set()
+    for room, kp in rooms:
+        if room.name in seen:
+            raise ScenarioError(must_be(kp, "unique among rooms", room.name), root.file)
+        seen.add(room.name)
+    parsed["room_drawing"] = tuple(drawings)
+    return tuple(r for r, _ in rooms)
+
+
+@dataclass(frozen=True)
+class RoomDrawing:
+    """A CAD drawing rooms were read from (``[[room_file]] format = "dxf"``).
+
+    Attributes
+    ----------
+    path : str
+    floors : tuple of str
+        Floors of the rooms it gave.
+    offset_m : (float, float)
+        Its ``offset_m`` (drawing origin in the site frame, m).
+    walls : tuple of shapely geometry
+        Lines and outlines on its wall layers, site metres (drawn on the plan sheets).
+    """
+
+    path: str
+    floors: tuple[str, ...]
+    offset_m: tuple[float, float]
+    walls: tuple = ()
+
+
+# -- [[equipment]] --------------------------------------------------------------------
+
+def parse_equipment(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Equipment, ...]:
+    """Parse ``[[equipment]]`` tables: ``name``, ``position_m``, ``limit_mT``, ``note``."""
+    out: list[Equipment] = []
+    for er in root.tables("equipment"):
+        name = er.string("name")
+        if any(e.name == name for e in out):
+            er.fail(er.key("name"), "unique among equipment", name)
+        pos = er.vector("position_m", 3)
+        limit = er.number("limit_mT", low=0.0, low_open=True)
+        note = er.string("note", "", nonempty=False)
+        er.finish()
+        out.append(Equipment(name, pos, limit, note))
+    return tuple(out)
+
+
+SECTION_PARSERS["plan"] = parse_plan
+SECTION_PARSERS["floor"] = parse_floors
+SECTION_PARSERS["room"] = parse_rooms
+SECTION_PARSERS["equipment"] = parse_equipment
+EXTRA_TOP_LEVEL_KEYS.add("room_file")  # read by parse_rooms

@@ -1,0 +1,93 @@
+"""The building: floors, rooms, sensitive equipment and the boundary choice.
+
+Only the model lives here (frozen dataclasses and the registries of allowed names);
+scenario parsing and plan-file loaders register themselves against it.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Any
+
+__all__ = ["Floor", "Room", "Equipment", "Boundary", "ACCESS_CLASSES", "BOUNDARY_CHOICES",
+           "ROOM_LOADERS"]
+
+#: Access classes of rooms. ``controlled`` rooms may hold fields above the boundary
+#: value; every other room may not.
+ACCESS_CLASSES: tuple[str, ...] = ("controlled", "open")
+
+
+@dataclass(frozen=True)
+class Floor:
+    """A storey.
+
+    Parameters
+    ----------
+    name : str
+    elevation_m : float
+        Finished-floor level in the site frame (z), m.
+    band_bottom_m, band_top_m : float
+        Occupied height band above the floor, m (default 0 to 2.0 m).
+    """
+
+    name: str
+    elevation_m: float
+    band_bottom_m: float = 0.0
+    band_top_m: float = 2.0
+
+    @property
+    def band_z_m(self) -> tuple[float, float]:
+        """The occupied band as absolute site z (low, high), m."""
+        return (self.elevation_m + self.band_bottom_m, self.elevation_m + self.band_top_m)
+
+
+@dataclass(frozen=True)
+class Room:
+    """A room outline on one floor.
+
+    ``outline`` is a valid shapely Polygon in site x-y metres (holes allowed);
+    ``limit_mT`` overrides the site boundary value for this room when given.
+    """
+
+    name: str
+    floor: str
+    outline: Any  # shapely.Polygon
+    access: str = "open"
+    limit_mT: float | None = None
+
+
+@dataclass(frozen=True)
+class Equipment:
+    """A piece of field-sensitive equipment at a point.
+
+    ``limit_mT`` is the largest static field it tolerates; typical values are common
+    practice from supplier data, no single published source.
+    """
+
+    name: str
+    position_m: tuple[float, float, float]
+    limit_mT: float
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class Boundary:
+    """The field value that bounds the controlled access area, with its source."""
+
+    value_mT: float
+    source: str
+
+
+#: Named choices for the controlled-area boundary value: key → (value in mT, source).
+BOUNDARY_CHOICES: dict[str, tuple[float, str]] = {
+    "icnirp-2009": (0.5, "ICNIRP 2009 static-field guidelines; IEC 60601-2-33 ed. 3 (2010)"),
+    "iec-60601-2-33-ed4": (0.9, "IEC 60601-2-33 ed. 4 (2022) B0 hazard area, aligned with "
+                                "ISO 14117"),
+}
+
+#: Loaders of room outlines from plan files, keyed by format name ("geojson", "dxf", …).
+#: Each is ``fn(path, options: dict, file_for_errors: str)`` returning a list of Room, or
+#: a drawing with a ``rooms`` attribute (e.g. ``fringe.io.dxf.DxfPlan``, which also carries
+#: the drawing's walls and offset).
+ROOM_LOADERS: dict[str, Callable[..., Any]] = {}

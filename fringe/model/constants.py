@@ -1,0 +1,38 @@
+"""Physical constants and default thresholds, each with its source.
+
+All values are SI. The physical constants are written out (CODATA 2022, the values
+:mod:`scipy.constants` carries; ``tests/model/test_constants.py`` compares them) so that
+this module imports nothing heavy: the command line reads it before parsing arguments.
+"""
+
+from __future__ import annotations
+
+#: The one version number of fringe (``pyproject.toml`` reads it from here).
+VERSION: str = "0.1.0"
+
+#: Vacuum permeability μ₀ in T·m/A (CODATA 2022, as in scipy.constants.mu_0).
+MU0_T_M_PER_A: float = 1.25663706127e-06
+
+#: Standard acceleration of gravity in m/s² (CGPM 1901, as in scipy.constants.g).
+STANDARD_GRAVITY_M_PER_S2: float = 9.80665
+
+#: Standard atmosphere in Pa (as in scipy.constants.atm).
+STANDARD_ATMOSPHERE_PA: float = 101325.0
+
+#: Default field thresholds drawn on plans, in mT. 0.5 mT: controlled access area
+#: (ICNIRP 2009 static-field guidelines; IEC 60601-2-33). 1 and 3 mT: common
+#: practice for sensitive equipment and loose ferromagnetic objects, no source.
+#: 10, 40 and 200 mT: common practice, no source.
+DEFAULT_THRESHOLDS_MT: tuple[float, ...] = (0.5, 1.0, 3.0, 10.0, 40.0, 200.0)
+
+#: Largest |coordinate| in m accepted for a magnet centre or a field point: beyond any
+#: site or map grid (UTM northings stay below 1e7 m); far larger values overflow the
+#: field kernels (magpylib's elliptic-integral iteration then never ends).
+MAX_COORDINATE_M: float = 1e8
+
+#: Advisory notice printed on every output.
+ADVISORY_NOTICE: str = (
+    "ADVISORY ESTIMATE ONLY. Field values are computed from a coil model and must be "
+    "verified by a site survey. Local codes, the site's MR safety expert and the magnet "
+    "supplier's data govern; this output does not replace them."
+)
