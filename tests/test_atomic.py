@@ -169,6 +169,7 @@ def test_sigkill_mid_write_keeps_previous_results(mode, tmp_path):
     finally:
         proc.send_signal(signal.SIGKILL)
         proc.wait(timeout=60)
+        proc.stdout.close()
     assert proc.returncode == -signal.SIGKILL
     if mode == "file":
         assert target.read_bytes() == OLD
@@ -213,6 +214,7 @@ def test_probe_killed_mid_write_keeps_previous_output(tmp_path):
     proc = _start_probe_and_wait_for_write(tmp_path, out)
     proc.send_signal(signal.SIGKILL)
     proc.wait(timeout=60)
+    proc.stderr.close()
     assert proc.returncode == -signal.SIGKILL
     assert out.read_bytes() == OLD
 
@@ -252,9 +254,10 @@ def test_report_killed_mid_write_keeps_previous_report(tmp_path):
             break
         time.sleep(0.005)
     proc.wait(timeout=60)
+    err = proc.stderr.read()
+    proc.stderr.close()
     if not caught:
-        pytest.fail(f"never caught the report mid-write (exit {proc.returncode}): "
-                    f"{proc.stderr.read()}")
+        pytest.fail(f"never caught the report mid-write (exit {proc.returncode}): {err}")
     assert proc.returncode == -signal.SIGKILL
     assert _snapshot(out) == before  # every old file, byte for byte, and nothing new
 

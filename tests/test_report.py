@@ -15,6 +15,7 @@ from fringe.analysis.report import compute_report, summary_dict, zones_geojson
 from fringe.cli.main import main
 from fringe.io.scenario import parse_site
 from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.errors import FringeWarning
 
 BASE = """
 [site]
@@ -233,8 +234,8 @@ def test_cli_full_report_with_drawings(tmp_path, capsys):
     # issue 8: ICNIRP 2009 exposure lines with their source on the section sheets
     assert "exposure line 400 mT" in sec and "Health Phys. 96(4):504-514" in sec
     assert "zones-ground.dxf" in names
-    im = Image.open(out / "plan-ground.png")
-    assert im.size[0] > 2000 and "ADVISORY" in im.info.get("Description", "")
+    with Image.open(out / "plan-ground.png") as im:
+        assert im.size[0] > 2000 and "ADVISORY" in im.info.get("Description", "")
     assert (out / "report.pdf").read_bytes()[:5] == b"%PDF-"
     s = json.loads((out / "summary.json").read_text())
     assert s["grid"]["step_m"] == 0.5
@@ -244,8 +245,11 @@ def test_boundary_choice_changes_the_line(tmp_path):
     site05 = parse_site(tomllib.loads(BASE), "a.toml")
     site09 = parse_site(tomllib.loads(BASE.replace(
         "[plan]\n", '[plan]\nboundary = "iec-60601-2-33-ed4"\n')), "b.toml")
-    r05 = compute_report(site05, grid_step_m=0.5)
-    r09 = compute_report(site09, grid_step_m=0.5)
+    # a coarse grid on purpose: the report says so (the warning is part of the contract)
+    with pytest.warns(FringeWarning, match="too coarse for the 0.5 mT line"):
+        r05 = compute_report(site05, grid_step_m=0.5)
+    with pytest.warns(FringeWarning, match="too coarse for the 0.9 mT line"):
+        r09 = compute_report(site09, grid_step_m=0.5)
     assert r09.boundary.value_mT == 0.9 and 0.9 in r09.thresholds_mT
     a05 = r05.floor_footprint("ground", 0.5).area_m2
     a09 = r09.floor_footprint("ground", 0.9).area_m2
