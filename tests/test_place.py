@@ -181,14 +181,24 @@ def test_no_fit_shortfall_matches_hand_calculation():
     assert sf["extra_distance_m"] == pytest.approx(rad - w, abs=0.03)
 
 
-def test_region_errors_and_polygon_region():
+def test_region_errors_and_polygon_region(tmp_path, run_cli):
     site = parse_site(tomllib.loads(_strip_site_text()), "strip.toml")
-    from fringe.model.errors import ScenarioError
+    from fringe.model.errors import ArgumentError
 
-    with pytest.raises(ScenarioError, match="`--region` must be a room of the scenario"):
+    # the library names its parameter; the command line names its option
+    with pytest.raises(ArgumentError, match="`region` must be a room of the scenario"):
         search_placement(site, "m", "nowhere", (0,))
-    with pytest.raises(ScenarioError, match="`--region` must be large enough"):
+    with pytest.raises(ArgumentError, match="`region` must be large enough"):
         search_placement(site, "m", "0,0;0.3,0;0.3,0.3;0,0.3", (0,))
+    with pytest.raises(ArgumentError, match="`boundary_mT` must be a positive number"):
+        search_placement(site, "m", "nowhere", (0,), boundary_mT=-1.0)
+    scen = tmp_path / "strip.toml"
+    scen.write_text(_strip_site_text(), encoding="utf-8")
+    code, _, err = run_cli("place", scen, "--magnet", "m", "--region", "nowhere", "--quiet")
+    assert code == 2 and "`--region` must be a room of the scenario" in err, err
+    code, _, err = run_cli("place", scen, "--magnet", "m", "--region", "nowhere",
+                           "--threshold-mT", "-1", "--quiet")
+    assert code == 2 and "`--threshold-mT` must be a positive number" in err, err
     res = search_placement(site, "m", "-1,-1;1,-1;1,1;-1,1", (0,), coarse_points=20)
     assert res.region_label == "the given polygon"
     for p in res.candidates:  # centres inside the polygon shrunk by the outline

@@ -75,7 +75,7 @@ from fringe.analysis.verdicts import room_limit
 from fringe.analysis.zones import field_magnitude_T, floor_map, footprints, plan_axes_m, reach_m
 from fringe.io.scenario_plan import SitePlan, site_plan
 from fringe.model.building import Floor
-from fringe.model.errors import ScenarioError, must_be
+from fringe.model.errors import ArgumentError, ScenarioError, must_be
 from fringe.model.magnet import Magnet
 
 __all__ = ["Zone", "Placement", "PlacementResult", "zones_of_site", "axis_at_angle",
@@ -198,7 +198,7 @@ def plan_angle_deg(axis) -> float | None:
 
 def parse_region(text: str, plan: SitePlan, magnet_floor: Floor
                  ) -> tuple[object, Floor, str]:
-    """The region named by ``--region``: a room name, or ``"x1,y1;x2,y2;..."`` in m.
+    """The region named by ``text``: a room name, or ``"x1,y1;x2,y2;..."`` in m.
 
     Returns ``(polygon, floor, label)``; a polygon lies on ``magnet_floor``.
     """
@@ -218,14 +218,15 @@ def parse_region(text: str, plan: SitePlan, magnet_floor: Floor
                 raise ValueError
             pts.append(xy)
     except ValueError:
-        raise ScenarioError(must_be("--region", expect, text)) from None
+        raise ArgumentError(must_be("region", expect, text), "region") from None
     arr = np.asarray(pts, dtype=float)
     if len(arr) < 3 or not np.all(np.isfinite(arr)):
-        raise ScenarioError(must_be("--region", expect, text))
+        raise ArgumentError(must_be("region", expect, text), "region")
     poly = shapely.Polygon(arr)
     if not poly.is_valid or not poly.area > 0:
-        raise ScenarioError(must_be("--region", "a simple polygon of non-zero area "
-                                    f"(shapely: {shapely.is_valid_reason(poly)})", text))
+        raise ArgumentError(must_be("region", "a simple polygon of non-zero area "
+                                    f"(shapely: {shapely.is_valid_reason(poly)})", text),
+                            "region")
     return shapely.normalize(poly), magnet_floor, "the given polygon"
 
 
@@ -545,6 +546,230 @@ def _placement(sc: _Scores, i: int, zones, center, axis, angle, source, exact=Tr
                      _breakdown(sc, i, zones), source, exact)
 
 
+@dataclass
+class _Problem:
+    """What one search fixes before it starts (built by :func:`_problem`)."""
+
+    magnet: Magnet
+    others: tuple[Magnet, ...]
+    plan: SitePlan
+    boundary_mT: float
+    step_m: float
+    band_step_m: float
+    home: Floor
+    outline: object
+    floor: Floor
+    label: str
+    z_m: float
+    zones: tuple[Zone, ...]
+    controlled: dict
+    levels_mT: list[float]
+    floors: list[Floor]
+    fixed: dict = field(default_factory=dict)
+    notes: list[str] = field(default_factory=list)
+    evaluations: int = 0
+
+    def scores(self, fs: FootprintSet, centres: np.ndarray) -> _Scores:
+        """Score the moving magnet's footprints ``fs`` translated to ``centres`` (N, 2)."""
+        centres = np.atleast_2d(centres)
+        self.evaluations += len(centres)
+        cache: dict = {}
+
+        def fp_at(fl, t):
+            if (fl, t) not in cache:
+                arr = _translated(fs.polygons[(fl, t)], centres)
+                g = self.fixed.get((fl, t))
+                if g is not None and not g.is_empty:
+                    arr = shapely.union(arr, g)
+                cache[(fl, t)] = arr
+            return cache[(fl, t)]
+
+        return score_footprints(fp_at, self.zones, self.controlled, self.levels_mT,
+                                len(centres), self.step_m)
+
+    def placement(self, sc: _Scores, i: int, center, axis, angle, source: str) -> Placement:
+        """Placement ``i`` of ``sc`` (exact when no other magnet is superposed)."""
+        return _placement(sc, i, self.zones, center, axis, angle, source, not self.others)
+
+
+def _as_region_room(plan: SitePlan, region: str, notes: list[str]) -> SitePlan:
+    """The plan with the room named ``region`` (if any) made the magnet's controlled room."""
+    room = next((r for r in plan.rooms if r.name == region), None)
+    if room is None or (room.access == "controlled" and room.limit_mT is None):
+        return plan
+    notes.append(f"Room {room.name!r} is treated as controlled access for the "
+                 "search (the magnet would stand in it).")
+    return replace(plan, rooms=tuple(replace(r, access="controlled", limit_mT=None)
+                                     if r is room else r for r in plan.rooms))
+
+
+def _search_window(magnet: Magnet, others, plan: SitePlan, outline, boundary_mT: float):
+    """Box holding every footprint considered: the rooms and the region grown by reach."""
+    reach = reach_m(magnet, 1e-3 * min([boundary_mT] + [r.limit_mT for r in plan.rooms
+                                                        if r.limit_mT is not None]))
+    b = np.array(outline.bounds)
+    xs = [b[0] - reach - 1, b[2] + reach + 1]
+    ys = [b[1] - reach - 1, b[3] + reach + 1]
+    for m in others:
+        rr = reach_m(m, boundary_mT * 1e-3)
+        xs += [m.center_m[0] - rr - 1, m.center_m[0] + rr + 1]
+        ys += [m.center_m[1] - rr - 1, m.center_m[1] + rr + 1]
+    for r in plan.rooms:
+        rb = r.outline.bounds
+        xs += [rb[0] - 1, rb[2] + 1]
+        ys += [rb[1] - 1, rb[3] + 1]
+    return (min(xs), min(ys)), (max(xs), max(ys))
+
+
+def _problem(site, magnet_name: str, region: str, angles_deg, boundary_mT) -> _Problem:
+    """Check the arguments and fix the zones, levels and floors of one search."""
+    magnet = site.magnet(magnet_name)
+    others = tuple(m for m in site.magnets if m.name != magnet.name)
+    plan = site_plan(site)
+    s = plan.settings
+    bnd = float(boundary_mT if boundary_mT is not None else s.boundary.value_mT)
+    if not (math.isfinite(bnd) and bnd > 0):
+        raise ArgumentError(must_be("boundary_mT", "a positive number of mT", boundary_mT),
+                            "boundary_mT")
+    if not len(angles_deg):
+        raise ArgumentError(must_be("angles_deg", "at least one angle in degrees", ""),
+                            "angles_deg")
+    home = plan.floor_of_point(magnet.center_m[2])
+    outline, floor, label = parse_region(region, plan, home)
+    notes: list[str] = []
+    plan = _as_region_room(plan, region, notes)
+    zc = magnet.center_m[2] - home.elevation_m + floor.elevation_m
+    if floor.name != home.name:
+        notes.append(f"The region is on floor {floor.name!r}: the centre height is kept "
+                     f"{magnet.center_m[2] - home.elevation_m:g} m above that floor "
+                     f"(z = {zc:g} m).")
+    zones, controlled = zones_of_site(plan, bnd, _search_window(magnet, others, plan, outline,
+                                                                  bnd))
+    if not zones:
+        raise ScenarioError(must_be("room", "at least one room that is not controlled (or "
+                                    "a floor with space outside its rooms) to keep the field "
+                                    "out of", "none"), site.source_file or None)
+    levels = sorted({t for t in s.thresholds_mT if t >= bnd * (1 - 1e-9)} | {bnd}
+                    | {z.limit_mT for z in zones})
+    pb = _Problem(magnet, others, plan, bnd, s.grid_step_m, s.band_step_m, home, outline,
+                  floor, label, zc, zones, controlled, levels, _floors_needed(plan, zones),
+                  notes=notes)
+    if others:  # the other magnets' own footprints: the union stand-in during the search
+        pb.fixed = exact_footprints(others, others[0], pb.floors, levels, pb.step_m,
+                                    pb.band_step_m).polygons
+        notes.append(f"{len(others)} other magnet(s) kept in place; the search used the "
+                     "union of footprints as a stand-in and the best placements were "
+                     "re-evaluated with the combined field.")
+    return pb
+
+
+def _orientations(magnet: Magnet, angles_deg, notes: list[str]
+                  ) -> dict[float | None, tuple[float, float, float]]:
+    """Bore directions to try, keyed by plan angle (None: vertical, which has only one)."""
+    orient: dict[float | None, tuple[float, float, float]] = {}
+    for a in angles_deg:
+        ax_ = axis_at_angle(magnet.axis, float(a))
+        key = None if plan_angle_deg(ax_) is None else float(a) % 360.0
+        orient.setdefault(key, ax_)
+    if None in orient and len(angles_deg) > 1:
+        notes.append("The bore axis is vertical: turning it about the vertical changes "
+                     "nothing, so only one direction was tried.")
+    return orient
+
+
+def _lattice(allowed, h: float) -> np.ndarray:
+    """Cell centres of spacing ``h`` inside ``allowed``, plus one point on its surface."""
+    x0, y0, x1, y1 = allowed.bounds
+    gx = x0 + h / 2 + h * np.arange(max(1, math.ceil((x1 - x0) / h)))
+    gy = y0 + h / 2 + h * np.arange(max(1, math.ceil((y1 - y0) / h)))
+    GX, GY = np.meshgrid(gx, gy)
+    pts = np.column_stack([GX.ravel(), GY.ravel()])
+    pts = pts[shapely.contains_xy(allowed, pts[:, 0], pts[:, 1])]
+    extra = shapely.get_coordinates(shapely.point_on_surface(allowed))
+    return np.concatenate([pts, extra]) if len(pts) else extra
+
+
+def _refine_starts(pts: np.ndarray, sc: _Scores, h: float) -> tuple[list[int], list]:
+    """Lattice indices by rank, and up to ``REFINE_STARTS`` well-separated start points."""
+    order = sorted(range(len(pts)), key=lambda i: (round(sc.spill[i] / SPILL_RESOLUTION_M2),
+                                                  -sc.margin[i]))
+    starts: list[np.ndarray] = []
+    for i in order:
+        if all(np.hypot(*(pts[i] - p)) > 2.5 * h for p in starts):
+            starts.append(pts[i])
+        if len(starts) >= REFINE_STARTS:
+            break
+    return order, starts
+
+
+def _refined(pb: _Problem, fs: FootprintSet, allowed, start, h: float) -> np.ndarray | None:
+    """Nelder–Mead from ``start`` on the surrogate spill − min(margin, cap); None outside."""
+    def surrogate(c):
+        sc1 = pb.scores(fs, np.asarray(c)[None, :])
+        g = float(sc1.spill[0] - min(sc1.margin[0], MARGIN_CAP_M))
+        if not shapely.contains_xy(allowed, c[0], c[1]):
+            g += 100.0 * (1.0 + shapely.distance(allowed, shapely.Point(c)))
+        return g
+
+    simplex = np.array([start, start + [h, 0.0], start + [0.0, h]])
+    res = minimize(surrogate, start, method="Nelder-Mead",
+                   options={"initial_simplex": simplex, "xatol": pb.step_m / 4,
+                            "fatol": 1e-4, "maxfev": 120})
+    c = np.asarray(res.x)
+    return c if shapely.contains_xy(allowed, c[0], c[1]) else None
+
+
+def _search_direction(pb: _Problem, fs: FootprintSet, allowed, key, ax_,
+                      coarse_points: int, say) -> tuple[list[Placement], np.ndarray, float]:
+    """Coarse lattice over ``allowed`` for one bore direction, then local refinement.
+
+    Returns the placements found, the lattice and its spacing, m.
+    """
+    h = max(pb.step_m, math.sqrt(allowed.area / max(coarse_points, 4)))
+    pts = _lattice(allowed, h)
+    sc = pb.scores(fs, pts)
+    say(f"{_angle_text(key)}: {len(pts)} lattice centres scored")
+    order, starts = _refine_starts(pts, sc, h)
+    found = [pb.placement(sc, i, (*pts[i], pb.z_m), ax_, key, "lattice")
+             for i in order[:REFINE_STARTS]]
+    for p in starts:
+        c = _refined(pb, fs, allowed, p, h)
+        if c is not None:
+            found.append(pb.placement(pb.scores(fs, c[None, :]), 0, (*c, pb.z_m), ax_, key,
+                                      "refined"))
+    say(f"{_angle_text(key)}: refined from {len(starts)} start(s)")
+    return found, pts, h
+
+
+def _scenario_placement(pb: _Problem, rel: dict, allowed: dict) -> tuple[Placement | None, bool]:
+    """The scenario's own placement scored like the others, and whether it is in the region."""
+    magnet = pb.magnet
+    if pb.floor.name != pb.home.name:
+        return None, False
+    cur_angle = plan_angle_deg(magnet.axis)
+    key = cur_angle if cur_angle is None else round(cur_angle, 9) % 360.0
+    if key not in rel:
+        rel[key] = relative_footprints(magnet, pb.floors, pb.levels_mT, pb.step_m,
+                                       pb.band_step_m)
+    sc0 = pb.scores(rel[key], np.array([magnet.center_m[:2]]))
+    current = pb.placement(sc0, 0, magnet.center_m, magnet.axis, key, "scenario")
+    A_cur = allowed.get(key)
+    if A_cur is None:
+        A_cur = allowed_region(pb.outline, magnet_outline_relative(magnet))
+    return current, bool(shapely.contains_xy(A_cur, *magnet.center_m[:2]))
+
+
+def _vertical_shortfalls(pb: _Problem, best: Placement) -> list[tuple[str, str, float, float]]:
+    """For each footprint reaching a zone through a slab: the extra distance needed, m."""
+    out = []
+    for r in best.spill_by_room:
+        if r["through_floor"]:
+            mb = pb.magnet.moved(center_m=best.center_m, axis=best.axis)
+            v = vertical_shortfall_m(mb, pb.plan.floor(r["floor"]), r["limit_mT"], pb.step_m)
+            out.append((r["room"], r["floor"], r["limit_mT"], v))
+    return out
+
+
 def search_placement(site, magnet_name: str, region: str, angles_deg: Sequence[float] = (0, 90),
                      boundary_mT: float | None = None, *, n_best: int = 5,
                      coarse_points: int = COARSE_POINTS, progress: Progress = None
@@ -571,214 +796,61 @@ def search_placement(site, magnet_name: str, region: str, angles_deg: Sequence[f
     Returns
     -------
     PlacementResult
+
+    Raises
+    ------
+    ArgumentError
+        ``region``, ``angles_deg`` or ``boundary_mT`` cannot be used.
     """
     say = progress or (lambda msg: None)
-    magnet = site.magnet(magnet_name)
-    others = tuple(m for m in site.magnets if m.name != magnet.name)
-    plan = site_plan(site)
-    s = plan.settings
-    bnd = float(boundary_mT if boundary_mT is not None else s.boundary.value_mT)
-    if not (math.isfinite(bnd) and bnd > 0):
-        raise ScenarioError(must_be("--threshold-mT", "a positive number of mT", boundary_mT))
-    if not len(angles_deg):
-        raise ScenarioError(must_be("--angles", "at least one angle in degrees", ""))
-    step = s.grid_step_m
-    home = plan.floor_of_point(magnet.center_m[2])
-    outline, floor, label = parse_region(region, plan, home)
-    region_room = next((r for r in plan.rooms if r.name == region), None)
-    notes: list[str] = []
-    if region_room is not None and (region_room.access != "controlled"
-                                    or region_room.limit_mT is not None):
-        # the room that receives the magnet becomes its controlled room
-        plan = replace(plan, rooms=tuple(
-            replace(r, access="controlled", limit_mT=None) if r is region_room else r
-            for r in plan.rooms))
-        notes.append(f"Room {region_room.name!r} is treated as controlled access for the "
-                     "search (the magnet would stand in it).")
-    zc = magnet.center_m[2] - home.elevation_m + floor.elevation_m
-    if floor.name != home.name:
-        notes.append(f"The region is on floor {floor.name!r}: the centre height is kept "
-                     f"{magnet.center_m[2] - home.elevation_m:g} m above that floor "
-                     f"(z = {zc:g} m).")
-
-    # window for the space outside every room: the rooms and the region grown by reach
-    reach = reach_m(magnet, 1e-3 * min([bnd] + [r.limit_mT for r in plan.rooms
-                                                if r.limit_mT is not None]))
-    b = np.array(outline.bounds)
-    xs = [b[0] - reach - 1, b[2] + reach + 1]
-    ys = [b[1] - reach - 1, b[3] + reach + 1]
-    for m in others:
-        rr = reach_m(m, bnd * 1e-3)
-        xs += [m.center_m[0] - rr - 1, m.center_m[0] + rr + 1]
-        ys += [m.center_m[1] - rr - 1, m.center_m[1] + rr + 1]
-    for r in plan.rooms:
-        rb = r.outline.bounds
-        xs += [rb[0] - 1, rb[2] + 1]
-        ys += [rb[1] - 1, rb[3] + 1]
-    window = ((min(xs), min(ys)), (max(xs), max(ys)))
-    zones, controlled = zones_of_site(plan, bnd, window)
-    if not zones:
-        raise ScenarioError(must_be("room", "at least one room that is not controlled (or "
-                                    "a floor with space outside its rooms) to keep the field "
-                                    "out of", "none"), site.source_file or None)
-    levels = sorted({t for t in s.thresholds_mT if t >= bnd * (1 - 1e-9)} | {bnd}
-                    | {z.limit_mT for z in zones})
-    floors = _floors_needed(plan, zones)
-
-    # orientations (a vertical axis has only one)
-    base = magnet.moved(center_m=(magnet.center_m[0], magnet.center_m[1], zc))
-    orient: dict[float | None, tuple[float, float, float]] = {}
-    for a in angles_deg:
-        ax_ = axis_at_angle(magnet.axis, float(a))
-        key = None if plan_angle_deg(ax_) is None else float(a) % 360.0
-        orient.setdefault(key, ax_)
-    if None in orient and len(angles_deg) > 1:
-        notes.append("The bore axis is vertical: turning it about the vertical changes "
-                     "nothing, so only one direction was tried.")
-    cur_angle = plan_angle_deg(magnet.axis)
-
-    # the other magnets' own footprints (for the union stand-in during the search)
-    fixed: dict[tuple[str, float], object] = {}
-    if others:
-        fs = exact_footprints(others, others[0], floors, levels, step, s.band_step_m)
-        fixed = fs.polygons
-        notes.append(f"{len(others)} other magnet(s) kept in place; the search used the "
-                     "union of footprints as a stand-in and the best placements were "
-                     "re-evaluated with the combined field.")
-
+    pb = _problem(site, magnet_name, region, angles_deg, boundary_mT)
+    magnet = pb.magnet
+    base = magnet.moved(center_m=(magnet.center_m[0], magnet.center_m[1], pb.z_m))
     rel: dict[float | None, FootprintSet] = {}
     allowed: dict[float | None, object] = {}
     lattice: dict[float | None, np.ndarray] = {}
     spacing: dict[float | None, float] = {}
     evaluated: list[Placement] = []
-    n_eval = 0
-
-    def scorer(key):
-        fs = rel[key]
-
-        def evaluate(centres: np.ndarray) -> _Scores:
-            nonlocal n_eval
-            centres = np.atleast_2d(centres)
-            n_eval += len(centres)
-            cache: dict = {}
-
-            def fp_at(fl, t):
-                if (fl, t) not in cache:
-                    arr = _translated(fs.polygons[(fl, t)], centres)
-                    g = fixed.get((fl, t))
-                    if g is not None and not g.is_empty:
-                        arr = shapely.union(arr, g)
-                    cache[(fl, t)] = arr
-                return cache[(fl, t)]
-
-            return score_footprints(fp_at, zones, controlled, levels, len(centres), step)
-        return evaluate
-
-    for key, ax_ in orient.items():
+    for key, ax_ in _orientations(magnet, angles_deg, pb.notes).items():
         mk = base.moved(axis=ax_)
         say(f"footprints for bore direction {_angle_text(key)}")
-        rel[key] = relative_footprints(mk, floors, levels, step, s.band_step_m)
+        rel[key] = relative_footprints(mk, pb.floors, pb.levels_mT, pb.step_m, pb.band_step_m)
         if rel[key].clipped:
-            notes.append(f"At {_angle_text(key)} footprints reach the edge of their window "
-                         f"({', '.join(f'{t:g} mT on {f}' for f, t in rel[key].clipped)}): "
-                         "areas there are underestimated.")
+            pb.notes.append(f"At {_angle_text(key)} footprints reach the edge of their window "
+                            f"({', '.join(f'{t:g} mT on {f}' for f, t in rel[key].clipped)}): "
+                            "areas there are underestimated.")
         P = magnet_outline_relative(mk)
-        A = allowed_region(outline, P)
-        allowed[key] = A
+        allowed[key] = A = allowed_region(pb.outline, P)
         if A.is_empty or A.area < 1e-9:
-            notes.append(f"At {_angle_text(key)} the magnet's winding outline "
-                         f"({_outline_size(P)}) does not fit in the region.")
+            pb.notes.append(f"At {_angle_text(key)} the magnet's winding outline "
+                            f"({_outline_size(P)}) does not fit in the region.")
             continue
-        h = max(step, math.sqrt(A.area / max(coarse_points, 4)))
-        spacing[key] = h
-        x0, y0, x1, y1 = A.bounds
-        gx = x0 + h / 2 + h * np.arange(max(1, math.ceil((x1 - x0) / h)))
-        gy = y0 + h / 2 + h * np.arange(max(1, math.ceil((y1 - y0) / h)))
-        GX, GY = np.meshgrid(gx, gy)
-        pts = np.column_stack([GX.ravel(), GY.ravel()])
-        pts = pts[shapely.contains_xy(A, pts[:, 0], pts[:, 1])]
-        extra = shapely.get_coordinates(shapely.point_on_surface(A))
-        pts = np.concatenate([pts, extra]) if len(pts) else extra
-        lattice[key] = pts
-        evaluate = scorer(key)
-        sc = evaluate(pts)
-        say(f"{_angle_text(key)}: {len(pts)} lattice centres scored")
-        order = sorted(range(len(pts)), key=lambda i: (round(sc.spill[i] / SPILL_RESOLUTION_M2),
-                                                      -sc.margin[i]))
-        starts: list[np.ndarray] = []
-        for i in order:
-            if all(np.hypot(*(pts[i] - p)) > 2.5 * h for p in starts):
-                starts.append(pts[i])
-            if len(starts) >= REFINE_STARTS:
-                break
-        for i in order[:REFINE_STARTS]:
-            evaluated.append(_placement(sc, i, zones, (*pts[i], zc), ax_, key, "lattice",
-                                        not others))
-
-        def surrogate(c, evaluate=evaluate, A=A):
-            sc1 = evaluate(np.asarray(c)[None, :])
-            g = float(sc1.spill[0] - min(sc1.margin[0], MARGIN_CAP_M))
-            if not shapely.contains_xy(A, c[0], c[1]):
-                g += 100.0 * (1.0 + shapely.distance(A, shapely.Point(c)))
-            return g
-
-        for p in starts:
-            simplex = np.array([p, p + [h, 0.0], p + [0.0, h]])
-            res = minimize(surrogate, p, method="Nelder-Mead",
-                           options={"initial_simplex": simplex, "xatol": step / 4,
-                                    "fatol": 1e-4, "maxfev": 120})
-            c = np.asarray(res.x)
-            if not shapely.contains_xy(A, c[0], c[1]):
-                continue
-            sc1 = evaluate(c[None, :])
-            evaluated.append(_placement(sc1, 0, zones, (*c, zc), ax_, key, "refined",
-                                        not others))
-        say(f"{_angle_text(key)}: refined from {len(starts)} start(s)")
-
-    # the scenario's own placement, scored the same way
-    current = None
-    cur_in_region = False
-    cur_key = cur_angle if cur_angle is None else round(cur_angle, 9) % 360.0
-    if floor.name == home.name:
-        if cur_key not in rel:
-            rel[cur_key] = relative_footprints(magnet, floors, levels, step, s.band_step_m)
-        sc0 = scorer(cur_key)(np.array([magnet.center_m[:2]]))
-        current = _placement(sc0, 0, zones, magnet.center_m, magnet.axis, cur_key,
-                             "scenario", not others)
-        A_cur = allowed.get(cur_key)
-        if A_cur is None:
-            A_cur = allowed_region(outline, magnet_outline_relative(magnet))
-        cur_in_region = bool(shapely.contains_xy(A_cur, *magnet.center_m[:2]))
-        if cur_in_region:
-            evaluated.append(current)
-
+        found, lattice[key], spacing[key] = _search_direction(pb, rel[key], A, key, ax_,
+                                                              coarse_points, say)
+        evaluated += found
+    current, cur_in_region = _scenario_placement(pb, rel, allowed)
+    if cur_in_region:
+        evaluated.append(current)
     if not evaluated:
-        raise ScenarioError(must_be("--region", "large enough to hold the magnet's winding "
+        raise ArgumentError(must_be("region", "large enough to hold the magnet's winding "
                                     f"outline ({_outline_size(magnet_outline_relative(magnet))})"
-                                    " at one of the angles tried", region))
-
-    ranked = _dedupe(sorted(evaluated, key=lambda p: p.key), spacing, step)
-    if others:  # re-evaluate with the combined field
+                                    " at one of the angles tried", region), "region")
+    ranked = _dedupe(sorted(evaluated, key=lambda p: p.key), spacing, pb.step_m)
+    if pb.others:  # re-evaluate with the combined field
         say("re-evaluating the best placements with the combined field")
-        args = (magnet, others, floors, levels, zones, controlled, step, s.band_step_m)
+        args = (magnet, pb.others, pb.floors, pb.levels_mT, pb.zones, pb.controlled,
+                pb.step_m, pb.band_step_m)
         pool = [_exact_placement(p, *args) for p in ranked[:EXACT_CANDIDATES]
                 if p.source != "scenario"]
         if current is not None:
             current = _exact_placement(current, *args)
             if cur_in_region:
                 pool.append(current)
-        ranked = _dedupe(sorted(pool, key=lambda p: p.key), spacing, step)
-    best = ranked[0]
-    vertical = []
-    for r in best.spill_by_room:
-        if r["through_floor"]:
-            fl = plan.floor(r["floor"])
-            mb = magnet.moved(center_m=best.center_m, axis=best.axis)
-            v = vertical_shortfall_m(mb, fl, r["limit_mT"], step)
-            vertical.append((r["room"], r["floor"], r["limit_mT"], v))
-    return PlacementResult(magnet, label, outline, allowed, bnd, tuple(levels),
-                           tuple(ranked[:n_best]), current, lattice, n_eval, tuple(notes),
-                           tuple(vertical), rel, fixed)
+        ranked = _dedupe(sorted(pool, key=lambda p: p.key), spacing, pb.step_m)
+    return PlacementResult(magnet, pb.label, pb.outline, allowed, pb.boundary_mT,
+                           tuple(pb.levels_mT), tuple(ranked[:n_best]), current, lattice,
+                           pb.evaluations, tuple(pb.notes),
+                           tuple(_vertical_shortfalls(pb, ranked[0])), rel, pb.fixed)
 
 
 def _exact_placement(p: Placement, magnet, others, floors, levels, zones, controlled, step,
@@ -847,16 +919,3 @@ def magnet_toml(magnet: Magnet, placement: Placement) -> str:
                   f"  z_max_m = {c.z_max_m!r}", f"  turns = {c.turns!r}",
                   f"  current_A = {c.current_A!r}"]
     return "\n".join(lines) + "\n"
-
-
-def check_angles(text: str) -> tuple[float, ...]:
-    """Parse ``--angles`` (comma-separated degrees)."""
-    try:
-        vals = tuple(float(v) for v in text.split(",") if v.strip())
-    except ValueError:
-        vals = ()
-    if not vals or not all(math.isfinite(v) for v in vals):
-        raise ScenarioError(must_be("--angles", "comma-separated angles in degrees, e.g. "
-                                    "'0,90'", text))
-    return vals
-

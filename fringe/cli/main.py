@@ -21,7 +21,7 @@ import numpy as np
 from fringe.field.evaluate import coordinate_range_problem
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.constants import VERSION as __version__
-from fringe.model.errors import FringeError, FringeWarning, ScenarioError
+from fringe.model.errors import ArgumentError, FringeError, FringeWarning, ScenarioError
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_EXCEEDS = 0, 1, 2, 3
 
@@ -75,6 +75,9 @@ def main(argv: Sequence[str] | None = None) -> int:
             warnings.simplefilter("always", FringeWarning)
             warnings.showwarning = _show_warning
             return int(args.func(args) or 0)
+    except ArgumentError as e:  # the library names its parameter; say the option instead
+        sys.stderr.write(f"fringe: error: {e.renamed(getattr(args, 'flags', {}))}\n")
+        return EXIT_INPUT
     except FringeError as e:
         sys.stderr.write(f"fringe: error: {e}\n")
         return EXIT_INPUT

@@ -17,6 +17,11 @@ from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import ScenarioError, must_be
 
+#: Parameters of :func:`fringe.analysis.placement.search_placement` → this command's options
+#: (errors about a parameter name the option).
+FLAGS: dict[str, str] = {"magnet": "--magnet", "region": "--region", "angles_deg": "--angles",
+                         "boundary_mT": "--threshold-mT"}
+
 
 def register(sub) -> None:
     p = sub.add_parser(
@@ -46,7 +51,7 @@ def register(sub) -> None:
                    help="write place.json, best-magnet.toml and the plan sheet "
                         "(place-plan.png/.svg) into DIR (replaced whole, atomically)")
     p.add_argument("--quiet", action="store_true", help="no progress messages on stderr")
-    p.set_defaults(func=run)
+    p.set_defaults(func=run, flags=FLAGS)
 
 
 def _progress(quiet: bool):
@@ -325,7 +330,7 @@ def write_outputs(site, result, equipment, doc: dict, out_dir: str | Path) -> li
 
 
 def run(args) -> int:
-    from fringe.analysis.placement import check_angles, search_placement
+    from fringe.analysis.placement import search_placement
     from fringe.cli.main import print_json
 
     angles = check_angles(args.angles)
@@ -357,3 +362,14 @@ def run(args) -> int:
         print(text_summary(site, result, equipment, args.out))
     return 0
 
+
+def check_angles(text: str) -> tuple[float, ...]:
+    """Parse ``--angles`` (comma-separated degrees)."""
+    try:
+        vals = tuple(float(v) for v in text.split(",") if v.strip())
+    except ValueError:
+        vals = ()
+    if not vals or not all(math.isfinite(v) for v in vals):
+        raise ScenarioError(must_be("--angles", "comma-separated angles in degrees, e.g. "
+                                    "'0,90'", text))
+    return vals

@@ -4,6 +4,7 @@
 
     FringeError
     ├── ScenarioError (also ValueError)   bad scenario, plan or command input
+    │   └── ArgumentError                  a function argument (a command option) is unusable
     ├── FringeInputError (also ValueError) bad arguments to a library function
     └── FringeIOError (also OSError)       a file that cannot be read or written
 
@@ -15,8 +16,8 @@ Every message has one form: ``<where>: `<key path>` must be <expectation>; got <
 
 from __future__ import annotations
 
-__all__ = ["FringeError", "ScenarioError", "FringeInputError", "FringeIOError", "FringeWarning",
-           "must_be"]
+__all__ = ["FringeError", "ScenarioError", "ArgumentError", "FringeInputError", "FringeIOError",
+           "FringeWarning", "must_be"]
 
 
 class FringeError(Exception):
@@ -38,6 +39,40 @@ class ScenarioError(FringeError, ValueError):
         self.file = file
         self.detail = message
         super().__init__(f"{file}: {message}" if file else message)
+
+
+class ArgumentError(ScenarioError):
+    """An argument of a library function cannot be used (a region, an angle list, …).
+
+    The message names the Python parameter (```region``` …), never a command-line flag:
+    a front end that exposes the parameter under another name (the CLI's ``--region``)
+    renames it with :meth:`renamed`.
+
+    Parameters
+    ----------
+    message : str
+        The full message, of the form produced by :func:`must_be` for ``argument``.
+    argument : str
+        The parameter's name, as it appears between backticks in ``message``.
+    file : str, optional
+        The scenario file the argument was checked against, if any.
+    """
+
+    def __init__(self, message: str, argument: str, file: str | None = None) -> None:
+        self.argument = argument
+        super().__init__(message, file)
+
+    def renamed(self, names: dict[str, str]) -> str:
+        """The message with the parameter called by its name in ``names`` (if listed).
+
+        >>> e = ArgumentError(must_be("angles_deg", "at least one angle", ""), "angles_deg")
+        >>> e.renamed({"angles_deg": "--angles"})
+        "`--angles` must be at least one angle; got ''"
+        """
+        new = names.get(self.argument)
+        if new is None:
+            return str(self)
+        return str(self).replace(f"`{self.argument}`", f"`{new}`", 1)
 
 
 class FringeInputError(FringeError, ValueError):
