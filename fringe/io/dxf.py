@@ -219,6 +219,106 @@ def _text_anchor(e) -> tuple[tuple[float, float], str] | None:
     return ((float(p.x), float(p.y)), text) if text else None
 
 
+def _drawing_scale(doc, units: str | None, file: str) -> tuple[int, float]:
+    """The drawing's unit code and metres per drawing unit (``units`` overrides)."""
+    insunits = int(doc.header.get("$INSUNITS", 0) or 0)
+    if units is not None:
+        insunits = UNIT_CHOICES[units]
+    mpu = metres_per_unit(insunits)
+    if not math.isfinite(mpu):
+        raise ScenarioError(must_be("$INSUNITS", "a length unit in the drawing header (or "
+                                    f"`units` = one of {', '.join(map(repr, UNIT_CHOICES))} in "
+                                    "the room_file table)", insunits), file)
+    return insunits, mpu
+
+
+def _wall_line(e):
+    return shapely.LineString([(e.dxf.start.x, e.dxf.start.y), (e.dxf.end.x, e.dxf.end.y)])
+
+
+def _outline_of(e, layer: str, flatten: float, file: str):
+    """Vertices of a polyline and whether it is closed; one clear error if unreadable."""
+    try:
+        return _entity_xy(e, flatten)
+    except Exception as err:  # noqa: BLE001 - malformed entity data
+        raise ScenarioError(f"entity #{e.dxf.handle} on layer {layer!r} cannot be read "
+                            f"({err})", file) from None
+
+
+def _room_polygon(e, layer: str, pts, file: str):
+    poly = shapely.Polygon(pts)
+    if not shapely.is_valid(poly) or not poly.area > 0:
+        reason = shapely.is_valid_reason(poly) if poly.area > 0 else "zero area"
+        raise ScenarioError(must_be(f"entity #{e.dxf.handle} on layer {layer!r}",
+                                    f"a valid simple closed outline (shapely: {reason})",
+                                    f"{len(pts)} vertices"), file)
+    return poly
+
+
+def _outlines_and_walls(msp, layers, flatten: float, file: str):
+    """Closed room outlines ``(polygon, layer, role, handle)`` and wall geometries."""
+    outlines: list[tuple[Any, str, str, str]] = []
+    walls: list[Any] = []
+    for e in msp.query("LWPOLYLINE POLYLINE LINE"):
+        layer = e.dxf.layer
+        role = "ignore" if layer.upper().startswith(LAYER_PREFIX) else _role(layer, layers)
+        if role == "ignore":  # our own zone layers are never rooms
+            continue
+        if e.dxftype() == "LINE":
+            if role == "wall":
+                walls.append(_wall_line(e))
+            continue
+        if e.dxftype() == "POLYLINE" and not (e.is_2d_polyline or e.is_3d_polyline):
+            continue
+        pts, closed = _outline_of(e, layer, flatten, file)
+        if role == "wall":
+            if len(pts) >= 2:
+                walls.append(shapely.Polygon(pts) if closed and len(pts) >= 3
+                             else shapely.LineString(pts))
+        elif closed and len(pts) >= 3:
+            outlines.append((_room_polygon(e, layer, pts, file), layer, role, e.dxf.handle))
+    return outlines, walls
+
+
+def _texts_by_outline(msp, outlines) -> dict[int, list[tuple[float, float, str]]]:
+    """Each text goes to the smallest outline containing its anchor."""
+    names: dict[int, list[tuple[float, float, str]]] = {}
+    order = sorted(range(len(outlines)), key=lambda i: outlines[i][0].area)
+    for t in msp.query("TEXT MTEXT"):
+        a = _text_anchor(t)
+        if a is None:
+            continue
+        pt = shapely.Point(a[0])
+        for i in order:
+            if outlines[i][0].covers(pt):
+                names.setdefault(i, []).append((-a[0][1], a[0][0], a[1]))
+                break
+    return names
+
+
+def _room_names(outlines, names: dict) -> list[str]:
+    """A unique name per outline: its text, else its layer (numbered when shared)."""
+    per_layer: dict[str, int] = {}
+    for _, layer, _, _ in outlines:
+        per_layer[layer] = per_layer.get(layer, 0) + 1
+    seen_layer: dict[str, int] = {}
+    used: dict[str, int] = {}
+    out = []
+    for i, (_, layer, _, _) in enumerate(outlines):
+        seen_layer[layer] = seen_layer.get(layer, 0) + 1
+        if i in names:
+            name = sorted(names[i])[0][2]
+        elif per_layer[layer] > 1:
+            name = f"{layer} {seen_layer[layer]}"
+        else:
+            name = layer
+        used[name] = used.get(name, 0) + 1
+        if used[name] > 1:
+            name = f"{name} ({used[name]})"
+        out.append(name)
+    return out
+
+
 def read_dxf_plan(path: str | Path, options: Mapping | None = None,
                   file_for_errors: str | None = None) -> DxfPlan:
     """Rooms and walls of a DXF floor plan, in site metres.
@@ -251,52 +351,10 @@ def read_dxf_plan(path: str | Path, options: Mapping | None = None,
     file = file_for_errors or str(p)
     floor, layers, units, offset, name_from = _options(options, file)
     doc = _read_doc(p, file)
-    insunits = int(doc.header.get("$INSUNITS", 0) or 0)
-    if units is not None:
-        insunits = UNIT_CHOICES[units]
-    mpu = metres_per_unit(insunits)
-    if not math.isfinite(mpu):
-        raise ScenarioError(must_be("$INSUNITS", "a length unit in the drawing header (or "
-                                    f"`units` = one of {', '.join(map(repr, UNIT_CHOICES))} in "
-                                    "the room_file table)", insunits), file)
-    flatten = _FLATTEN_M / mpu
+    insunits, mpu = _drawing_scale(doc, units, file)
     msp = doc.modelspace()
     all_layers = tuple(sorted(layer.dxf.name for layer in doc.layers))
-
-    outlines: list[tuple[Any, str, str, str]] = []  # (polygon, layer, role, handle)
-    walls: list[Any] = []
-    for e in msp.query("LWPOLYLINE POLYLINE LINE"):
-        layer = e.dxf.layer
-        role = "ignore" if layer.upper().startswith(LAYER_PREFIX) else _role(layer, layers)
-        if role == "ignore":  # our own zone layers are never rooms
-            continue
-        if e.dxftype() == "LINE":
-            if role == "wall":
-                walls.append(shapely.LineString([(e.dxf.start.x, e.dxf.start.y),
-                                                  (e.dxf.end.x, e.dxf.end.y)]))
-            continue
-        if e.dxftype() == "POLYLINE" and not (e.is_2d_polyline or e.is_3d_polyline):
-            continue
-        try:
-            pts, closed = _entity_xy(e, flatten)
-        except Exception as err:  # noqa: BLE001 - malformed entity data
-            raise ScenarioError(f"entity #{e.dxf.handle} on layer {layer!r} cannot be read "
-                                f"({err})", file) from None
-        if role == "wall":
-            if len(pts) >= 2:
-                walls.append(shapely.Polygon(pts) if closed and len(pts) >= 3
-                             else shapely.LineString(pts))
-            continue
-        if not closed or len(pts) < 3:
-            continue
-        poly = shapely.Polygon(pts)
-        if not shapely.is_valid(poly) or not poly.area > 0:
-            reason = shapely.is_valid_reason(poly) if poly.area > 0 else "zero area"
-            raise ScenarioError(must_be(f"entity #{e.dxf.handle} on layer {layer!r}",
-                                        f"a valid simple closed outline (shapely: {reason})",
-                                        f"{len(pts)} vertices"), file)
-        outlines.append((poly, layer, role, e.dxf.handle))
-
+    outlines, walls = _outlines_and_walls(msp, layers, _FLATTEN_M / mpu, file)
     if not outlines:
         room_layers = [k for k, v in (layers or {}).items() if v in ACCESS_CLASSES]
         mapped = ("all layers" if layers is None
@@ -306,41 +364,12 @@ def read_dxf_plan(path: str | Path, options: Mapping | None = None,
     if floor is None:
         raise ScenarioError("`room_file.floor` is missing; rooms read from a DXF drawing need "
                             "the floor they stand on", file)
-
-    # names: each text goes to the smallest outline containing its anchor
-    names: dict[int, list[tuple[float, float, str]]] = {}
-    if name_from == "text":
-        order = sorted(range(len(outlines)), key=lambda i: outlines[i][0].area)
-        for t in msp.query("TEXT MTEXT"):
-            a = _text_anchor(t)
-            if a is None:
-                continue
-            pt = shapely.Point(a[0])
-            for i in order:
-                if outlines[i][0].covers(pt):
-                    names.setdefault(i, []).append((-a[0][1], a[0][0], a[1]))
-                    break
-    per_layer: dict[str, int] = {}
-    for _, layer, _, _ in outlines:
-        per_layer[layer] = per_layer.get(layer, 0) + 1
-    seen_layer: dict[str, int] = {}
-    rooms: list[Room] = []
-    used: dict[str, int] = {}
-    for i, (poly, layer, role, _) in enumerate(outlines):
-        seen_layer[layer] = seen_layer.get(layer, 0) + 1
-        if i in names:
-            name = sorted(names[i])[0][2]
-        elif per_layer[layer] > 1:
-            name = f"{layer} {seen_layer[layer]}"
-        else:
-            name = layer
-        used[name] = used.get(name, 0) + 1
-        if used[name] > 1:
-            name = f"{name} ({used[name]})"
-        site = _affine(poly, mpu, offset)
-        rooms.append(Room(name, floor, shapely.normalize(site), role))
+    names = _texts_by_outline(msp, outlines) if name_from == "text" else {}
+    rooms = tuple(Room(name, floor, shapely.normalize(_affine(poly, mpu, offset)), role)
+                  for name, (poly, _, role, _) in zip(_room_names(outlines, names), outlines,
+                                                      strict=True))
     walls_site = tuple(_affine(w, mpu, offset) for w in walls)
-    return DxfPlan(tuple(rooms), walls_site, insunits, mpu, offset, all_layers)
+    return DxfPlan(rooms, walls_site, insunits, mpu, offset, all_layers)
 
 
 def load_dxf_rooms(path: str | Path, options: dict, file_for_errors: str) -> DxfPlan:
