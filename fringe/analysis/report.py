@@ -52,11 +52,11 @@ from fringe.field.extents import threshold_extents_m
 from fringe.field.multipole import zonal_moments_Am
 from fringe.io.atomic import atomic_directory, check_output_folder
 from fringe.io.forked import ForkedCall
-from fringe.io.scenario_plan import SitePlan, site_plan
 from fringe.model.building import Boundary
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.constants import VERSION as __version__
 from fringe.model.errors import FringeInputError, ScenarioError
+from fringe.model.site import SitePlan, site_plan
 from fringe.physics.attraction import SiteAttraction, site_attraction
 from fringe.physics.energy import stored_energy_J
 from fringe.physics.exposure import exposure_limits
@@ -165,7 +165,7 @@ def prefetch_quench_data(site) -> None:
     """Start the helium look-ups of the site's ``[[quench]]`` tables in a second process
     (:func:`fringe.physics.quench.prefetch_helium_properties`); a no-op without such tables or
     when they are already started."""
-    quench_inputs = tuple(site.section("quench", ()) or ())
+    quench_inputs = tuple(site.quench)
     if not quench_inputs:
         return
     from fringe.cli.quench import room_conditions
@@ -199,7 +199,7 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     thr_mT = s.thresholds_mT
     thr_T = [t * 1e-3 for t in thr_mT]
     say = progress or (lambda msg: None)
-    quench_inputs = tuple(site.section("quench", ()) or ())
+    quench_inputs = tuple(site.quench)
     prefetch_quench_data(site)  # CoolProp's slow first import overlaps the maps below
 
     mags = []
@@ -517,7 +517,7 @@ def write_zone_drawings(r: ReportResult, folder: str | Path) -> list[Path]:
     """
     from fringe.io.dxf import ATTRACTION_LAYER, write_zones_dxf, zone_layer_name
 
-    site_drawings = () if r.site is None else (r.site.section("room_drawing") or ())
+    site_drawings = () if r.site is None else r.site.room_drawings
     taken: set[str] = set()
     written = []
     for name, fps in r.footprints.items():
@@ -705,7 +705,7 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
         facts, findings)))
 
     # plans
-    room_drawings = () if r.site is None else (r.site.section("room_drawing") or ())
+    room_drawings = () if r.site is None else r.site.room_drawings
     taken: set[str] = set()
     for name, fm in r.floor_maps.items():
         say(f"drawing the plan of floor {name!r}")

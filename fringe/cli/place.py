@@ -100,7 +100,7 @@ def equipment_effect(site, result) -> list[dict]:
     """|B| and verdict at each equipment point before (scenario) and after (best)."""
     from fringe.analysis.placement import moved_site
     from fringe.analysis.verdicts import check_equipment
-    from fringe.io.scenario_plan import site_plan
+    from fringe.model.site import site_plan
 
     plan = site_plan(site)
     if not plan.equipment:
@@ -238,7 +238,7 @@ def placement_sheet(site, result, equipment: list[dict]):
     from fringe.analysis.placement import moved_site
     from fringe.analysis.report import magnet_plan_outline
     from fringe.analysis.zones import floor_map, plan_axes_m, reach_m
-    from fringe.io.scenario_plan import site_plan
+    from fringe.model.site import site_plan
     from fringe.render import drawing as dr
 
     plan = site_plan(site)
@@ -326,7 +326,7 @@ def write_outputs(site, result, equipment, doc: dict, out_dir: str | Path) -> li
 
 def run(args) -> int:
     from fringe.analysis.placement import check_angles, search_placement
-    from fringe.cli.main import print_json
+    from fringe.cli.main import magnet_option, print_json
 
     angles = check_angles(args.angles)
     if args.threshold_mT is not None and not (math.isfinite(args.threshold_mT)
@@ -334,12 +334,12 @@ def run(args) -> int:
         raise ScenarioError(must_be("--threshold-mT", "a positive number of mT",
                                     args.threshold_mT))
     site = load_site(args.scenario)
+    magnet = magnet_option(site, args.magnet)  # the usual errors first: magnet, then region
     if args.out:  # refuse a folder we must not replace before spending time on the search
         from fringe.analysis.placement import parse_region
         from fringe.io.atomic import check_output_folder
-        from fringe.io.scenario_plan import site_plan
+        from fringe.model.site import site_plan
 
-        magnet = site.magnet(args.magnet)  # the usual errors first: magnet, then region
         plan = site_plan(site)
         parse_region(args.region, plan, plan.floor_of_point(magnet.center_m[2]))
         check_output_folder(args.out, scenario_file=site.source_file, marker="place.json")
