@@ -16,6 +16,7 @@ import shapely
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import ScenarioError, must_be
+from fringe.model.verdict import Verdict
 
 
 def register(sub) -> None:
@@ -262,8 +263,8 @@ def placement_sheet(site, result, equipment: list[dict]):
                    [t * 1e-3 for t in result.levels_mT])
     zone_hit = {(b["room"], b["floor"]) for b in best.spill_by_room if b["area_m2"] > 0}
     rooms = [dr.RoomMark(room.name, room.outline, room.access,
-                         "exceeds" if (room.name, room.floor) in zone_hit else
-                         (None if room.access == "controlled" else "within"))
+                         Verdict.EXCEEDS if (room.name, room.floor) in zone_hit else
+                         (None if room.access == "controlled" else Verdict.WITHIN))
              for room in plan.rooms if room.floor == fl.name]
     eq = []
     for e, info in zip(plan.equipment, equipment, strict=False):
