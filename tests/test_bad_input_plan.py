@@ -184,7 +184,7 @@ def test_plan_base_is_valid(write_file):
     from fringe.io.scenario import load_site
 
     site = load_site(write_file(PLAN_TOML))
-    assert [r.name for r in site.section("room")] == ["magnet room", "corridor"]
+    assert [r.name for r in site.rooms] == ["magnet room", "corridor"]
 
 
 @pytest.mark.parametrize("text,expected", [c[1:] for c in CORPUS], ids=[c[0] for c in CORPUS])

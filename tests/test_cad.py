@@ -17,7 +17,7 @@ from fringe.io.dxf import (
     write_zones_dxf,
     zone_layer_name,
 )
-from fringe.model.building import ROOM_LOADERS
+from fringe.io.scenario import ROOM_LOADERS
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import ScenarioError
 
@@ -191,7 +191,7 @@ def test_scenario_room_file_uses_the_dxf_loader(tmp_path):
         'turns = 100\ncurrent_A = 100\n[[floor]]\nname = "ground"\nelevation_m = 0\n'
         '[[room_file]]\npath = "plan.dxf"\nformat = "dxf"\nfloor = "ground"\n')
     site = load_site(scen)
-    rooms = site.section("room")
+    rooms = site.rooms
     assert [r.name for r in rooms] == ["Store"]
     assert math.isclose(rooms[0].outline.area, 12.0, rel_tol=1e-12)
 
@@ -208,7 +208,7 @@ def test_scenario_room_file_with_layer_map_and_units(tmp_path):
         '[[room_file]]\npath = "clinic.dxf"\nformat = "dxf"\nfloor = "ground"\nunits = "mm"\n'
         'offset_m = [10.0, 0.0]\n[room_file.layers]\n"A-MRI" = "controlled"\n'
         '"A-ROOM*" = "open"\n"A-WALL" = "wall"\n')
-    rooms = {r.name: r for r in load_site(scen).section("room")}
+    rooms = {r.name: r for r in load_site(scen).rooms}
     assert set(rooms) == set(EXPECTED_M)
     assert rooms["Magnet room"].access == "controlled"
     moved = shapely.affinity.translate(EXPECTED_M["Magnet room"], 10.0, 0.0)

@@ -106,5 +106,5 @@ def test_report_prefetch_is_the_lookup_the_budget_makes(monkeypatch, demo_site):
     q.helium_properties.cache_clear()
     prefetch_quench_data(demo_site)
     assert len(q._PREFETCHED) == 1
-    budget_for_site(demo_site, demo_site.section("quench")[0])
+    budget_for_site(demo_site, demo_site.quench[0])
     assert not q._PREFETCHED  # collected by the budget's own look-up

@@ -107,7 +107,7 @@ def plan_dir(tmp_path_factory):
 
 def test_geojson_base_loads(plan_dir):
     (plan_dir / "rooms.geojson").write_text(_dumps(GEOJSON), "utf-8")
-    rooms = load_site(plan_dir / "geo.toml").section("room")
+    rooms = load_site(plan_dir / "geo.toml").rooms
     assert [r.name for r in rooms] == ["store", "hall"]
     assert math.isclose(rooms[0].outline.area, 9.0 - 1.0)  # hole kept
 
@@ -140,7 +140,7 @@ DXF_LINES = _dxf_text()
 
 def test_dxf_base_loads(plan_dir):
     (plan_dir / "rooms.dxf").write_text("\n".join(DXF_LINES) + "\n", "utf-8")
-    rooms = load_site(plan_dir / "dxf.toml").section("room")
+    rooms = load_site(plan_dir / "dxf.toml").rooms
     assert len(rooms) == 2 and all(r.outline.area > 0 for r in rooms)
 
 

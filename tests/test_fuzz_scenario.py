@@ -33,8 +33,9 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import fringe
-from fringe.io.scenario import Site, load_site, parse_site
+from fringe.io.scenario import load_site, parse_site
 from fringe.model.errors import ScenarioError
+from fringe.model.site import Site
 
 # -- a tiny TOML writer (inline tables and arrays only; enough for any dict tomllib reads)
 
@@ -85,9 +86,9 @@ def _schema_keys() -> list[str]:
     pat = re.compile(r'\.(?:number|string|vector|tables|table|boolean|raw|has)\(\s*"(\w+)"')
     for f in pkg.glob("*.py"):
         keys |= set(pat.findall(f.read_text(encoding="utf-8")))
-    from fringe.io.scenario import MAGNET_BUILDERS, SECTION_PARSERS
+    from fringe.io.scenario import MAGNET_BUILDERS, TOP_LEVEL_KEYS
 
-    return sorted(keys | set(SECTION_PARSERS) | set(MAGNET_BUILDERS) | {"site", "magnet"})
+    return sorted(keys | set(TOP_LEVEL_KEYS) | set(MAGNET_BUILDERS))
 
 
 SCHEMA_KEYS = _schema_keys()
@@ -285,7 +286,7 @@ def test_bases_are_valid():
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         site = parse_site(copy.deepcopy(BASES[0]), "demo.toml")
-        assert site.magnets and site.section("room")
+        assert site.magnets and site.rooms
         with pytest.raises(ScenarioError, match="no-such-plan.geojson"):
             parse_site(copy.deepcopy(BASES[1]), "small.toml")  # the plan file is absent
         small = copy.deepcopy(BASES[1])

@@ -307,7 +307,7 @@ def test_two_magnets_reported_with_the_combined_field():
     # the north and south rooms measured directly with shapely
     from fringe.analysis.placement import moved_site
     from fringe.analysis.zones import floor_map, footprints, plan_axes_m
-    from fringe.io.scenario_plan import site_plan
+    from fringe.model.site import site_plan
 
     best = res.best
     s2 = moved_site(site, res.magnet, best)

@@ -10,8 +10,8 @@ import pytest
 
 from fringe import ScenarioError, load_site
 from fringe.cli.main import main
-from fringe.io.scenario_quench import QuenchInputs
 from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.site import QuenchInputs
 from fringe.physics.energy import circuit_inductance_H, stored_energy_J
 from fringe.physics.quench import QUENCH_CAUTIONS, helium_properties
 
@@ -113,7 +113,7 @@ def test_json_keys_and_values_from_options(tmp_path, capsys):
 def test_scenario_section_values_and_cli_overrides(tmp_path, capsys):
     path = write(tmp_path, ONE_COIL + QUENCH_TABLE)
     site = load_site(path)
-    assert site.section("quench") == (QuenchInputs("bench solenoid", 120.0, 90.0, 2.0, None,
+    assert site.quench == (QuenchInputs("bench solenoid", 120.0, 90.0, 2.0, None,
                                                    15.0, None),)
     d = run_json(capsys, ["quench", str(path)])  # magnet and values from the [[quench]] table
     assert d["inputs"]["helium_L"] == 120.0 and d["inputs"]["dump_ohm"] == 2.0
@@ -258,7 +258,7 @@ def test_demo_scenario_budget_as_shipped_every_number_and_the_cautions(demo_site
     from CoolProp.CoolProp import PropsSI
 
     m = demo_site.magnets[0]
-    q = demo_site.section("quench")[0]
+    q = demo_site.quench[0]
     assert (q.helium_L, q.room_volume_m3, q.dump_ohm) == (1500.0, 180.0, None)
     d = run_json(capsys, ["quench", demo_site.source_file, "--magnet", m.name])
     W = stored_energy_J(m)

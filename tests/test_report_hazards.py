@@ -126,7 +126,7 @@ layers = {{ {layers} }}
 
     from fringe.analysis.report import build_sheets
 
-    (wall,) = r.site.section("room_drawing")[0].walls
+    (wall,) = r.site.room_drawings[0].walls
     assert wall.length == pytest.approx(10.35) and wall.bounds[1] == pytest.approx(1.8)
     plan = dict(build_sheets(r))["plan-ground"]
     assert "walls (from the floor's DXF drawing)" in [t.get_text() for t in plan.findobj(Text)]

@@ -1,5 +1,5 @@
 """Scenario sections of the building: [plan], [[floor]], [[room]], [[room_file]],
-[[equipment]] (fringe.io.scenario_plan)."""
+[[equipment]] (fringe.io.scenario_plan, fringe.model.site)."""
 
 from __future__ import annotations
 
@@ -8,10 +8,10 @@ import tomllib
 
 import pytest
 
-from fringe.io.scenario import load_site, parse_site
-from fringe.io.scenario_plan import site_plan
-from fringe.model.building import BOUNDARY_CHOICES, ROOM_LOADERS
+from fringe.io.scenario import ROOM_LOADERS, load_site, parse_site
+from fringe.model.building import BOUNDARY_CHOICES
 from fringe.model.errors import ScenarioError
+from fringe.model.site import site_plan
 
 MAGNET = """
 [[magnet]]

@@ -73,10 +73,10 @@ from scipy.optimize import brentq, minimize
 
 from fringe.analysis.verdicts import room_limit
 from fringe.analysis.zones import field_magnitude_T, floor_map, footprints, plan_axes_m, reach_m
-from fringe.io.scenario_plan import SitePlan, site_plan
 from fringe.model.building import Floor
 from fringe.model.errors import ArgumentError, ScenarioError, must_be
 from fringe.model.magnet import Magnet
+from fringe.model.site import SitePlan, site_plan
 
 __all__ = ["Zone", "Placement", "PlacementResult", "zones_of_site", "axis_at_angle",
            "parse_region", "allowed_region", "relative_footprints", "exact_footprints",

@@ -52,11 +52,12 @@ from fringe.field.extents import threshold_extents_m
 from fringe.field.multipole import zonal_moments_Am
 from fringe.io.atomic import atomic_directory, check_output_folder
 from fringe.io.forked import ForkedCall
-from fringe.io.scenario_plan import SitePlan, site_plan
 from fringe.model.building import Boundary
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.constants import VERSION as __version__
 from fringe.model.errors import FringeInputError, ScenarioError
+from fringe.model.site import SitePlan, site_plan
+from fringe.model.verdict import Verdict
 from fringe.physics.attraction import SiteAttraction, site_attraction
 from fringe.physics.energy import stored_energy_J
 from fringe.physics.exposure import exposure_limits
@@ -133,18 +134,18 @@ class ReportResult:
     #: The attraction-hazard zone: extents, floor zones, section zones (fringe.physics.attraction).
     attraction: SiteAttraction | None = field(default=None, compare=False, repr=False)
 
-    def floor_verdict(self, floor: str) -> str:
+    def floor_verdict(self, floor: str) -> Verdict:
         """``exceeds`` when the boundary footprint on ``floor`` reaches beyond its
         controlled rooms by more than :data:`SPILL_TOLERANCE_M2`, else ``within``."""
         spill = self.outside_controlled_m2.get(floor, 0.0)
-        return "exceeds" if spill > SPILL_TOLERANCE_M2 else "within"
+        return Verdict.EXCEEDS if spill > SPILL_TOLERANCE_M2 else Verdict.WITHIN
 
     @property
     def exceeds(self) -> bool:
         """True when any room, equipment or floor verdict is ``exceeds``."""
-        return (any(r.verdict == "exceeds" for r in self.rooms)
-                or any(e.verdict == "exceeds" for e in self.equipment)
-                or any(self.floor_verdict(f) == "exceeds" for f in self.floor_maps))
+        return (any(r.verdict == Verdict.EXCEEDS for r in self.rooms)
+                or any(e.verdict == Verdict.EXCEEDS for e in self.equipment)
+                or any(self.floor_verdict(f) == Verdict.EXCEEDS for f in self.floor_maps))
 
     def floor_footprint(self, floor: str, threshold_mT: float) -> Footprint | None:
         """The footprint of ``threshold_mT`` on ``floor`` (None if not computed)."""
@@ -165,7 +166,7 @@ def prefetch_quench_data(site) -> None:
     """Start the helium look-ups of the site's ``[[quench]]`` tables in a second process
     (:func:`fringe.physics.quench.prefetch_helium_properties`); a no-op without such tables or
     when they are already started."""
-    quench_inputs = tuple(site.section("quench", ()) or ())
+    quench_inputs = tuple(site.quench)
     if not quench_inputs:
         return
     from fringe.cli.quench import room_conditions
@@ -199,7 +200,7 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     thr_mT = s.thresholds_mT
     thr_T = [t * 1e-3 for t in thr_mT]
     say = progress or (lambda msg: None)
-    quench_inputs = tuple(site.section("quench", ()) or ())
+    quench_inputs = tuple(site.quench)
     prefetch_quench_data(site)  # CoolProp's slow first import overlaps the maps below
 
     mags = []
@@ -517,7 +518,7 @@ def write_zone_drawings(r: ReportResult, folder: str | Path) -> list[Path]:
     """
     from fringe.io.dxf import ATTRACTION_LAYER, write_zones_dxf, zone_layer_name
 
-    site_drawings = () if r.site is None else (r.site.section("room_drawing") or ())
+    site_drawings = () if r.site is None else r.site.room_drawings
     taken: set[str] = set()
     written = []
     for name, fps in r.footprints.items():
@@ -695,7 +696,7 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
         findings.append(f"Equipment {e.name}: {dr.format_value(e.field_T * 1e3)} mT at its "
                         f"position (limit {e.limit_T * 1e3:g} mT): {e.verdict}")
     if len(findings) > 24:  # keep the cover to one sheet; the tables list everything
-        keep = [f for f in findings if "exceeds" in f or "outside the controlled" in f]
+        keep = [f for f in findings if Verdict.EXCEEDS in f or "outside the controlled" in f]
         findings = keep[:22] + [f"{len(findings) - len(keep[:22])} further finding(s) "
                                 "within limits or in controlled rooms: see the tables"]
     sheets.append((None, dr.cover_sheet(
@@ -705,7 +706,7 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
         facts, findings)))
 
     # plans
-    room_drawings = () if r.site is None else (r.site.section("room_drawing") or ())
+    room_drawings = () if r.site is None else r.site.room_drawings
     taken: set[str] = set()
     for name, fm in r.floor_maps.items():
         say(f"drawing the plan of floor {name!r}")

@@ -23,20 +23,21 @@ import shapely
 
 from fringe.analysis.zones import FloorMap, Footprint, band_max_at_xy_T, field_magnitude_T
 from fringe.model.building import Boundary, Equipment, Room
+from fringe.model.verdict import Verdict
 
 __all__ = ["VERDICTS", "RoomCheck", "EquipmentCheck", "room_limit", "verdict",
            "room_max_field", "check_rooms", "check_equipment", "boundary_outside_controlled_m2"]
 
-#: Every verdict word, worst first.
-VERDICTS: tuple[str, ...] = ("exceeds", "within", "controlled")
+#: Every verdict, worst first.
+VERDICTS: tuple[Verdict, ...] = tuple(Verdict)
 
 
-def verdict(field_T: float, limit_T: float | None) -> str:
+def verdict(field_T: float, limit_T: float | None) -> Verdict:
     """``exceeds`` if ``field_T`` ≥ ``limit_T``, ``within`` if below, ``controlled`` if
     there is no limit (a controlled room without a limit of its own)."""
     if limit_T is None:
-        return "controlled"
-    return "exceeds" if field_T >= limit_T else "within"
+        return Verdict.CONTROLLED
+    return Verdict.EXCEEDS if field_T >= limit_T else Verdict.WITHIN
 
 
 def room_limit(room: Room, boundary: Boundary) -> tuple[float | None, str]:
@@ -107,8 +108,7 @@ class RoomCheck:
     limit_T : float or None
         The limit checked (None for a controlled room without its own limit), T.
     limit_source : str
-    verdict : str
-        One of :data:`VERDICTS`.
+    verdict : Verdict
     area_above_m2 : tuple of (threshold_mT, area_m2)
         Area of the room inside each footprint, m².
     """
@@ -120,7 +120,7 @@ class RoomCheck:
     max_at_m: tuple[float, float]
     limit_T: float | None
     limit_source: str
-    verdict: str
+    verdict: Verdict
     area_above_m2: tuple[tuple[float, float], ...]
 
 
@@ -154,7 +154,8 @@ class EquipmentCheck:
     field_T : float
         |B| at the point, T.
     limit_T : float
-    verdict : str
+    verdict : Verdict
+        ``exceeds`` or ``within``.
     note : str
     """
 
@@ -163,7 +164,7 @@ class EquipmentCheck:
     floor: str
     field_T: float
     limit_T: float
-    verdict: str
+    verdict: Verdict
     note: str = ""
 
 

@@ -11,7 +11,7 @@ from pathlib import Path
 
 import numpy as np
 
-from fringe.cli.main import EXIT_INTERNAL, print_json
+from fringe.cli.main import EXIT_INTERNAL, magnet_option, print_json
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE, MU0_T_M_PER_A
 from fringe.model.errors import FringeIOError, ScenarioError, must_be
@@ -198,7 +198,7 @@ def run(args) -> int:
     site = load_site(args.scenario)
     if not site.magnets:
         raise ScenarioError("`magnet` must list at least one magnet; got none", args.scenario)
-    magnets = [site.magnet(args.magnet)] if args.magnet else list(site.magnets)
+    magnets = [magnet_option(site, args.magnet)] if args.magnet else list(site.magnets)
     if not (math.isfinite(args.envelope_margin_m) and args.envelope_margin_m >= 0):
         raise ScenarioError(must_be("--envelope-margin-m", "a number >= 0",
                                     args.envelope_margin_m))

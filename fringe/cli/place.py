@@ -16,6 +16,7 @@ import shapely
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import ScenarioError, must_be
+from fringe.model.verdict import Verdict
 
 #: Parameters of :func:`fringe.analysis.placement.search_placement` → this command's options
 #: (errors about a parameter name the option).
@@ -105,7 +106,7 @@ def equipment_effect(site, result) -> list[dict]:
     """|B| and verdict at each equipment point before (scenario) and after (best)."""
     from fringe.analysis.placement import moved_site
     from fringe.analysis.verdicts import check_equipment
-    from fringe.io.scenario_plan import site_plan
+    from fringe.model.site import site_plan
 
     plan = site_plan(site)
     if not plan.equipment:
@@ -243,7 +244,7 @@ def placement_sheet(site, result, equipment: list[dict]):
     from fringe.analysis.placement import moved_site
     from fringe.analysis.report import magnet_plan_outline
     from fringe.analysis.zones import floor_map, plan_axes_m, reach_m
-    from fringe.io.scenario_plan import site_plan
+    from fringe.model.site import site_plan
     from fringe.render import drawing as dr
 
     plan = site_plan(site)
@@ -267,8 +268,8 @@ def placement_sheet(site, result, equipment: list[dict]):
                    [t * 1e-3 for t in result.levels_mT])
     zone_hit = {(b["room"], b["floor"]) for b in best.spill_by_room if b["area_m2"] > 0}
     rooms = [dr.RoomMark(room.name, room.outline, room.access,
-                         "exceeds" if (room.name, room.floor) in zone_hit else
-                         (None if room.access == "controlled" else "within"))
+                         Verdict.EXCEEDS if (room.name, room.floor) in zone_hit else
+                         (None if room.access == "controlled" else Verdict.WITHIN))
              for room in plan.rooms if room.floor == fl.name]
     eq = []
     for e, info in zip(plan.equipment, equipment, strict=False):
@@ -331,7 +332,7 @@ def write_outputs(site, result, equipment, doc: dict, out_dir: str | Path) -> li
 
 def run(args) -> int:
     from fringe.analysis.placement import search_placement
-    from fringe.cli.main import print_json
+    from fringe.cli.main import magnet_option, print_json
 
     angles = check_angles(args.angles)
     if args.threshold_mT is not None and not (math.isfinite(args.threshold_mT)
@@ -339,12 +340,12 @@ def run(args) -> int:
         raise ScenarioError(must_be("--threshold-mT", "a positive number of mT",
                                     args.threshold_mT))
     site = load_site(args.scenario)
+    magnet = magnet_option(site, args.magnet)  # the usual errors first: magnet, then region
     if args.out:  # refuse a folder we must not replace before spending time on the search
         from fringe.analysis.placement import parse_region
         from fringe.io.atomic import check_output_folder
-        from fringe.io.scenario_plan import site_plan
+        from fringe.model.site import site_plan
 
-        magnet = site.magnet(args.magnet)  # the usual errors first: magnet, then region
         plan = site_plan(site)
         parse_region(args.region, plan, plan.floor_of_point(magnet.center_m[2]))
         check_output_folder(args.out, scenario_file=site.source_file, marker="place.json")

@@ -9,11 +9,11 @@ from __future__ import annotations
 import math
 import sys
 
-from fringe.cli.main import print_json
-from fringe.io.scenario import Site, load_site
-from fringe.io.scenario_quench import QuenchInputs, quench_inputs_for
+from fringe.cli.main import magnet_option, print_json
+from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeInputError, ScenarioError, must_be
+from fringe.model.site import QuenchInputs, Site
 from fringe.physics.quench import QuenchBudget, quench_budget
 
 #: CLI option → (QuenchInputs attribute, scenario key, check). One list: parsing,
@@ -59,14 +59,14 @@ def register(sub) -> None:
 
 def _pick_magnet(site: Site, name: str | None) -> str:
     if name is not None:
-        return site.magnet(name).name  # ScenarioError listing the names otherwise
-    tables = site.section("quench", ()) or ()
+        return magnet_option(site, name).name  # ScenarioError listing the names otherwise
+    tables = site.quench
     if len(tables) == 1:
         return tables[0].magnet
     if len(site.magnets) == 1:
         return site.magnets[0].name
-    names = ", ".join(repr(m.name) for m in site.magnets) or "none"
-    raise ScenarioError(f"`--magnet` must be given to choose one of the magnets ({names}); "
+    raise ScenarioError("`--magnet` must be given to choose one of the magnets "
+                        f"({site.magnet_names()}); "
                         "got nothing", site.source_file or None)
 
 
@@ -91,7 +91,7 @@ def _check_option(option: str, kind: str, value: float) -> None:
 def resolve_inputs(args, site: Site) -> QuenchInputs:
     """Merge the scenario's ``[[quench]]`` table with the command-line options."""
     name = _pick_magnet(site, args.magnet)
-    base = quench_inputs_for(site.sections, name) or QuenchInputs(name)
+    base = site.quench_inputs(name) or QuenchInputs(name)
     values = {}
     for option, attr, kind in _OPTIONS:
         v = getattr(args, attr, None)

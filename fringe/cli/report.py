@@ -8,6 +8,7 @@ from pathlib import Path
 
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.verdict import Verdict
 
 EXIT_OK, EXIT_EXCEEDS = 0, 3
 
@@ -91,9 +92,9 @@ def terminal_summary(result, out_dir: str | Path) -> str:
                      + (f" — falls below {', '.join(below)} oxygen if the vent fails: the quench "
                         "vent and oxygen monitoring must be in place per local code and the "
                         "supplier" if below else ""))
-    n_ex = sum(c.verdict == "exceeds" for c in r.rooms) + sum(
-        e.verdict == "exceeds" for e in r.equipment)
-    spill = [f for f in r.floor_maps if r.floor_verdict(f) == "exceeds"]
+    n_ex = sum(c.verdict == Verdict.EXCEEDS for c in r.rooms) + sum(
+        e.verdict == Verdict.EXCEEDS for e in r.equipment)
+    spill = [f for f in r.floor_maps if r.floor_verdict(f) == Verdict.EXCEEDS]
     if spill:
         lines.append(f"the {r.boundary.value_mT:g} mT line reaches beyond the controlled rooms "
                      f"on floor(s) {', '.join(spill)}: extend the controlled access area or "

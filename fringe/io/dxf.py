@@ -13,7 +13,7 @@ name. Drawing units come from the ``$INSUNITS`` header and are scaled to metres;
 ``site_xy = drawing_xy × metres_per_unit + offset_m``.
 
 :func:`load_dxf_rooms` is the room-file loader registered as
-``fringe.model.building.ROOM_LOADERS["dxf"]``; its options are the keys of
+``fringe.io.scenario.ROOM_LOADERS["dxf"]``; its options are the keys of
 :data:`DXF_ROOM_OPTION_KEYS`.
 
 Writing
@@ -47,7 +47,7 @@ import shapely
 import shapely.affinity
 
 from fringe.io.atomic import atomic_file
-from fringe.model.building import ACCESS_CLASSES, ROOM_LOADERS, Room
+from fringe.model.building import ACCESS_CLASSES, Room
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeInputError, FringeIOError, ScenarioError, must_be
 
@@ -381,7 +381,6 @@ def load_dxf_rooms(path: str | Path, options: dict, file_for_errors: str) -> Dxf
 #: The scenario keys this loader takes from its ``[[room_file]]`` table (the parser
 #: forwards every key listed here that the table has).
 load_dxf_rooms.option_keys = DXF_ROOM_OPTION_KEYS  # type: ignore[attr-defined]
-ROOM_LOADERS["dxf"] = load_dxf_rooms
 
 
 # -- geometry helpers ---------------------------------------------------------------------

@@ -4,8 +4,13 @@ Every problem is reported as one :class:`~fringe.model.errors.ScenarioError` nam
 the key path (``magnet[1].coil[0].r_outer_m``), what was expected and what was found.
 Unknown keys are errors with a "did you mean" suggestion.
 
-Sections are parsed by functions registered in ``_SECTIONS``; each feature adds its
-own section parser there, so the list of accepted top-level keys is one list.
+The top-level sections are parsed in a fixed order (:data:`TOP_LEVEL_KEYS`) by the
+parsers of :mod:`fringe.io.scenario_plan` (``plan``, ``floor``, ``room`` and
+``room_file``, ``equipment``) and :mod:`fringe.io.scenario_quench` (``quench``); magnets
+given by data-sheet numbers by :mod:`fringe.io.scenario_datasheet`
+(:data:`MAGNET_BUILDERS`); room files by the loaders of :data:`ROOM_LOADERS`. Each of
+those modules reads its tables with :class:`fringe.io.reader.Reader` and knows nothing
+of this module.
 """
 
 from __future__ import annotations
@@ -14,176 +19,48 @@ import difflib
 import math
 import tomllib
 import warnings
-from collections.abc import Callable
-from dataclasses import dataclass, field
+from collections.abc import Callable, Mapping
 from pathlib import Path
+from types import MappingProxyType
 from typing import Any
 
+from fringe.io.dxf import load_dxf_rooms
+from fringe.io.reader import Reader
+from fringe.io.scenario_datasheet import DATASHEET_KEY, parse_datasheet
+from fringe.io.scenario_plan import (
+    load_geojson_rooms,
+    parse_equipment,
+    parse_floors,
+    parse_plan,
+    parse_rooms,
+)
+from fringe.io.scenario_quench import SECTION_KEY as QUENCH_KEY
+from fringe.io.scenario_quench import parse_quench_section
 from fringe.model.constants import MAX_COORDINATE_M
-from fringe.model.errors import FringeWarning, ScenarioError, must_be
+from fringe.model.errors import FringeWarning, ScenarioError
 from fringe.model.magnet import Coil, Magnet
+from fringe.model.site import Site
 
-__all__ = ["Site", "load_site", "parse_site", "Reader"]
+__all__ = ["load_site", "parse_site", "TOP_LEVEL_KEYS", "MAGNET_BUILDERS", "ROOM_LOADERS"]
 
+#: Every top-level key of a scenario, in the order its section is parsed (``room_file``
+#: is read together with ``room``). Any other key is refused with a "did you mean".
+TOP_LEVEL_KEYS: tuple[str, ...] = ("site", "magnet", "plan", "floor", "room", "room_file",
+                                   "equipment", QUENCH_KEY)
 
-@dataclass(frozen=True)
-class Site:
-    """Everything a scenario describes, validated and frozen.
+#: Parsers for alternative magnet descriptions (e.g. data-sheet numbers), keyed by the
+#: sub-table name that selects them. Each takes the magnet Reader and the magnet's name
+#: and returns coils, a description and an origin tag.
+MAGNET_BUILDERS: Mapping[str, Callable[[Reader, str], tuple[tuple[Coil, ...], str, str]]] = (
+    MappingProxyType({DATASHEET_KEY: parse_datasheet}))
 
-    Attributes
-    ----------
-    name : str
-        Site name printed on every output.
-    magnets : tuple of Magnet
-    source_file : str
-        The scenario file it was loaded from ("" when built in code).
-    sections : dict
-        Further parsed sections keyed by top-level scenario key (floors, rooms, …),
-        each owned by the feature module that parses it.
-    """
-
-    name: str
-    magnets: tuple[Magnet, ...]
-    source_file: str = ""
-    sections: dict[str, Any] = field(default_factory=dict, compare=False)
-
-    def magnet(self, name: str) -> Magnet:
-        """The magnet called ``name``; :class:`ScenarioError` listing the names otherwise."""
-        for m in self.magnets:
-            if m.name == name:
-                return m
-        names = ", ".join(repr(m.name) for m in self.magnets) or "none"
-        raise ScenarioError(must_be("--magnet", f"one of the site's magnets ({names})", name),
-                            self.source_file or None)
-
-    def section(self, key: str, default: Any = None) -> Any:
-        """A further parsed section (e.g. ``"floor"``), or ``default``."""
-        return self.sections.get(key, default)
-
-
-def finite_number(v: int | float) -> bool:
-    """True for a finite number; False for NaN, ±inf and ints too large for a float."""
-    try:
-        return math.isfinite(v)
-    except OverflowError:
-        return False
-
-
-_TYPE_WORDS = {bool: "true or false", int: "a whole number", float: "a number",
-               str: "a string", list: "an array", dict: "a table"}
-
-
-class Reader:
-    """A TOML table with the key path it came from; checks and consumes keys.
-
-    ``finish()`` reports the first key never consumed, with a "did you mean".
-    """
-
-    def __init__(self, data: Any, path: str, file: str | None) -> None:
-        self.file = file
-        self.path = path
-        if not isinstance(data, dict):
-            self.fail(path, "a table", data)
-        self.data = data
-        self.used: set[str] = set()
-
-    def key(self, name: str) -> str:
-        return f"{self.path}.{name}" if self.path else name
-
-    def fail(self, key_path: str, expectation: str, got: Any) -> None:
-        raise ScenarioError(must_be(key_path, expectation, got), self.file)
-
-    def has(self, name: str) -> bool:
-        return name in self.data
-
-    def raw(self, name: str, default: Any = ...) -> Any:
-        self.used.add(name)
-        if name not in self.data:
-            if default is ...:
-                # A misspelt required key is reported as missing; name the likely typo.
-                near = difflib.get_close_matches(
-                    name, [k for k in self.data if k not in self.used], n=1, cutoff=0.8)
-                extra = (f" (found `{self.key(near[0])}`: did you mean `{self.key(name)}`?)"
-                         if near else "")
-                raise ScenarioError(f"`{self.key(name)}` is missing; it is required{extra}",
-                                    self.file)
-            return default
-        return self.data[name]
-
-    def number(self, name: str, default: Any = ..., *, low: float | None = None,
-               high: float | None = None, low_open: bool = False,
-               integer: bool = False) -> float:
-        v = self.raw(name, default)
-        if v is default and default is not ...:
-            return v
-        kp = self.key(name)
-        what = "a whole number" if integer else "a number"
-        if isinstance(v, bool) or not isinstance(v, (int, float)):
-            self.fail(kp, what, v)
-        if not finite_number(v):
-            self.fail(kp, "a finite number", v)
-        if integer and not float(v).is_integer():
-            self.fail(kp, what, v)
-        if low is not None and (v <= low if low_open else v < low):
-            self.fail(kp, f"{what} {'>' if low_open else '≥'} {low:g}", v)
-        if high is not None and v > high:
-            self.fail(kp, f"{what} ≤ {high:g}", v)
-        return int(v) if integer else float(v)
-
-    def string(self, name: str, default: Any = ..., *, choices: tuple[str, ...] | None = None,
-               nonempty: bool = True) -> str:
-        v = self.raw(name, default)
-        if v is default and default is not ...:
-            return v
-        kp = self.key(name)
-        if not isinstance(v, str) or (nonempty and not v.strip()):
-            self.fail(kp, "a non-empty string" if nonempty else "a string", v)
-        if choices is not None and v not in choices:
-            hint = difflib.get_close_matches(v, choices, n=1)
-            extra = f" (did you mean {hint[0]!r}?)" if hint else ""
-            self.fail(kp, f"one of {', '.join(map(repr, choices))}{extra}", v)
-        return v
-
-    def boolean(self, name: str, default: Any = ...) -> bool:
-        v = self.raw(name, default)
-        if not isinstance(v, bool):
-            self.fail(self.key(name), "true or false", v)
-        return v
-
-    def vector(self, name: str, length: int, default: Any = ...) -> tuple[float, ...]:
-        v = self.raw(name, default)
-        if v is default and default is not ...:
-            return v
-        kp = self.key(name)
-        if (not isinstance(v, list) or len(v) != length
-                or any(isinstance(x, bool) or not isinstance(x, (int, float)) for x in v)):
-            self.fail(kp, f"an array of {length} numbers", v)
-        if not all(finite_number(x) for x in v):
-            self.fail(kp, f"an array of {length} finite numbers", v)
-        return tuple(float(x) for x in v)
-
-    def tables(self, name: str, *, required: bool = False) -> list[Reader]:
-        v = self.raw(name, ... if required else [])
-        kp = self.key(name)
-        if isinstance(v, dict):
-            v = [v]
-        if not isinstance(v, list):
-            self.fail(kp, f"an array of tables ([[{kp}]])", v)
-        return [Reader(item, f"{kp}[{i}]", self.file) for i, item in enumerate(v)]
-
-    def table(self, name: str) -> Reader | None:
-        if name not in self.data:
-            self.used.add(name)
-            return None
-        return Reader(self.raw(name), self.key(name), self.file)
-
-    def finish(self) -> None:
-        for k in self.data:
-            if k not in self.used:
-                hint = difflib.get_close_matches(k, [x for x in self.used if x not in self.data]
-                                                 + list(self.used), n=1, cutoff=0.6)
-                extra = f"; did you mean `{self.key(hint[0])}`?" if hint else ""
-                raise ScenarioError(f"`{self.key(k)}` is not a known key{extra}", self.file)
+#: Loaders of room outlines from plan files (``[[room_file]] format``), keyed by format
+#: name. Each is ``fn(path, options: dict, file_for_errors: str)`` returning a list of
+#: Room, or a drawing with a ``rooms`` attribute (:class:`fringe.io.dxf.DxfPlan`, which
+#: also carries the drawing's walls and offset); its ``option_keys`` attribute names
+#: the further ``[[room_file]]`` keys it takes.
+ROOM_LOADERS: Mapping[str, Callable[..., Any]] = MappingProxyType(
+    {"geojson": load_geojson_rooms, "dxf": load_dxf_rooms})
 
 
 # -- magnets -------------------------------------------------------------------------
@@ -202,12 +79,6 @@ def parse_coil(r: Reader) -> Coil:
     cur = r.number("current_A")
     r.finish()
     return Coil(ri, ro, z0, z1, turns, cur)
-
-
-#: Parsers for alternative magnet descriptions (e.g. data-sheet numbers), keyed by the
-#: sub-table name that selects them. Each takes the magnet Reader and returns coils,
-#: a description and an origin tag.
-MAGNET_BUILDERS: dict[str, Callable[[Reader, str], tuple[tuple[Coil, ...], str, str]]] = {}
 
 
 def parse_magnet(r: Reader) -> Magnet:
@@ -278,17 +149,6 @@ def _parse_site_table(r: Reader | None) -> dict[str, Any]:
     return out
 
 
-#: Top-level sections other than ``site`` and ``magnet``: key → parser(root Reader, file
-#: Path, magnets) returning the parsed section stored in ``Site.sections[key]``.
-#: Registered by feature modules at import of :mod:`fringe.io.sections`.
-SECTION_PARSERS: dict[str, Callable[[Reader, Path, tuple[Magnet, ...], dict], Any]] = {}
-
-
-#: Top-level keys read by a section parser besides its own key (e.g. ``room_file``,
-#: read by the ``room`` parser); parsers add theirs here.
-EXTRA_TOP_LEVEL_KEYS: set[str] = set()
-
-
 def _check_top_level_spelling(root: Reader) -> None:
     """Refuse a misspelt section name before any section is parsed.
 
@@ -296,7 +156,7 @@ def _check_top_level_spelling(root: Reader) -> None:
     ``[[floors]]`` would first make ``[[room]]`` fail on its unknown floor, hiding the
     real fault. A key that is not known but close to a known one is reported at once.
     """
-    known = {"site", "magnet", *SECTION_PARSERS, *EXTRA_TOP_LEVEL_KEYS}
+    known = set(TOP_LEVEL_KEYS)
     for k in root.data:
         if k in known:
             continue
@@ -308,8 +168,6 @@ def _check_top_level_spelling(root: Reader) -> None:
 
 def parse_site(data: dict, file: str | Path = "<scenario>") -> Site:
     """Validate an already-decoded TOML mapping into a :class:`Site`."""
-    from fringe.io import sections  # noqa: F401  (registers section parsers)
-
     file = str(file)
     root = Reader(data, "", file)
     _check_top_level_spelling(root)
@@ -320,11 +178,14 @@ def parse_site(data: dict, file: str | Path = "<scenario>") -> Site:
         if m.name in seen:
             root.fail(f"magnet[{i}].name", "unique among magnets", m.name)
         seen.add(m.name)
-    parsed: dict[str, Any] = {}
-    for key, parser in SECTION_PARSERS.items():
-        parsed[key] = parser(root, Path(file), mags, parsed)
+    plan = parse_plan(root)
+    floors = parse_floors(root, plan)
+    rooms, drawings = parse_rooms(root, Path(file), floors, ROOM_LOADERS)
+    equipment = parse_equipment(root)
+    quench = parse_quench_section(root, mags)
     root.finish()
-    return Site(site_info.get("name", "unnamed site"), mags, file, parsed)
+    return Site(site_info.get("name", "unnamed site"), mags, file, plan=plan, floors=floors,
+                rooms=rooms, equipment=equipment, room_drawings=drawings, quench=quench)
 
 
 def load_site(path: str | Path) -> Site:

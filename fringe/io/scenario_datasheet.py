@@ -27,7 +27,7 @@ from __future__ import annotations
 import warnings
 from functools import lru_cache
 
-from fringe.io.scenario import MAGNET_BUILDERS, Reader
+from fringe.io.reader import Reader
 from fringe.model.errors import FringeWarning
 from fringe.physics.fit import MAX_CENTER_FIELD_T, FieldLine, FitResult, fit_magnet
 
@@ -61,7 +61,8 @@ def _cached_fit(center_field_T: float, lines: tuple[tuple[float, float, float], 
 
 
 def parse_datasheet(r: Reader, name: str):
-    """Builder for ``MAGNET_BUILDERS["datasheet"]``: returns (coils, description, origin)."""
+    """Builder of ``fringe.io.scenario.MAGNET_BUILDERS["datasheet"]``: the magnet table
+    ``r`` of magnet ``name`` → (coils, description, origin)."""
     d = r.table(DATASHEET_KEY)
     b0 = d.number("center_field_T", low=0.0, low_open=True, high=MAX_CENTER_FIELD_T)
     shielded = d.boolean("shielded", True)
@@ -86,5 +87,3 @@ def parse_datasheet(r: Reader, name: str):
         warnings.warn(f"{where}magnet {name!r} (`{d.path}`): {msg}", FringeWarning, stacklevel=2)
     return res.magnet.coils, datasheet_description(res, shielded), ORIGIN
 
-
-MAGNET_BUILDERS[DATASHEET_KEY] = parse_datasheet

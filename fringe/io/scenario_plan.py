@@ -1,9 +1,9 @@
 """Scenario sections of the building: ``[plan]``, ``[[floor]]``, ``[[room]]``,
 ``[[room_file]]`` and ``[[equipment]]``; plus the GeoJSON room loader.
 
-Parsers register in :data:`fringe.io.scenario.SECTION_PARSERS` (imported once by
-:mod:`fringe.io.sections`); their results land in ``Site.sections`` and are gathered by
-:func:`site_plan` into one frozen :class:`SitePlan`.
+:func:`fringe.io.scenario.parse_site` calls these parsers in turn; their results are
+the building fields of :class:`fringe.model.site.Site` (gathered by
+:func:`fringe.model.site.site_plan` into one :class:`~fringe.model.site.SitePlan`).
 
 See ``docs/scenario.md`` ("Floors, rooms, equipment") for every key.
 """
@@ -12,19 +12,17 @@ from __future__ import annotations
 
 import difflib
 import json
-import math
 import warnings
-from dataclasses import dataclass
+from collections.abc import Callable, Mapping
 from pathlib import Path
 from typing import Any
 
 import shapely
 
-from fringe.io.scenario import EXTRA_TOP_LEVEL_KEYS, SECTION_PARSERS, Reader, finite_number
+from fringe.io.reader import Reader, finite_number
 from fringe.model.building import (
     ACCESS_CLASSES,
     BOUNDARY_CHOICES,
-    ROOM_LOADERS,
     Boundary,
     Equipment,
     Floor,
@@ -32,104 +30,20 @@ from fringe.model.building import (
 )
 from fringe.model.constants import DEFAULT_THRESHOLDS_MT
 from fringe.model.errors import FringeWarning, ScenarioError, must_be
+from fringe.model.site import (
+    DEFAULT_BAND_M,
+    DEFAULT_BAND_STEP_M,
+    DEFAULT_BOUNDARY,
+    DEFAULT_FLOOR,
+    DEFAULT_GRID_STEP_M,
+    PlanSettings,
+    RoomDrawing,
+    default_settings,
+    with_boundary,
+)
 
-__all__ = ["PlanSettings", "SitePlan", "site_plan", "outline_polygon", "load_geojson_rooms",
-           "DEFAULT_BOUNDARY", "DEFAULT_GRID_STEP_M", "DEFAULT_BAND_STEP_M", "DEFAULT_BAND_M",
-           "DEFAULT_FLOOR"]
-
-#: Default boundary choice (key of :data:`fringe.model.building.BOUNDARY_CHOICES`): 0.5 mT.
-DEFAULT_BOUNDARY: str = "icnirp-2009"
-#: Default plan-grid step in m. 0.1 m keeps contour positions within a few cm
-#: (linear interpolation between nodes) while a 25 m × 15 m floor stays ~40 000 nodes.
-DEFAULT_GRID_STEP_M: float = 0.1
-#: Default largest vertical step between sampled levels of an occupied band, m.
-DEFAULT_BAND_STEP_M: float = 0.25
-#: Default occupied band above each floor: (bottom, top) in m.
-DEFAULT_BAND_M: tuple[float, float] = (0.0, 2.0)
-#: The floor assumed when a scenario declares none.
-DEFAULT_FLOOR: Floor = Floor("ground", 0.0)
-
-
-@dataclass(frozen=True)
-class PlanSettings:
-    """Site-wide plan settings from the ``[plan]`` table.
-
-    Attributes
-    ----------
-    boundary : Boundary
-        The controlled-area boundary value (mT) and its source.
-    thresholds_mT : tuple of float
-        Field lines drawn and reported, ascending; always includes the boundary value.
-    grid_step_m : float
-        Plan and section grid step, m.
-    band_step_m : float
-        Largest vertical step between sampled levels of an occupied band, m.
-    band_m : tuple of 2 float
-        Site-wide occupied band (bottom, top) above each floor, m.
-    extent_m : tuple or None
-        Plan window ((x_min, y_min), (x_max, y_max)) in m, or None to fit the site.
-    """
-
-    boundary: Boundary
-    thresholds_mT: tuple[float, ...]
-    grid_step_m: float = DEFAULT_GRID_STEP_M
-    band_step_m: float = DEFAULT_BAND_STEP_M
-    band_m: tuple[float, float] = DEFAULT_BAND_M
-    extent_m: tuple[tuple[float, float], tuple[float, float]] | None = None
-    #: Exposure limits drawn on section sheets (keys of fringe.physics.exposure.EXPOSURE_LIMITS);
-    #: all of them by default, none for an empty list.
-    exposure_lines: tuple[str, ...] | None = None
-
-
-def default_settings() -> PlanSettings:
-    """Settings used when a scenario has no ``[plan]`` table."""
-    v, src = BOUNDARY_CHOICES[DEFAULT_BOUNDARY]
-    return PlanSettings(Boundary(v, src), _with_boundary(DEFAULT_THRESHOLDS_MT, v))
-
-
-@dataclass(frozen=True)
-class SitePlan:
-    """Everything the maps and checks need about the building."""
-
-    settings: PlanSettings
-    floors: tuple[Floor, ...]
-    rooms: tuple[Room, ...]
-    equipment: tuple[Equipment, ...]
-    floors_declared: bool = True
-
-    def floor(self, name: str) -> Floor:
-        """The floor called ``name`` (KeyError otherwise)."""
-        for f in self.floors:
-            if f.name == name:
-                return f
-        raise KeyError(name)
-
-    def floor_of_point(self, z_m: float) -> Floor:
-        """The floor a point at height ``z_m`` stands on: the highest floor at or below it
-        (the lowest floor for points below every floor)."""
-        below = [f for f in self.floors if f.elevation_m <= z_m + 1e-9]
-        if below:
-            return max(below, key=lambda f: f.elevation_m)
-        return min(self.floors, key=lambda f: f.elevation_m)
-
-
-def site_plan(site) -> SitePlan:
-    """Gather the parsed building sections of ``site`` (defaults where absent)."""
-    settings = site.section("plan") or default_settings()
-    floors = site.section("floor") or ()
-    declared = bool(floors)
-    if not floors:
-        floors = (Floor(DEFAULT_FLOOR.name, DEFAULT_FLOOR.elevation_m, *settings.band_m),)
-    return SitePlan(settings, tuple(floors), tuple(site.section("room") or ()),
-                    tuple(site.section("equipment") or ()), declared)
-
-
-def _with_boundary(thresholds_mT, boundary_mT: float) -> tuple[float, ...]:
-    vals = {float(t) for t in thresholds_mT}
-    if not any(math.isclose(t, boundary_mT, rel_tol=1e-9) for t in vals):
-        vals.add(float(boundary_mT))
-    return tuple(sorted(vals))
-
+__all__ = ["parse_plan", "parse_floors", "parse_rooms", "parse_equipment", "outline_polygon",
+           "load_geojson_rooms", "GEOJSON_ROOM_PROPERTIES"]
 
 def _band(r: Reader, name: str, default: tuple[float, float]) -> tuple[float, float]:
     if not r.has(name):
@@ -144,7 +58,7 @@ def _band(r: Reader, name: str, default: tuple[float, float]) -> tuple[float, fl
 
 # -- [plan] -------------------------------------------------------------------------
 
-def parse_plan(root: Reader, file: Path, magnets, parsed: dict) -> PlanSettings:
+def parse_plan(root: Reader) -> PlanSettings:
     """Parse the optional ``[plan]`` table (see docs/scenario.md)."""
     r = root.table("plan")
     if r is None:
@@ -202,15 +116,15 @@ def parse_plan(root: Reader, file: Path, magnets, parsed: dict) -> PlanSettings:
                        f"one of {', '.join(map(repr, EXPOSURE_LIMITS))}", x)
         exposure = tuple(dict.fromkeys(ex))
     r.finish()
-    return PlanSettings(boundary, _with_boundary(th, boundary.value_mT), step, band_step,
+    return PlanSettings(boundary, with_boundary(th, boundary.value_mT), step, band_step,
                         band, extent, exposure)
 
 
 # -- [[floor]] ------------------------------------------------------------------------
 
-def parse_floors(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Floor, ...]:
-    """Parse ``[[floor]]`` tables: ``name``, ``elevation_m``, optional ``occupied_band_m``."""
-    settings: PlanSettings = parsed.get("plan") or default_settings()
+def parse_floors(root: Reader, settings: PlanSettings) -> tuple[Floor, ...]:
+    """Parse ``[[floor]]`` tables: ``name``, ``elevation_m``, optional ``occupied_band_m``
+    (default: the ``[plan]`` band of ``settings``)."""
     out: list[Floor] = []
     for fr in root.tables("floor"):
         name = fr.string("name")
@@ -380,12 +294,28 @@ def load_geojson_rooms(path: str | Path, options: dict, file_for_errors: str) ->
     return rooms
 
 
-ROOM_LOADERS["geojson"] = load_geojson_rooms
+def parse_rooms(root: Reader, file: Path, floors: tuple[Floor, ...],
+                loaders: Mapping[str, Callable[..., Any]],
+                ) -> tuple[tuple[Room, ...], tuple[RoomDrawing, ...]]:
+    """Parse ``[[room]]`` tables and rooms loaded through ``[[room_file]]``.
 
+    Parameters
+    ----------
+    root : Reader
+        The scenario's top-level table.
+    file : Path
+        The scenario file; relative ``[[room_file]]`` paths are taken from its folder.
+    floors : tuple of Floor
+        The declared floors (empty: only the implied :data:`DEFAULT_FLOOR`).
+    loaders : mapping
+        Room-file loaders by ``format`` name (:data:`fringe.io.scenario.ROOM_LOADERS`).
 
-def parse_rooms(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Room, ...]:
-    """Parse ``[[room]]`` tables and rooms loaded through ``[[room_file]]``."""
-    floors = parsed.get("floor") or ()
+    Returns
+    -------
+    rooms : tuple of Room
+    drawings : tuple of RoomDrawing
+        The DXF drawings rooms were read from.
+    """
     floor_names = tuple(f.name for f in floors) or (DEFAULT_FLOOR.name,)
     rooms: list[tuple[Room, str]] = []  # (room, key path for errors)
 
@@ -409,19 +339,19 @@ def parse_rooms(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Room, 
     drawings: list[RoomDrawing] = []
     for fr in root.tables("room_file"):
         rel = fr.string("path")
-        fmt = fr.string("format", "geojson", choices=tuple(sorted(ROOM_LOADERS)))
+        fmt = fr.string("format", "geojson", choices=tuple(sorted(loaders)))
         default_floor = fr.string("floor", None)
         if default_floor is not None:
             check_floor(default_floor, fr.key("floor"), fr.file)
         # Further keys are options of the chosen loader, which declares them in its
         # ``option_keys`` attribute and validates their values itself.
-        option_keys = tuple(getattr(ROOM_LOADERS[fmt], "option_keys", ()))
+        option_keys = tuple(getattr(loaders[fmt], "option_keys", ()))
         options = {k: fr.raw(k) for k in option_keys if k != "floor" and fr.has(k)}
         fr.finish()
         p = Path(rel)
         if not p.is_absolute():
             p = Path(file).parent / p
-        result = ROOM_LOADERS[fmt](p, {"floor": default_floor, **options}, str(p))
+        result = loaders[fmt](p, {"floor": default_floor, **options}, str(p))
         loaded = list(getattr(result, "rooms", result))
         if fmt == "dxf":  # the report draws its walls and writes its zones back into it
             drawings.append(RoomDrawing(str(p), tuple(sorted({rm.floor for rm in loaded})),
@@ -435,34 +365,12 @@ def parse_rooms(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Room, 
         if room.name in seen:
             raise ScenarioError(must_be(kp, "unique among rooms", room.name), root.file)
         seen.add(room.name)
-    parsed["room_drawing"] = tuple(drawings)
-    return tuple(r for r, _ in rooms)
-
-
-@dataclass(frozen=True)
-class RoomDrawing:
-    """A CAD drawing rooms were read from (``[[room_file]] format = "dxf"``).
-
-    Attributes
-    ----------
-    path : str
-    floors : tuple of str
-        Floors of the rooms it gave.
-    offset_m : (float, float)
-        Its ``offset_m`` (drawing origin in the site frame, m).
-    walls : tuple of shapely geometry
-        Lines and outlines on its wall layers, site metres (drawn on the plan sheets).
-    """
-
-    path: str
-    floors: tuple[str, ...]
-    offset_m: tuple[float, float]
-    walls: tuple = ()
+    return tuple(r for r, _ in rooms), tuple(drawings)
 
 
 # -- [[equipment]] --------------------------------------------------------------------
 
-def parse_equipment(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Equipment, ...]:
+def parse_equipment(root: Reader) -> tuple[Equipment, ...]:
     """Parse ``[[equipment]]`` tables: ``name``, ``position_m``, ``limit_mT``, ``note``."""
     out: list[Equipment] = []
     for er in root.tables("equipment"):
@@ -475,10 +383,3 @@ def parse_equipment(root: Reader, file: Path, magnets, parsed: dict) -> tuple[Eq
         er.finish()
         out.append(Equipment(name, pos, limit, note))
     return tuple(out)
-
-
-SECTION_PARSERS["plan"] = parse_plan
-SECTION_PARSERS["floor"] = parse_floors
-SECTION_PARSERS["room"] = parse_rooms
-SECTION_PARSERS["equipment"] = parse_equipment
-EXTRA_TOP_LEVEL_KEYS.add("room_file")  # read by parse_rooms

@@ -11,48 +11,24 @@ One table per magnet::
     room_temperature_C = 20.0      # optional, °C (default 20)
     room_pressure_kPa = 101.325    # optional, kPa (default 101.325)
 
-The parsed section (``site.section("quench")``) is a tuple of :class:`QuenchInputs`.
+The parsed section (``Site.quench``) is a tuple of :class:`fringe.model.site.QuenchInputs`.
 Options of ``fringe quench`` override these values.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-from pathlib import Path
-
-from fringe.io.scenario import SECTION_PARSERS, Reader
+from fringe.io.reader import Reader
 from fringe.model.magnet import Magnet
+from fringe.model.site import QuenchInputs
 
-__all__ = ["QuenchInputs", "parse_quench_section", "quench_inputs_for", "SECTION_KEY"]
+__all__ = ["parse_quench_section", "SECTION_KEY"]
 
 #: Top-level scenario key of this section.
 SECTION_KEY: str = "quench"
 
 
-@dataclass(frozen=True)
-class QuenchInputs:
-    """Inputs of a quench budget for one magnet (all optional except magnet).
-
-    Attributes
-    ----------
-    magnet : str
-    helium_L, room_volume_m3, dump_ohm, magnet_resistance_ohm,
-    room_temperature_C, room_pressure_kPa : float or None
-        None where the scenario does not give the value.
-    """
-
-    magnet: str
-    helium_L: float | None = None
-    room_volume_m3: float | None = None
-    dump_ohm: float | None = None
-    magnet_resistance_ohm: float | None = None
-    room_temperature_C: float | None = None
-    room_pressure_kPa: float | None = None
-
-
-def parse_quench_section(root: Reader, file_path: Path, magnets: tuple[Magnet, ...],
-                         parsed: dict) -> tuple[QuenchInputs, ...]:
-    """Parse every ``[[quench]]`` table; registered in ``SECTION_PARSERS["quench"]``."""
+def parse_quench_section(root: Reader, magnets: tuple[Magnet, ...]) -> tuple[QuenchInputs, ...]:
+    """Parse every ``[[quench]]`` table (each names one of ``magnets``)."""
     names = tuple(m.name for m in magnets)
     out: list[QuenchInputs] = []
     seen: set[str] = set()
@@ -75,14 +51,3 @@ def parse_quench_section(root: Reader, file_path: Path, magnets: tuple[Magnet, .
         r.finish()
         out.append(q)
     return tuple(out)
-
-
-def quench_inputs_for(sections: dict | None, magnet: str) -> QuenchInputs | None:
-    """The ``[[quench]]`` table of ``magnet`` in a site's sections, or None."""
-    for q in (sections or {}).get(SECTION_KEY, ()) or ():
-        if q.magnet == magnet:
-            return q
-    return None
-
-
-SECTION_PARSERS[SECTION_KEY] = parse_quench_section

@@ -1,17 +1,15 @@
 """The building: floors, rooms, sensitive equipment and the boundary choice.
 
-Only the model lives here (frozen dataclasses and the registries of allowed names);
-scenario parsing and plan-file loaders register themselves against it.
+Only the model lives here (frozen dataclasses and the tables of allowed names); the
+scenario reader and the plan-file loaders live in :mod:`fringe.io`.
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
-__all__ = ["Floor", "Room", "Equipment", "Boundary", "ACCESS_CLASSES", "BOUNDARY_CHOICES",
-           "ROOM_LOADERS"]
+__all__ = ["Floor", "Room", "Equipment", "Boundary", "ACCESS_CLASSES", "BOUNDARY_CHOICES"]
 
 #: Access classes of rooms. ``controlled`` rooms may hold fields above the boundary
 #: value; every other room may not.
@@ -85,9 +83,3 @@ BOUNDARY_CHOICES: dict[str, tuple[float, str]] = {
     "iec-60601-2-33-ed4": (0.9, "IEC 60601-2-33 ed. 4 (2022) B0 hazard area, aligned with "
                                 "ISO 14117"),
 }
-
-#: Loaders of room outlines from plan files, keyed by format name ("geojson", "dxf", …).
-#: Each is ``fn(path, options: dict, file_for_errors: str)`` returning a list of Room, or
-#: a drawing with a ``rooms`` attribute (e.g. ``fringe.io.dxf.DxfPlan``, which also carries
-#: the drawing's walls and offset).
-ROOM_LOADERS: dict[str, Callable[..., Any]] = {}

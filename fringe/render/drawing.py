@@ -44,12 +44,12 @@ from shapely.ops import polylabel
 
 from fringe.model.constants import DEFAULT_THRESHOLDS_MT
 from fringe.model.errors import FringeInputError, must_be
+from fringe.model.verdict import Verdict
 from fringe.render.sheet import (
     _HALO,
     _INK,
     A3_LANDSCAPE_IN,
     PNG_DPI,
-    VERDICT_EXCEEDS,
     Curve,
     CurvePanel,
     SheetInfo,
@@ -72,7 +72,7 @@ __all__ = [
     "SheetInfo", "RoomMark", "EquipmentMark", "MagnetOutline", "Overlay", "FloorLevel",
     "ExposureLine", "Curve", "CurvePanel", "OVERLAY_KINDS", "ICNIRP_2009_EXPOSURE_LINES",
     "exposure_lines_from_registry",
-    "VERDICT_EXCEEDS", "A3_LANDSCAPE_IN", "PNG_DPI", "map_sheet", "plan_sheet",
+    "A3_LANDSCAPE_IN", "PNG_DPI", "map_sheet", "plan_sheet",
     "section_sheet", "curve_sheet", "table_sheet", "tables_sheets", "cover_sheet",
     "save_figure", "write_pdf", "number_sheets", "footprint_rectangle", "format_value",
     "scale_bar_length_m",
@@ -778,7 +778,7 @@ def _draw_rooms(ax, renderer, rooms: Sequence[RoomMark], avoid) -> tuple[list, l
         if not isinstance(r, RoomMark):
             raise FringeInputError(must_be(f"rooms[{i}]", "a fringe.render.drawing.RoomMark", r))
         _check_geometry(f"rooms[{i}].polygon ({r.name})", r.polygon, area=True)
-        exceeds = (r.verdict or "").lower() == VERDICT_EXCEEDS
+        exceeds = (r.verdict or "").lower() == Verdict.EXCEEDS
         controlled = r.access == "controlled"
         any_exceeds |= exceeds
         any_controlled |= controlled
@@ -941,7 +941,7 @@ def _draw_equipment(ax, renderer, equipment, occupied: list[Bbox], walls=None
         if xy.size != 2 or not np.all(np.isfinite(xy)):
             raise FringeInputError(must_be(f"equipment[{i}].xy_m ({e.name})",
                                            "two finite coordinates in metres", e.xy_m))
-        exceeds = (e.verdict or "").lower() == VERDICT_EXCEEDS
+        exceeds = (e.verdict or "").lower() == Verdict.EXCEEDS
         any_exceeds |= exceeds
         ax.plot([xy[0]], [xy[1]], marker="D", markersize=7 if exceeds else 6,
                 markerfacecolor=_INK if exceeds else "white", markeredgecolor=_INK,

@@ -47,9 +47,10 @@ from matplotlib.patches import Rectangle
 from fringe.io.atomic import atomic_file
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeInputError, must_be
+from fringe.model.verdict import Verdict
 
 __all__ = [
-    "SheetInfo", "Curve", "CurvePanel", "VERDICT_EXCEEDS", "A3_LANDSCAPE_IN", "PNG_DPI",
+    "SheetInfo", "Curve", "CurvePanel", "A3_LANDSCAPE_IN", "PNG_DPI",
     "curve_sheet", "table_sheet", "tables_sheets", "cover_sheet", "save_figure",
     "write_pdf", "number_sheets", "format_value",
 ]
@@ -57,8 +58,6 @@ __all__ = [
 
 #: Sheet size: ISO A3 landscape, 420 mm x 297 mm, in inches.
 A3_LANDSCAPE_IN: tuple[float, float] = (420 / 25.4, 297 / 25.4)
-#: The verdict that is drawn emphasised (hatching, bold outline, upper-case text).
-VERDICT_EXCEEDS = "exceeds"
 #: Raster resolution used by :func:`save_figure` for PNG, dots per inch.
 PNG_DPI = 170
 _SAVE_FORMATS = ("png", "svg", "pdf")
@@ -462,7 +461,7 @@ def _prepare_table(key: str, title: str, columns, rows, font_size: float) -> _Ta
     xs = table_w * np.cumsum([0] + [(w + 3) / sum(w + 3 for w in widths) for w in widths])
     return _Table(title=str(title), header=[_wrap(c, widths[j]) for j, c in enumerate(cols)],
                   rows=[[_wrap(row[j], widths[j]) for j in range(len(cols))] for row in cells],
-                  bold=[any(c.strip().lower() == VERDICT_EXCEEDS for c in row)
+                  bold=[any(c.strip().lower() == Verdict.EXCEEDS for c in row)
                         for row in cells],
                   xs=xs, numeric=numeric, width=table_w)
 
@@ -717,10 +716,10 @@ def cover_sheet(info: SheetInfo, key_facts: Sequence[tuple[str, str]],
         ax.text(0, y, "FINDINGS", fontsize=10, fontweight="bold", va="top", color=_INK)
         y -= 0.04
         # findings that exceed come first, so none is lost if the list must be cut
-        ordered = sorted(verdict_lines, key=lambda ln: "exceeds" not in ln.lower())
+        ordered = sorted(verdict_lines, key=lambda ln: Verdict.EXCEEDS not in ln.lower())
         step = 9.5 * 1.5 / h_pt
         for k, line in enumerate(ordered):
-            bold = "exceeds" in line.lower()
+            bold = Verdict.EXCEEDS in line.lower()
             text = _wrap(("\u25a0 " if bold else "\u25a1 ") + line, 120)
             n_lines = text.count("\n") + 1
             if y - step * (n_lines + 1) < 0 and k < len(ordered) - 1:

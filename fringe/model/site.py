@@ -1,0 +1,215 @@
+"""The site: magnets and building a scenario describes, as frozen nouns.
+
+:class:`Site` is what :func:`fringe.io.scenario.load_site` returns; every section of a
+scenario is a typed field of it (``plan``, ``floors``, ``rooms``, ``equipment``,
+``room_drawings``, ``quench``). A ``Site(name, magnets)`` built in code has the defaults
+of a scenario that gives only magnets. :func:`site_plan` gathers the building into one
+:class:`SitePlan` for the maps and checks.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+
+from fringe.model.building import BOUNDARY_CHOICES, Boundary, Equipment, Floor, Room
+from fringe.model.constants import DEFAULT_THRESHOLDS_MT
+from fringe.model.errors import ScenarioError, must_be
+from fringe.model.magnet import Magnet
+
+__all__ = ["Site", "SitePlan", "PlanSettings", "RoomDrawing", "QuenchInputs", "site_plan",
+           "default_settings", "with_boundary", "DEFAULT_BOUNDARY", "DEFAULT_GRID_STEP_M",
+           "DEFAULT_BAND_STEP_M", "DEFAULT_BAND_M", "DEFAULT_FLOOR"]
+
+#: Default boundary choice (key of :data:`fringe.model.building.BOUNDARY_CHOICES`): 0.5 mT.
+DEFAULT_BOUNDARY: str = "icnirp-2009"
+#: Default plan-grid step in m. 0.1 m keeps contour positions within a few cm
+#: (linear interpolation between nodes) while a 25 m × 15 m floor stays ~40 000 nodes.
+DEFAULT_GRID_STEP_M: float = 0.1
+#: Default largest vertical step between sampled levels of an occupied band, m.
+DEFAULT_BAND_STEP_M: float = 0.25
+#: Default occupied band above each floor: (bottom, top) in m.
+DEFAULT_BAND_M: tuple[float, float] = (0.0, 2.0)
+#: The floor assumed when a scenario declares none.
+DEFAULT_FLOOR: Floor = Floor("ground", 0.0)
+
+
+@dataclass(frozen=True)
+class PlanSettings:
+    """Site-wide plan settings from the ``[plan]`` table.
+
+    Attributes
+    ----------
+    boundary : Boundary
+        The controlled-area boundary value (mT) and its source.
+    thresholds_mT : tuple of float
+        Field lines drawn and reported, ascending; always includes the boundary value.
+    grid_step_m : float
+        Plan and section grid step, m.
+    band_step_m : float
+        Largest vertical step between sampled levels of an occupied band, m.
+    band_m : tuple of 2 float
+        Site-wide occupied band (bottom, top) above each floor, m.
+    extent_m : tuple or None
+        Plan window ((x_min, y_min), (x_max, y_max)) in m, or None to fit the site.
+    exposure_lines : tuple of str or None
+        Exposure limits drawn on section sheets (keys of
+        ``fringe.physics.exposure.EXPOSURE_LIMITS``); None for all of them, ``()`` for none.
+    """
+
+    boundary: Boundary
+    thresholds_mT: tuple[float, ...]
+    grid_step_m: float = DEFAULT_GRID_STEP_M
+    band_step_m: float = DEFAULT_BAND_STEP_M
+    band_m: tuple[float, float] = DEFAULT_BAND_M
+    extent_m: tuple[tuple[float, float], tuple[float, float]] | None = None
+    exposure_lines: tuple[str, ...] | None = None
+
+
+def with_boundary(thresholds_mT: Iterable[float], boundary_mT: float) -> tuple[float, ...]:
+    """``thresholds_mT`` ascending, with ``boundary_mT`` added unless already present."""
+    vals = {float(t) for t in thresholds_mT}
+    if not any(math.isclose(t, boundary_mT, rel_tol=1e-9) for t in vals):
+        vals.add(float(boundary_mT))
+    return tuple(sorted(vals))
+
+
+def default_settings() -> PlanSettings:
+    """Settings used when a scenario has no ``[plan]`` table."""
+    v, src = BOUNDARY_CHOICES[DEFAULT_BOUNDARY]
+    return PlanSettings(Boundary(v, src), with_boundary(DEFAULT_THRESHOLDS_MT, v))
+
+
+@dataclass(frozen=True)
+class RoomDrawing:
+    """A CAD drawing rooms were read from (``[[room_file]] format = "dxf"``).
+
+    Attributes
+    ----------
+    path : str
+    floors : tuple of str
+        Floors of the rooms it gave.
+    offset_m : (float, float)
+        Its ``offset_m`` (drawing origin in the site frame, m).
+    walls : tuple of shapely geometry
+        Lines and outlines on its wall layers, site metres (drawn on the plan sheets).
+    """
+
+    path: str
+    floors: tuple[str, ...]
+    offset_m: tuple[float, float]
+    walls: tuple = ()
+
+
+@dataclass(frozen=True)
+class QuenchInputs:
+    """Inputs of a quench budget for one magnet (all optional except magnet).
+
+    Attributes
+    ----------
+    magnet : str
+    helium_L, room_volume_m3, dump_ohm, magnet_resistance_ohm,
+    room_temperature_C, room_pressure_kPa : float or None
+        None where the scenario does not give the value.
+    """
+
+    magnet: str
+    helium_L: float | None = None
+    room_volume_m3: float | None = None
+    dump_ohm: float | None = None
+    magnet_resistance_ohm: float | None = None
+    room_temperature_C: float | None = None
+    room_pressure_kPa: float | None = None
+
+
+@dataclass(frozen=True)
+class Site:
+    """Everything a scenario describes, validated and frozen.
+
+    Attributes
+    ----------
+    name : str
+        Site name printed on every output.
+    magnets : tuple of Magnet
+    source_file : str
+        The scenario file it was loaded from ("" when built in code).
+    plan : PlanSettings
+        The ``[plan]`` settings (defaults when the scenario has none).
+    floors : tuple of Floor
+        The declared ``[[floor]]`` storeys; empty when none is declared (then
+        :func:`site_plan` assumes :data:`DEFAULT_FLOOR`).
+    rooms : tuple of Room
+        ``[[room]]`` tables and the rooms of every ``[[room_file]]``.
+    equipment : tuple of Equipment
+        ``[[equipment]]`` points.
+    room_drawings : tuple of RoomDrawing
+        The CAD drawings rooms were read from (``[[room_file]] format = "dxf"``).
+    quench : tuple of QuenchInputs
+        ``[[quench]]`` tables, at most one per magnet.
+    """
+
+    name: str
+    magnets: tuple[Magnet, ...]
+    source_file: str = ""
+    plan: PlanSettings = field(default_factory=default_settings)
+    floors: tuple[Floor, ...] = ()
+    rooms: tuple[Room, ...] = ()
+    equipment: tuple[Equipment, ...] = ()
+    room_drawings: tuple[RoomDrawing, ...] = ()
+    quench: tuple[QuenchInputs, ...] = ()
+
+    def magnet(self, name: str) -> Magnet:
+        """The magnet called ``name``; :class:`ScenarioError` listing the names otherwise."""
+        for m in self.magnets:
+            if m.name == name:
+                return m
+        raise ScenarioError(must_be("magnet", f"one of the site's magnets ({self.magnet_names()})",
+                                    name), self.source_file or None)
+
+    def magnet_names(self) -> str:
+        """The magnets' names quoted and comma-separated (``'none'`` for no magnet)."""
+        return ", ".join(repr(m.name) for m in self.magnets) or "none"
+
+    def quench_inputs(self, magnet: str) -> QuenchInputs | None:
+        """The ``[[quench]]`` table of ``magnet``, or None."""
+        for q in self.quench:
+            if q.magnet == magnet:
+                return q
+        return None
+
+
+@dataclass(frozen=True)
+class SitePlan:
+    """Everything the maps and checks need about the building."""
+
+    settings: PlanSettings
+    floors: tuple[Floor, ...]
+    rooms: tuple[Room, ...]
+    equipment: tuple[Equipment, ...]
+    floors_declared: bool = True
+
+    def floor(self, name: str) -> Floor:
+        """The floor called ``name`` (KeyError otherwise)."""
+        for f in self.floors:
+            if f.name == name:
+                return f
+        raise KeyError(name)
+
+    def floor_of_point(self, z_m: float) -> Floor:
+        """The floor a point at height ``z_m`` stands on: the highest floor at or below it
+        (the lowest floor for points below every floor)."""
+        below = [f for f in self.floors if f.elevation_m <= z_m + 1e-9]
+        if below:
+            return max(below, key=lambda f: f.elevation_m)
+        return min(self.floors, key=lambda f: f.elevation_m)
+
+
+def site_plan(site: Site) -> SitePlan:
+    """Gather the building of ``site`` (the default floor when none is declared)."""
+    settings = site.plan
+    floors = site.floors
+    declared = bool(floors)
+    if not floors:
+        floors = (Floor(DEFAULT_FLOOR.name, DEFAULT_FLOOR.elevation_m, *settings.band_m),)
+    return SitePlan(settings, tuple(floors), tuple(site.rooms), tuple(site.equipment), declared)
