@@ -28,6 +28,7 @@ from pathlib import Path
 import numpy as np
 import shapely
 
+from fringe.analysis.quench import budget_for_site
 from fringe.analysis.verdicts import (
     EquipmentCheck,
     RoomCheck,
@@ -47,7 +48,6 @@ from fringe.analysis.zones import (
     plan_axes_m,
     reach_m,
 )
-from fringe.cli.quench import budget_for_site
 from fringe.field.extents import threshold_extents_m
 from fringe.field.multipole import zonal_moments_Am
 from fringe.io.atomic import atomic_directory, check_output_folder
@@ -161,20 +161,6 @@ def _now_utc() -> str:
     return t.replace(microsecond=0).isoformat().replace("+00:00", "Z")
 
 
-def prefetch_quench_data(site) -> None:
-    """Start the helium look-ups of the site's ``[[quench]]`` tables in a second process
-    (:func:`fringe.physics.quench.prefetch_helium_properties`); a no-op without such tables or
-    when they are already started."""
-    quench_inputs = tuple(site.section("quench", ()) or ())
-    if not quench_inputs:
-        return
-    from fringe.cli.quench import room_conditions
-    from fringe.physics.quench import prefetch_helium_properties, room_conditions_K_Pa
-
-    for q in quench_inputs:
-        prefetch_helium_properties(*room_conditions_K_Pa(*room_conditions(q)))
-
-
 def compute_report(site, *, grid_step_m: float | None = None, progress: Progress = None
                    ) -> ReportResult:
     """Compute maps, footprints, sections, extents and verdicts for ``site``.
@@ -187,6 +173,13 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
         Overrides ``plan.grid_step_m`` (plan and section grids), m.
     progress : callable, optional
         Called with a short message after each step of the long computations.
+
+    Notes
+    -----
+    The quench budgets need CoolProp, whose first import takes seconds; a caller can
+    start those look-ups in a second process first
+    (:func:`fringe.io.prefetch.prefetch_quench_data`, as ``fringe report`` does), so they
+    overlap the maps.
     """
     if not site.magnets:
         raise ScenarioError("`magnet` must list at least one magnet; got none",
@@ -200,7 +193,6 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     thr_T = [t * 1e-3 for t in thr_mT]
     say = progress or (lambda msg: None)
     quench_inputs = tuple(site.section("quench", ()) or ())
-    prefetch_quench_data(site)  # CoolProp's slow first import overlaps the maps below
 
     mags = []
     for m in site.magnets:

@@ -38,20 +38,21 @@ from __future__ import annotations
 
 import math
 import re
-import sys
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from functools import lru_cache
 from importlib import resources
 
 import numpy as np
 
-from fringe.io.forked import ForkedCall, forking_enabled
 from fringe.model.constants import ADVISORY_NOTICE, STANDARD_ATMOSPHERE_PA
 from fringe.model.errors import FringeInputError, must_be
 
 __all__ = [
     "HELIUM_FLUID", "AIR_OXYGEN_FRACTION", "OxygenThreshold", "OXYGEN_THRESHOLDS",
     "QUENCH_CAUTIONS", "HeliumProperties", "helium_properties", "coolprop_source",
+    "room_conditions_K_Pa", "helium_properties_key", "helium_properties_expected",
+    "expect_helium_properties", "lookup_helium_properties",
     "boiloff_mass_kg", "liquid_volume_L", "liquid_mass_kg", "gas_volume_m3",
     "oxygen_fraction_after_release", "oxygen_fraction_displacement",
     "room_volume_for_oxygen_m3", "dump_time_constant_s", "dump_current_A",
@@ -194,31 +195,55 @@ class HeliumProperties:
                 "source": self.source}
 
 
-#: Helium property look-ups started ahead in a forked child, by their arguments.
-_PREFETCHED: dict[tuple[float, float, float], ForkedCall] = {}
-
+#: Helium look-ups already running elsewhere, by their key (see
+#: :func:`expect_helium_properties`): a zero-argument callable that returns the values.
+_EXPECTED: dict[tuple[float, float, float], Callable[[], HeliumProperties]] = {}
 
 def room_conditions_K_Pa(room_temperature_C: float = 20.0,
                          room_pressure_kPa: float = 101.325) -> tuple[float, float]:
     """(K, Pa) of room conditions given in °C and kPa, as :func:`quench_budget` passes
-    them to :func:`helium_properties` (so a prefetch asks for exactly the same key)."""
+    them to :func:`helium_properties` (so a look-up started ahead asks for exactly the
+    same key)."""
     return float(room_temperature_C) + 273.15, float(room_pressure_kPa) * 1e3
 
 
-def prefetch_helium_properties(room_temperature_K: float = 293.15,
-                               room_pressure_Pa: float = STANDARD_ATMOSPHERE_PA,
-                               boil_pressure_Pa: float = STANDARD_ATMOSPHERE_PA) -> None:
-    """Start :func:`helium_properties` for these conditions in a second process.
+def helium_properties_key(room_temperature_K: float = 293.15,
+                          room_pressure_Pa: float = STANDARD_ATMOSPHERE_PA,
+                          boil_pressure_Pa: float = STANDARD_ATMOSPHERE_PA
+                          ) -> tuple[float, float, float]:
+    """The key of one :func:`helium_properties` look-up: its three arguments as floats."""
+    return float(room_temperature_K), float(room_pressure_Pa), float(boil_pressure_Pa)
 
-    CoolProp's first import takes seconds of one core (most of it the library's own
-    start-up); a report starts this before its field maps, so the import overlaps them
-    and the later :func:`helium_properties` call just collects the values. Does nothing
-    when CoolProp is already imported or processes cannot be forked.
+
+def helium_properties_expected(room_temperature_K: float = 293.15,
+                               room_pressure_Pa: float = STANDARD_ATMOSPHERE_PA,
+                               boil_pressure_Pa: float = STANDARD_ATMOSPHERE_PA) -> bool:
+    """True while values promised by :func:`expect_helium_properties` for these
+    conditions wait to be collected by :func:`helium_properties`."""
+    return helium_properties_key(room_temperature_K, room_pressure_Pa,
+                                 boil_pressure_Pa) in _EXPECTED
+
+
+def expect_helium_properties(room_temperature_K: float, room_pressure_Pa: float,
+                             boil_pressure_Pa: float,
+                             result: Callable[[], HeliumProperties]) -> None:
+    """Promise :func:`helium_properties` the values of one look-up computed elsewhere.
+
+    ``result`` is called (once, with no arguments) by the next :func:`helium_properties`
+    call with these conditions, instead of asking CoolProp; it should return what
+    :func:`lookup_helium_properties` returns for them (e.g. the value of the same look-up
+    run ahead in another process, :mod:`fringe.io.prefetch`). If it raises, the look-up
+    runs here, so errors come the usual way.
+
+    Parameters
+    ----------
+    room_temperature_K, room_pressure_Pa, boil_pressure_Pa : float
+        The conditions, as :func:`helium_properties` takes them.
+    result : callable
+        ``result() -> HeliumProperties``.
     """
-    key = (float(room_temperature_K), float(room_pressure_Pa), float(boil_pressure_Pa))
-    if "CoolProp" in sys.modules or key in _PREFETCHED or not forking_enabled():
-        return
-    _PREFETCHED[key] = ForkedCall(_coolprop_helium_properties, *key)
+    _EXPECTED[helium_properties_key(room_temperature_K, room_pressure_Pa,
+                                    boil_pressure_Pa)] = result
 
 
 @lru_cache(maxsize=64)
@@ -240,6 +265,8 @@ def helium_properties(room_temperature_K: float = 293.15,
     Returns
     -------
     HeliumProperties
+        Cached per conditions; values promised by :func:`expect_helium_properties` are
+        collected instead of asking CoolProp again.
 
     Raises
     ------
@@ -251,19 +278,20 @@ def helium_properties(room_temperature_K: float = 293.15,
     .. [1] CoolProp HEOS backend, helium-4 equation of state of Ortiz-Vega et al.
        (see :func:`coolprop_source`).
     """
-    key = (float(room_temperature_K), float(room_pressure_Pa), float(boil_pressure_Pa))
-    ahead = _PREFETCHED.pop(key, None)
+    key = helium_properties_key(room_temperature_K, room_pressure_Pa, boil_pressure_Pa)
+    ahead = _EXPECTED.pop(key, None)
     if ahead is not None:
         try:
-            return ahead.result()
+            return ahead()
         except Exception:  # noqa: BLE001 - compute here, so errors come the usual way
             pass
-    return _coolprop_helium_properties(*key)
+    return lookup_helium_properties(*key)
 
 
-def _coolprop_helium_properties(room_temperature_K: float, room_pressure_Pa: float,
-                                boil_pressure_Pa: float) -> HeliumProperties:
-    """The CoolProp look-ups behind :func:`helium_properties` (uncached)."""
+def lookup_helium_properties(room_temperature_K: float, room_pressure_Pa: float,
+                             boil_pressure_Pa: float) -> HeliumProperties:
+    """The CoolProp look-ups behind :func:`helium_properties` (uncached, nothing expected
+    is collected): what a look-up run ahead elsewhere computes."""
     from CoolProp.CoolProp import PropsSI
 
     try:
