@@ -28,6 +28,7 @@ from pathlib import Path
 import numpy as np
 import shapely
 
+from fringe.analysis.attraction import SiteAttraction, site_attraction
 from fringe.analysis.quench import budget_for_site
 from fringe.analysis.verdicts import (
     EquipmentCheck,
@@ -57,7 +58,6 @@ from fringe.model.building import Boundary
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.constants import VERSION as __version__
 from fringe.model.errors import FringeInputError, ScenarioError
-from fringe.physics.attraction import SiteAttraction, site_attraction
 from fringe.physics.energy import stored_energy_J
 from fringe.physics.exposure import exposure_limits
 
@@ -130,7 +130,7 @@ class ReportResult:
     site: object = field(default=None, compare=False, repr=False)
     #: Quench release budgets for the scenario's [[quench]] tables (fringe.physics.quench).
     quench: tuple = ()
-    #: The attraction-hazard zone: extents, floor zones, section zones (fringe.physics.attraction).
+    #: The attraction-hazard zone: extents, floor zones, section zones (fringe.analysis.attraction).
     attraction: SiteAttraction | None = field(default=None, compare=False, repr=False)
 
     def floor_verdict(self, floor: str) -> str:

@@ -11,17 +11,19 @@ from pathlib import Path
 
 import numpy as np
 
+from fringe.analysis.energy_maps import (
+    DEFAULT_ENERGY_LEVELS_J_PER_M3,
+    energy_density_plan_map,
+    energy_density_section_map,
+)
 from fringe.cli.main import EXIT_INTERNAL, print_json
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE, MU0_T_M_PER_A
 from fringe.model.errors import FringeIOError, ScenarioError, must_be
 from fringe.physics.energy import (
-    DEFAULT_ENERGY_LEVELS_J_PER_M3,
     DEFAULT_ENVELOPE_MARGIN_M,
     MagnetEnergy,
     check_box,
-    energy_density_plan_map,
-    energy_density_section_map,
     energy_outside_sphere_J,
     magnet_energy,
     site_mutual_energies,
