@@ -50,6 +50,7 @@ from fringe.model.errors import FringeInputError, must_be
 
 __all__ = [
     "HELIUM_FLUID", "AIR_OXYGEN_FRACTION", "OxygenThreshold", "OXYGEN_THRESHOLDS",
+    "OxygenModel", "OXYGEN_MODELS", "oxygen_model_text", "room_volume_formula",
     "QUENCH_CAUTIONS", "HeliumProperties", "helium_properties", "coolprop_source",
     "room_conditions_K_Pa", "helium_properties_key", "helium_properties_expected",
     "expect_helium_properties", "lookup_helium_properties",
@@ -87,6 +88,57 @@ OXYGEN_THRESHOLDS: tuple[OxygenThreshold, ...] = (
                     "used in some European guidance (e.g. the 18 % evacuation level of UK "
                     "BCGA guidance, as quoted by university safety calculators)"),
 )
+
+@dataclass(frozen=True)
+class OxygenModel:
+    """A room-oxygen model and its formula text, written here once for every printer.
+
+    Attributes
+    ----------
+    name : str
+        Registry key.
+    template : str
+        The formula with ``{x0}`` (the initial oxygen fraction) and ``{V}`` (the symbol
+        of the released gas volume) left open.
+    assumptions : str
+        What the model takes about the room.
+    source : str
+        Where it comes from.
+    """
+
+    name: str
+    template: str
+    assumptions: str
+    source: str
+
+    def formula(self, gas_symbol: str = "V_gas") -> str:
+        """The formula text, e.g. ``0.2095·exp(−V_gas/V_room)``."""
+        return self.template.format(x0=f"{AIR_OXYGEN_FRACTION:g}", V=gas_symbol)
+
+
+#: The room-oxygen models (:func:`oxygen_fraction_after_release`,
+#: :func:`oxygen_fraction_displacement`); JSON, tables and sheets print their text.
+OXYGEN_MODELS: dict[str, OxygenModel] = {m.name: m for m in (
+    OxygenModel("well-mixed", "{x0}·exp(−{V}/V_room)",
+                "well-mixed room, displaced mixture escapes, no ventilation",
+                "Fermilab ES&H Manual ch. 4240 §6.1.A"),
+    OxygenModel("displacement", "{x0}·(1 − {V}/V_room)",
+                "released gas pushes out unmixed air",
+                "common practice, no source beyond university safety calculators"),
+)}
+
+
+def room_volume_formula(threshold_fraction: float, gas_symbol: str = "V") -> str:
+    """Text of :func:`room_volume_for_oxygen_m3`, e.g. ``V/ln(0.2095/0.195)``."""
+    return f"{gas_symbol}/ln({AIR_OXYGEN_FRACTION:g}/{threshold_fraction:g})"
+
+
+def oxygen_model_text() -> str:
+    """The ``oxygen_model`` line of a budget's JSON: both models and their formulas."""
+    mixed, disp = OXYGEN_MODELS["well-mixed"], OXYGEN_MODELS["displacement"]
+    return (f"{mixed.assumptions}: x = {mixed.formula()} ({mixed.source}); "
+            f"{disp.name} cross-check x = {disp.formula()}")
+
 
 #: Cautions printed with every quench budget (human output and JSON ``cautions``).
 QUENCH_CAUTIONS: tuple[str, ...] = (
@@ -602,9 +654,7 @@ class QuenchBudget:
             "oxygen_fraction_worst_case": self.oxygen_fraction_worst_case,
             "oxygen_fraction_worst_case_displacement":
                 self.oxygen_fraction_worst_case_displacement,
-            "oxygen_model": ("well-mixed room, displaced mixture escapes, no ventilation: "
-                             "x = 0.2095·exp(−V_gas/V_room) (Fermilab ES&H Manual ch. 4240 "
-                             "§6.1.A); displacement cross-check x = 0.2095·(1 − V_gas/V_room)"),
+            "oxygen_model": oxygen_model_text(),
             "room_volume_m3_for_19_5_percent": self.room_volume_m3_for_19_5_percent,
             "oxygen_thresholds": list(self.thresholds),
             "time_constant_s": self.time_constant_s,
@@ -751,6 +801,7 @@ def dump_decay_curves(dump: DumpCircuit, n_points: int = 201,
 def budget_table_rows(b: QuenchBudget) -> list[tuple[str, float | str, str, str]]:
     """The budget as rows (quantity, value, unit, basis) for tables and reports."""
     he = b.helium
+    mixed = OXYGEN_MODELS["well-mixed"]
     room = f"{b.room_temperature_C:g} °C, {b.room_pressure_kPa:g} kPa"
     rows: list[tuple[str, float | str, str, str]] = [
         ("stored energy W", b.stored_energy_J / 1e6, "MJ", "fringe.physics.energy: ½·Iᵀ·M·I"),
@@ -766,13 +817,14 @@ def budget_table_rows(b: QuenchBudget) -> list[tuple[str, float | str, str, str]
          f"gas at {room}"),
         ("room free volume", b.room_volume_m3, "m³", "input"),
         ("oxygen after energy-limited release", 100 * b.oxygen_fraction_energy_limited, "%",
-         "0.2095·exp(−V/V_room), well mixed"),
+         f"{mixed.formula('V')}, well mixed"),
         ("oxygen after whole inventory", 100 * b.oxygen_fraction_worst_case, "%",
-         "0.2095·exp(−V/V_room), well mixed"),
+         f"{mixed.formula('V')}, well mixed"),
         ("oxygen after whole inventory, displacement",
-         100 * b.oxygen_fraction_worst_case_displacement, "%", "0.2095·(1 − V/V_room)"),
+         100 * b.oxygen_fraction_worst_case_displacement, "%",
+         OXYGEN_MODELS["displacement"].formula("V")),
         ("room volume keeping worst case ≥ 19.5 %", b.room_volume_m3_for_19_5_percent, "m³",
-         "V/ln(0.2095/0.195)"),
+         room_volume_formula(0.195)),
     ]
     for t in b.thresholds:
         rows.append((f"{t['threshold']} threshold", f"energy-limited {t['energy_limited']}; "
