@@ -185,9 +185,9 @@ def test_region_errors_and_polygon_region():
     site = parse_site(tomllib.loads(_strip_site_text()), "strip.toml")
     from fringe.model.errors import ScenarioError
 
-    with pytest.raises(ScenarioError, match="`--region` must be a room of the scenario"):
+    with pytest.raises(ScenarioError, match="`region` must be a room of the scenario"):
         search_placement(site, "m", "nowhere", (0,))
-    with pytest.raises(ScenarioError, match="`--region` must be large enough"):
+    with pytest.raises(ScenarioError, match="`region` must be large enough"):
         search_placement(site, "m", "0,0;0.3,0;0.3,0.3;0,0.3", (0,))
     res = search_placement(site, "m", "-1,-1;1,-1;1,1;-1,1", (0,), coarse_points=20)
     assert res.region_label == "the given polygon"
@@ -333,3 +333,20 @@ def test_open_region_room_is_treated_as_controlled():
     assert any("treated as controlled" in n for n in res.notes)
     assert "north" not in {b["room"] for b in res.best.spill_by_room}
     assert res.current is not None and res.current.spill_area_m2 > 0
+
+
+def test_library_errors_name_arguments_and_the_cli_names_options():
+    # below the CLI an error names the Python argument; `fringe place` names its option
+    from fringe.analysis.placement import check_angles
+    from fringe.cli.main import keys_as_options
+    from fringe.model.errors import ScenarioError
+
+    with pytest.raises(ScenarioError, match="^`angles_deg` must be comma-separated"):
+        check_angles("a,b")
+    with pytest.raises(ScenarioError, match="^x.toml: `--angles` must be comma-separated"):
+        with keys_as_options({"angles_deg": "--angles"}):
+            raise ScenarioError("`angles_deg` must be comma-separated angles; got 'a'",
+                                "x.toml")
+    with pytest.raises(ScenarioError, match="^`other` must be"):  # other keys unchanged
+        with keys_as_options({"angles_deg": "--angles"}):
+            raise ScenarioError("`other` must be 1; got 2")

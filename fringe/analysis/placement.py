@@ -198,7 +198,8 @@ def plan_angle_deg(axis) -> float | None:
 
 def parse_region(text: str, plan: SitePlan, magnet_floor: Floor
                  ) -> tuple[object, Floor, str]:
-    """The region named by ``--region``: a room name, or ``"x1,y1;x2,y2;..."`` in m.
+    """The region ``text`` names: a room name, or ``"x1,y1;x2,y2;..."`` in m (errors name
+    the argument ``region`` of :func:`search_placement`).
 
     Returns ``(polygon, floor, label)``; a polygon lies on ``magnet_floor``.
     """
@@ -218,13 +219,13 @@ def parse_region(text: str, plan: SitePlan, magnet_floor: Floor
                 raise ValueError
             pts.append(xy)
     except ValueError:
-        raise ScenarioError(must_be("--region", expect, text)) from None
+        raise ScenarioError(must_be("region", expect, text)) from None
     arr = np.asarray(pts, dtype=float)
     if len(arr) < 3 or not np.all(np.isfinite(arr)):
-        raise ScenarioError(must_be("--region", expect, text))
+        raise ScenarioError(must_be("region", expect, text))
     poly = shapely.Polygon(arr)
     if not poly.is_valid or not poly.area > 0:
-        raise ScenarioError(must_be("--region", "a simple polygon of non-zero area "
+        raise ScenarioError(must_be("region", "a simple polygon of non-zero area "
                                     f"(shapely: {shapely.is_valid_reason(poly)})", text))
     return shapely.normalize(poly), magnet_floor, "the given polygon"
 
@@ -579,9 +580,9 @@ def search_placement(site, magnet_name: str, region: str, angles_deg: Sequence[f
     s = plan.settings
     bnd = float(boundary_mT if boundary_mT is not None else s.boundary.value_mT)
     if not (math.isfinite(bnd) and bnd > 0):
-        raise ScenarioError(must_be("--threshold-mT", "a positive number of mT", boundary_mT))
+        raise ScenarioError(must_be("boundary_mT", "a positive number of mT", boundary_mT))
     if not len(angles_deg):
-        raise ScenarioError(must_be("--angles", "at least one angle in degrees", ""))
+        raise ScenarioError(must_be("angles_deg", "at least one angle in degrees", ""))
     step = s.grid_step_m
     home = plan.floor_of_point(magnet.center_m[2])
     outline, floor, label = parse_region(region, plan, home)
@@ -753,7 +754,7 @@ def search_placement(site, magnet_name: str, region: str, angles_deg: Sequence[f
             evaluated.append(current)
 
     if not evaluated:
-        raise ScenarioError(must_be("--region", "large enough to hold the magnet's winding "
+        raise ScenarioError(must_be("region", "large enough to hold the magnet's winding "
                                     f"outline ({_outline_size(magnet_outline_relative(magnet))})"
                                     " at one of the angles tried", region))
 
@@ -850,13 +851,14 @@ def magnet_toml(magnet: Magnet, placement: Placement) -> str:
 
 
 def check_angles(text: str) -> tuple[float, ...]:
-    """Parse ``--angles`` (comma-separated degrees)."""
+    """Parse comma-separated angles in degrees (errors name ``angles_deg``, the argument of
+    :func:`search_placement` they are for)."""
     try:
         vals = tuple(float(v) for v in text.split(",") if v.strip())
     except ValueError:
         vals = ()
     if not vals or not all(math.isfinite(v) for v in vals):
-        raise ScenarioError(must_be("--angles", "comma-separated angles in degrees, e.g. "
+        raise ScenarioError(must_be("angles_deg", "comma-separated angles in degrees, e.g. "
                                     "'0,90'", text))
     return vals
 

@@ -62,7 +62,7 @@ from fringe.physics.energy import stored_energy_J
 from fringe.physics.exposure import exposure_limits
 
 __all__ = ["MagnetSummary", "ReportResult", "compute_report", "summary_dict", "zones_geojson",
-           "rooms_csv", "equipment_csv", "write_report", "slug", "SITE_FRAME"]
+           "check_grid_step_m", "rooms_csv", "equipment_csv", "write_report", "slug", "SITE_FRAME"]
 
 Progress = Callable[[str], None] | None
 
@@ -161,6 +161,30 @@ def _now_utc() -> str:
     return t.replace(microsecond=0).isoformat().replace("+00:00", "Z")
 
 
+def check_grid_step_m(grid_step_m, name: str = "grid_step_m") -> float:
+    """``grid_step_m`` as a float, checked: a number in (0, 5] m.
+
+    Parameters
+    ----------
+    grid_step_m : float
+        Plan and section grid step, m.
+    name : str
+        What the error calls the value (the command line passes its option).
+
+    Raises
+    ------
+    FringeInputError
+        For a value outside (0, 5] m or not a number.
+    """
+    try:
+        step = float(grid_step_m)
+    except (TypeError, ValueError):
+        step = math.nan
+    if not (math.isfinite(step) and 0 < step <= 5.0):
+        raise FringeInputError(f"`{name}` must be a number in (0, 5] m; got {grid_step_m!r}")
+    return step
+
+
 def compute_report(site, *, grid_step_m: float | None = None, progress: Progress = None
                    ) -> ReportResult:
     """Compute maps, footprints, sections, extents and verdicts for ``site``.
@@ -186,9 +210,7 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
                             site.source_file or None)
     plan = site_plan(site)
     s = plan.settings
-    step = s.grid_step_m if grid_step_m is None else float(grid_step_m)
-    if not (math.isfinite(step) and 0 < step <= 5.0):
-        raise FringeInputError(f"`--grid-step-m` must be a number in (0, 5] m; got {grid_step_m!r}")
+    step = check_grid_step_m(s.grid_step_m if grid_step_m is None else grid_step_m)
     thr_mT = s.thresholds_mT
     thr_T = [t * 1e-3 for t in thr_mT]
     say = progress or (lambda msg: None)

@@ -8,6 +8,7 @@ Exit codes: 0 success; 1 internal error (a bug: please report it); 2 bad input
 from __future__ import annotations
 
 import argparse
+import contextlib
 import importlib
 import json
 import os
@@ -135,6 +136,27 @@ def read_points_file(path: str) -> np.ndarray:
     if problem := coordinate_range_problem(arr, "--points"):
         raise ScenarioError(problem, str(p))
     return arr
+
+
+@contextlib.contextmanager
+def keys_as_options(options: dict[str, str]):
+    """Name the command-line option in library errors about a Python argument.
+
+    The library names its argument (``"`region` must be …"``); inside this block an error
+    whose message starts with one of ``options``' keys is raised again naming the option
+    instead (``{"region": "--region"}`` → ``"`--region` must be …"``), same class and file.
+    """
+    try:
+        yield
+    except (ScenarioError, FringeError) as e:
+        file = getattr(e, "file", None)
+        text = e.detail if isinstance(e, ScenarioError) else str(e)
+        for key, option in options.items():
+            if text.startswith(f"`{key}` "):
+                new = f"`{option}`" + text[len(key) + 2:]
+                raise (ScenarioError(new, file) if isinstance(e, ScenarioError)
+                       else type(e)(new)) from None
+        raise
 
 
 def print_json(obj) -> None:

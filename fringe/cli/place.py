@@ -324,11 +324,18 @@ def write_outputs(site, result, equipment, doc: dict, out_dir: str | Path) -> li
     return names
 
 
+#: Argument of :func:`fringe.analysis.placement.search_placement` → option of this
+#: command, so the library's errors name the option typed.
+_OPTIONS: dict[str, str] = {"region": "--region", "angles_deg": "--angles",
+                            "boundary_mT": "--threshold-mT"}
+
+
 def run(args) -> int:
     from fringe.analysis.placement import check_angles, search_placement
-    from fringe.cli.main import print_json
+    from fringe.cli.main import keys_as_options, print_json
 
-    angles = check_angles(args.angles)
+    with keys_as_options(_OPTIONS):
+        angles = check_angles(args.angles)
     if args.threshold_mT is not None and not (math.isfinite(args.threshold_mT)
                                               and args.threshold_mT > 0):
         raise ScenarioError(must_be("--threshold-mT", "a positive number of mT",
@@ -341,11 +348,13 @@ def run(args) -> int:
 
         magnet = site.magnet(args.magnet)  # the usual errors first: magnet, then region
         plan = site_plan(site)
-        parse_region(args.region, plan, plan.floor_of_point(magnet.center_m[2]))
+        with keys_as_options(_OPTIONS):
+            parse_region(args.region, plan, plan.floor_of_point(magnet.center_m[2]))
         check_output_folder(args.out, scenario_file=site.source_file, marker="place.json")
     say = _progress(args.quiet or args.json)
-    result = search_placement(site, args.magnet, args.region, angles, args.threshold_mT,
-                              progress=say)
+    with keys_as_options(_OPTIONS):
+        result = search_placement(site, args.magnet, args.region, angles, args.threshold_mT,
+                                  progress=say)
     equipment = equipment_effect(site, result)
     doc = result_dict(site, result, equipment)
     if args.out:

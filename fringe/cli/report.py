@@ -108,10 +108,12 @@ def terminal_summary(result, out_dir: str | Path) -> str:
 def run_report(scenario: str | Path, out_dir: str | Path, *, grid_step_m: float | None = None,
                drawings: bool = True, quiet: bool = False):
     """Load, compute, write; returns the :class:`fringe.analysis.report.ReportResult`."""
-    from fringe.analysis.report import compute_report, write_report
+    from fringe.analysis.report import check_grid_step_m, compute_report, write_report
     from fringe.io.prefetch import prefetch_quench_data
 
     site = load_site(scenario)
+    if grid_step_m is not None:
+        check_grid_step_m(grid_step_m, "--grid-step-m")
     progress = _Progress(quiet)
     progress(f"loaded {scenario}")
     # a child starts CoolProp (~1 s+) while this process imports the drawing stack and
