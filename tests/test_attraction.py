@@ -9,6 +9,12 @@ import pytest
 from scipy.optimize import brentq
 from scipy.special import ellipe, ellipk
 
+from fringe.analysis.attraction import (
+    floor_attraction,
+    plan_attraction,
+    section_attraction,
+    site_attraction,
+)
 from fringe.field.evaluate import field_at
 from fringe.field.extents import threshold_extents_m
 from fringe.model.errors import FringeInputError
@@ -25,15 +31,11 @@ from fringe.physics.attraction import (
     axial_gradient_T_per_m,
     criterion_text,
     field_and_gradient,
-    floor_attraction,
     loop_axial_field_T,
     loop_axial_gradient_T_per_m,
-    plan_attraction,
     prolate_demag_factor,
     pull_ratio,
     saturation_field_T,
-    section_attraction,
-    site_attraction,
 )
 
 MU0 = 4e-7 * math.pi  # μ₀ to 1e-9 relative (CODATA 2018: 1.00000000055 × 4π·10⁻⁷)

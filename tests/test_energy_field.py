@@ -10,16 +10,18 @@ import math
 import numpy as np
 import pytest
 
+from fringe.analysis.energy_maps import (
+    DEFAULT_ENERGY_LEVELS_J_PER_M3,
+    energy_density_plan_map,
+    energy_density_section_map,
+)
 from fringe.field.evaluate import field_at, magnet_field_local_T, points_in_windings
 from fringe.field.multipole import zonal_moments_Am
 from fringe.model.constants import MU0_T_M_PER_A as MU0
 from fringe.model.magnet import Coil, Magnet
 from fringe.physics.energy import (
-    DEFAULT_ENERGY_LEVELS_J_PER_M3,
     center_field_T,
     coil_pair_inductance_H,
-    energy_density_plan_map,
-    energy_density_section_map,
     energy_in_cylinder_J,
     energy_outside_box_J,
     energy_outside_cylinder_J,

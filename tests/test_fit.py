@@ -181,12 +181,12 @@ def test_cli_fit_bad_input_exit_2(capsys):
 
 def test_centre_field_implausible_for_the_family_warns_with_the_number():
     # issue 10: a magnet whose centre field is implausible for its family; whole-body MR
-    # magnets are built up to about 11.7 T (from memory; fringe.physics.fit.FAMILY_FIELD_RANGE_T)
-    from fringe.physics.fit import FAMILY_FIELD_RANGE_T
+    # magnets are built up to about 11.7 T (from memory; fringe.physics.families.FAMILIES)
+    from fringe.physics.families import FAMILIES
 
     with pytest.warns(FringeWarning) as rec:
         res = fit_magnet(20.0, [(5e-4, 9.0, 7.2)], shielded=False, bore_m=0.9)
     assert res.family == "unshielded_whole_body"
-    lo, hi = FAMILY_FIELD_RANGE_T[res.family]
+    lo, hi = FAMILIES[res.family].field_range_T
     assert any(f"a centre field of 20 T is implausible for the unshielded whole body family "
                f"(built for about {lo:g} to {hi:g} T)" in str(w.message) for w in rec)

@@ -64,16 +64,40 @@ def test_workers_1_runs_in_process(monkeypatch):
 @pytest.mark.skipif(not hasattr(os, "fork"), reason="needs os.fork")
 def test_prefetched_helium_properties_equal_direct_ones(monkeypatch):
     # the forked prefetch must hand back exactly what CoolProp gives in-process
+    import fringe.io.prefetch as pf
     import fringe.physics.quench as q
 
     monkeypatch.delenv("FRINGE_WORKERS", raising=False)
-    direct = q._coolprop_helium_properties(291.0, 100e3, 101325.0)
-    monkeypatch.setattr(q, "sys", type("S", (), {"modules": {}})())  # as if not imported yet
-    q.prefetch_helium_properties(291.0, 100e3, 101325.0)
-    assert (291.0, 100e3, 101325.0) in q._PREFETCHED
+    direct = q.lookup_helium_properties(291.0, 100e3, 101325.0)
+    monkeypatch.setattr(pf, "sys", type("S", (), {"modules": {}})())  # as if not imported yet
+    pf.prefetch_helium_properties(291.0, 100e3, 101325.0)
+    assert q.helium_properties_expected(291.0, 100e3, 101325.0)
     q.helium_properties.cache_clear()
     assert q.helium_properties(291.0, 100e3, 101325.0) == direct
-    assert (291.0, 100e3, 101325.0) not in q._PREFETCHED
+    assert not q.helium_properties_expected(291.0, 100e3, 101325.0)
+
+
+def test_expected_helium_properties_are_collected_once(monkeypatch):
+    # a value promised by expect_helium_properties replaces the CoolProp look-up once;
+    # a promise that fails falls back to the look-up here
+    import fringe.physics.quench as q
+
+    key = (290.5, 100.5e3, 101325.0)
+    direct = q.lookup_helium_properties(*key)
+    calls = []
+    q.helium_properties.cache_clear()
+    q.expect_helium_properties(*key, lambda: calls.append(1) or direct)
+    assert q.helium_properties_expected(*key)
+    assert q.helium_properties(*key) is direct and calls == [1]
+    assert not q.helium_properties_expected(*key)
+
+    def broken():
+        raise RuntimeError("worker died")
+
+    q.helium_properties.cache_clear()
+    q.expect_helium_properties(*key, broken)
+    assert q.helium_properties(*key) == direct
+    q.helium_properties.cache_clear()
 
 
 def test_no_fork_while_other_threads_run(monkeypatch):
@@ -96,15 +120,15 @@ def test_no_fork_while_other_threads_run(monkeypatch):
 def test_report_prefetch_is_the_lookup_the_budget_makes(monkeypatch, demo_site):
     # the prefetch must ask for exactly the key quench_budget later asks for, or the
     # CoolProp import would run twice (once wasted in the child)
+    import fringe.io.prefetch as pf
     import fringe.physics.quench as q
-    from fringe.analysis.report import prefetch_quench_data
-    from fringe.cli.quench import budget_for_site
+    from fringe.analysis.quench import budget_for_site
 
     monkeypatch.delenv("FRINGE_WORKERS", raising=False)
-    monkeypatch.setattr(q, "sys", type("S", (), {"modules": {}})())  # as if not imported yet
-    q._PREFETCHED.clear()
+    monkeypatch.setattr(pf, "sys", type("S", (), {"modules": {}})())  # as if not imported yet
+    q._EXPECTED.clear()
     q.helium_properties.cache_clear()
-    prefetch_quench_data(demo_site)
-    assert len(q._PREFETCHED) == 1
+    pf.prefetch_quench_data(demo_site)
+    assert len(q._EXPECTED) == 1
     budget_for_site(demo_site, demo_site.quench[0])
-    assert not q._PREFETCHED  # collected by the budget's own look-up
+    assert not q._EXPECTED  # collected by the budget's own look-up

@@ -343,3 +343,17 @@ def test_open_region_room_is_treated_as_controlled():
     assert any("treated as controlled" in n for n in res.notes)
     assert "north" not in {b["room"] for b in res.best.spill_by_room}
     assert res.current is not None and res.current.spill_area_m2 > 0
+
+
+def test_library_errors_name_arguments_and_the_cli_names_options():
+    # below the CLI an error names the Python argument; `fringe place` names its option
+    from fringe.cli.place import FLAGS, check_angles
+    from fringe.model.errors import ArgumentError, ScenarioError
+
+    with pytest.raises(ScenarioError, match="^`--angles` must be comma-separated"):
+        check_angles("a,b")
+    e = ArgumentError("`angles_deg` must be comma-separated angles; got 'a'", "angles_deg",
+                      "x.toml")
+    assert e.renamed(FLAGS) == "x.toml: `--angles` must be comma-separated angles; got 'a'"
+    other = ArgumentError("`other` must be 1; got 2", "other")
+    assert other.renamed(FLAGS) == "`other` must be 1; got 2"  # other arguments unchanged

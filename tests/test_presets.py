@@ -14,6 +14,8 @@ from fringe.model.errors import FringeInputError
 from fringe.model.magnet import Coil, Magnet
 from fringe.physics.families import (
     FAMILIES,
+    FIT_FAMILIES,
+    family,
     helmholtz_pair,
     shielded_whole_body,
     thick_solenoid,
@@ -95,9 +97,9 @@ def test_helmholtz_pair_close_to_thin_loop_formula():
 
 @pytest.mark.parametrize("name,low,high", [
     ("shielded_whole_body", 3e7, 4e8), ("unshielded_whole_body", 3e7, 4e8),
-    ("vertical_lab_magnet", 3e7, 4e8), ("helmholtz_pair", 1e6, 1e7)])
+    ("shielded_lab", 3e7, 4e8), ("unshielded_lab", 3e7, 4e8), ("helmholtz_pair", 1e6, 1e7)])
 def test_current_densities_are_realistic(name, low, high):
-    m = FAMILIES[name].build()
+    m = family(name).build()
     j = np.array([abs(c.current_density_A_per_m2) for c in m.coils])
     # superconducting ~1e8 A/m² (Wilson, Superconducting Magnets, 1983, ch. 1);
     # water-cooled copper 1e6–1e7 A/m² (Montgomery 1969, ch. 2)
@@ -122,3 +124,20 @@ def test_main_coils_carry_positive_current_over_the_design_range():
         for hr in (1.5, 4.0, 7.0):
             m = vertical_lab_magnet(9.4, a, a * hr, shielded=False)
             assert all(c.current_A > 0 for c in m.coils)
+
+
+def test_one_registry_of_families():
+    # one spelling per family: the fit's families are registry entries with every fit fact
+    assert FIT_FAMILIES == ("shielded_whole_body", "unshielded_whole_body", "shielded_lab",
+                            "unshielded_lab")
+    for name in FIT_FAMILIES:
+        f = FAMILIES[name]
+        assert f.name == name and f.shielded in (True, False)
+        assert f.fit is not None and f.field_range_T is not None
+        assert f.warm_bore_m > 0 and f.cryostat_allowance_m > 0
+        n = len(f.fit.parameters)
+        assert len(f.fit.lower) == len(f.fit.upper) == len(f.fit.nominal) == n
+        assert all(lo <= x <= hi for lo, x, hi in
+                   zip(f.fit.lower, f.fit.nominal, f.fit.upper, strict=True))
+    with pytest.raises(FringeInputError, match="`family` must be one of"):
+        family("vertical_lab")

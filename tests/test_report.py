@@ -269,3 +269,15 @@ def test_demo_always_exits_zero(tmp_path, capsys, demo_site):
     assert s["exceeds"] is True
     assert {f["name"] for f in s["floors"]} >= {"ground", "first"}
     assert ADVISORY_NOTICE in capsys.readouterr().out
+
+
+def test_grid_step_error_names_the_argument():
+    # the library names its argument; `fringe report --grid-step-m` names the option
+    from fringe.analysis.report import check_grid_step_m
+    from fringe.model.errors import FringeInputError
+
+    assert check_grid_step_m(0.5) == 0.5
+    with pytest.raises(FringeInputError, match=r"^`grid_step_m` must be a number in \(0, 5\]"):
+        check_grid_step_m(0.0)
+    with pytest.raises(FringeInputError, match=r"^`--grid-step-m` must be"):
+        check_grid_step_m("x", "--grid-step-m")

@@ -28,6 +28,8 @@ from pathlib import Path
 import numpy as np
 import shapely
 
+from fringe.analysis.attraction import SiteAttraction, site_attraction
+from fringe.analysis.quench import budget_for_site
 from fringe.analysis.verdicts import (
     EquipmentCheck,
     RoomCheck,
@@ -47,7 +49,6 @@ from fringe.analysis.zones import (
     plan_axes_m,
     reach_m,
 )
-from fringe.cli.quench import budget_for_site
 from fringe.field.extents import threshold_extents_m
 from fringe.field.multipole import zonal_moments_Am
 from fringe.io.atomic import atomic_directory, check_output_folder
@@ -58,12 +59,11 @@ from fringe.model.constants import VERSION as __version__
 from fringe.model.errors import FringeInputError, ScenarioError
 from fringe.model.site import SitePlan, site_plan
 from fringe.model.verdict import Verdict
-from fringe.physics.attraction import SiteAttraction, site_attraction
 from fringe.physics.energy import stored_energy_J
 from fringe.physics.exposure import exposure_limits
 
 __all__ = ["MagnetSummary", "ReportResult", "compute_report", "summary_dict", "zones_geojson",
-           "rooms_csv", "equipment_csv", "write_report", "slug", "SITE_FRAME"]
+           "check_grid_step_m", "rooms_csv", "equipment_csv", "write_report", "slug", "SITE_FRAME"]
 
 Progress = Callable[[str], None] | None
 
@@ -131,7 +131,7 @@ class ReportResult:
     site: object = field(default=None, compare=False, repr=False)
     #: Quench release budgets for the scenario's [[quench]] tables (fringe.physics.quench).
     quench: tuple = ()
-    #: The attraction-hazard zone: extents, floor zones, section zones (fringe.physics.attraction).
+    #: The attraction-hazard zone: extents, floor zones, section zones (fringe.analysis.attraction).
     attraction: SiteAttraction | None = field(default=None, compare=False, repr=False)
 
     def floor_verdict(self, floor: str) -> Verdict:
@@ -162,18 +162,28 @@ def _now_utc() -> str:
     return t.replace(microsecond=0).isoformat().replace("+00:00", "Z")
 
 
-def prefetch_quench_data(site) -> None:
-    """Start the helium look-ups of the site's ``[[quench]]`` tables in a second process
-    (:func:`fringe.physics.quench.prefetch_helium_properties`); a no-op without such tables or
-    when they are already started."""
-    quench_inputs = tuple(site.quench)
-    if not quench_inputs:
-        return
-    from fringe.cli.quench import room_conditions
-    from fringe.physics.quench import prefetch_helium_properties, room_conditions_K_Pa
+def check_grid_step_m(grid_step_m, name: str = "grid_step_m") -> float:
+    """``grid_step_m`` as a float, checked: a number in (0, 5] m.
 
-    for q in quench_inputs:
-        prefetch_helium_properties(*room_conditions_K_Pa(*room_conditions(q)))
+    Parameters
+    ----------
+    grid_step_m : float
+        Plan and section grid step, m.
+    name : str
+        What the error calls the value (the command line passes its option).
+
+    Raises
+    ------
+    FringeInputError
+        For a value outside (0, 5] m or not a number.
+    """
+    try:
+        step = float(grid_step_m)
+    except (TypeError, ValueError):
+        step = math.nan
+    if not (math.isfinite(step) and 0 < step <= 5.0):
+        raise FringeInputError(f"`{name}` must be a number in (0, 5] m; got {grid_step_m!r}")
+    return step
 
 
 def compute_report(site, *, grid_step_m: float | None = None, progress: Progress = None
@@ -188,20 +198,24 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
         Overrides ``plan.grid_step_m`` (plan and section grids), m.
     progress : callable, optional
         Called with a short message after each step of the long computations.
+
+    Notes
+    -----
+    The quench budgets need CoolProp, whose first import takes seconds; a caller can
+    start those look-ups in a second process first
+    (:func:`fringe.io.prefetch.prefetch_quench_data`, as ``fringe report`` does), so they
+    overlap the maps.
     """
     if not site.magnets:
         raise ScenarioError("`magnet` must list at least one magnet; got none",
                             site.source_file or None)
     plan = site_plan(site)
     s = plan.settings
-    step = s.grid_step_m if grid_step_m is None else float(grid_step_m)
-    if not (math.isfinite(step) and 0 < step <= 5.0):
-        raise FringeInputError(f"`--grid-step-m` must be a number in (0, 5] m; got {grid_step_m!r}")
+    step = check_grid_step_m(s.grid_step_m if grid_step_m is None else grid_step_m)
     thr_mT = s.thresholds_mT
     thr_T = [t * 1e-3 for t in thr_mT]
     say = progress or (lambda msg: None)
     quench_inputs = tuple(site.quench)
-    prefetch_quench_data(site)  # CoolProp's slow first import overlaps the maps below
 
     mags = []
     for m in site.magnets:

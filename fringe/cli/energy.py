@@ -11,17 +11,19 @@ from pathlib import Path
 
 import numpy as np
 
-from fringe.cli.main import EXIT_INTERNAL, magnet_option, print_json
+from fringe.analysis.energy_maps import (
+    DEFAULT_ENERGY_LEVELS_J_PER_M3,
+    energy_density_plan_map,
+    energy_density_section_map,
+)
+from fringe.cli.main import EXIT_INTERNAL, print_json
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE, MU0_T_M_PER_A
 from fringe.model.errors import FringeIOError, ScenarioError, must_be
 from fringe.physics.energy import (
-    DEFAULT_ENERGY_LEVELS_J_PER_M3,
     DEFAULT_ENVELOPE_MARGIN_M,
     MagnetEnergy,
     check_box,
-    energy_density_plan_map,
-    energy_density_section_map,
     energy_outside_sphere_J,
     magnet_energy,
     site_mutual_energies,
@@ -59,7 +61,7 @@ def register(sub) -> None:
     p.add_argument("--levels", nargs="+", type=float, metavar="U",
                    default=list(DEFAULT_ENERGY_LEVELS_J_PER_M3),
                    help="contour levels of the maps, J/m³ (default 1 10 100 1000)")
-    p.set_defaults(func=run)
+    p.set_defaults(func=run, flags={"magnet": "--magnet"})
 
 
 def magnet_record(e: MagnetEnergy) -> dict:
@@ -198,7 +200,7 @@ def run(args) -> int:
     site = load_site(args.scenario)
     if not site.magnets:
         raise ScenarioError("`magnet` must list at least one magnet; got none", args.scenario)
-    magnets = [magnet_option(site, args.magnet)] if args.magnet else list(site.magnets)
+    magnets = [site.magnet(args.magnet)] if args.magnet else list(site.magnets)
     if not (math.isfinite(args.envelope_margin_m) and args.envelope_margin_m >= 0):
         raise ScenarioError(must_be("--envelope-margin-m", "a number >= 0",
                                     args.envelope_margin_m))

@@ -8,6 +8,7 @@ import warnings
 from fringe.io.atomic import write_text_atomic
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeInputError, FringeWarning, ScenarioError
+from fringe.physics.families import FAMILIES
 from fringe.physics.fit import MAX_CENTER_FIELD_T, FieldLine, FitResult, fit_magnet
 
 __all__ = ["register", "run", "magnet_toml"]
@@ -59,7 +60,7 @@ def magnet_toml(result: FitResult) -> str:
            f'description = "{desc}"',
            f"center_m = [{_f(m.center_m[0])}, {_f(m.center_m[1])}, {_f(m.center_m[2])}]",
            f"axis = [{_f(m.axis[0])}, {_f(m.axis[1])}, {_f(m.axis[2])}]"]
-    names = _GROUP_NAMES["lab" if result.family.endswith("_lab") else "shielded"]
+    names = _GROUP_NAMES["lab" if FAMILIES[result.family].lab else "shielded"]
     for i, c in enumerate(m.coils):
         group = names[i // 2] if i // 2 < len(names) else f"coil pair {i // 2 + 1}"
         out += ["", f"  [[magnet.coil]]  # {group}, {'+' if c.z_max_m > 0 else '-'}z half",

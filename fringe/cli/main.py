@@ -21,7 +21,7 @@ import numpy as np
 from fringe.field.evaluate import coordinate_range_problem
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.constants import VERSION as __version__
-from fringe.model.errors import ArgumentError, FringeError, FringeWarning, ScenarioError, must_be
+from fringe.model.errors import ArgumentError, FringeError, FringeWarning, ScenarioError
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_EXCEEDS = 0, 1, 2, 3
 
@@ -37,16 +37,6 @@ COMMAND_MODULES: tuple[str, ...] = (
     "fringe.cli.fit",
     "fringe.cli.place",
 )
-
-
-def magnet_option(site, name: str, option: str = "--magnet"):
-    """``site.magnet(name)`` for a command-line option: an unknown name is refused with
-    an error naming ``option`` (the model's error names the scenario key ``magnet``)."""
-    try:
-        return site.magnet(name)
-    except ScenarioError:
-        raise ScenarioError(must_be(option, f"one of the site's magnets ({site.magnet_names()})",
-                                    name), site.source_file or None) from None
 
 
 class _Parser(argparse.ArgumentParser):

@@ -330,9 +330,11 @@ def write_outputs(site, result, equipment, doc: dict, out_dir: str | Path) -> li
     return names
 
 
+#: Argument of :func:`fringe.analysis.placement.search_placement` → option of this
+#: command, so the library's errors name the option typed.
 def run(args) -> int:
     from fringe.analysis.placement import search_placement
-    from fringe.cli.main import magnet_option, print_json
+    from fringe.cli.main import print_json
 
     angles = check_angles(args.angles)
     if args.threshold_mT is not None and not (math.isfinite(args.threshold_mT)
@@ -340,7 +342,7 @@ def run(args) -> int:
         raise ScenarioError(must_be("--threshold-mT", "a positive number of mT",
                                     args.threshold_mT))
     site = load_site(args.scenario)
-    magnet = magnet_option(site, args.magnet)  # the usual errors first: magnet, then region
+    magnet = site.magnet(args.magnet)  # the usual errors first: magnet, then region
     if args.out:  # refuse a folder we must not replace before spending time on the search
         from fringe.analysis.placement import parse_region
         from fringe.io.atomic import check_output_folder

@@ -1,7 +1,7 @@
 """``fringe quench``: the quench release budget of one magnet.
 
-Only parses, calls the library and renders: the physics is in :mod:`fringe.physics.quench`,
-the stored energy and circuit inductance in :mod:`fringe.physics.energy`.
+Only parses, calls the library and renders: the site-level budget is
+:func:`fringe.analysis.quench.budget_for_site`, the physics in :mod:`fringe.physics.quench`.
 """
 
 from __future__ import annotations
@@ -9,12 +9,13 @@ from __future__ import annotations
 import math
 import sys
 
-from fringe.cli.main import magnet_option, print_json
+from fringe.analysis.quench import budget_for_site
+from fringe.cli.main import print_json
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
-from fringe.model.errors import FringeInputError, ScenarioError, must_be
+from fringe.model.errors import ScenarioError, must_be
 from fringe.model.site import QuenchInputs, Site
-from fringe.physics.quench import QuenchBudget, quench_budget
+from fringe.physics.quench import QuenchBudget
 
 #: CLI option → (QuenchInputs attribute, scenario key, check). One list: parsing,
 #: scenario fall-back and error messages all read it.
@@ -54,12 +55,12 @@ def register(sub) -> None:
     p.add_argument("--json", action="store_true", help="print JSON instead of text")
     p.add_argument("--pdf", metavar="FILE",
                    help="also write the budget sheets (and the decay curves) to a PDF")
-    p.set_defaults(func=run)
+    p.set_defaults(func=run, flags={"magnet": "--magnet"})
 
 
 def _pick_magnet(site: Site, name: str | None) -> str:
     if name is not None:
-        return magnet_option(site, name).name  # ScenarioError listing the names otherwise
+        return site.magnet(name).name  # ArgumentError listing the names otherwise
     tables = site.quench
     if len(tables) == 1:
         return tables[0].magnet
@@ -106,39 +107,6 @@ def resolve_inputs(args, site: Site) -> QuenchInputs:
                 f"`{option}` must be given (or `{attr}` in a [[quench]] table for magnet "
                 f"{name!r}); got nothing", site.source_file or None)
     return QuenchInputs(name, **values)
-
-
-def room_conditions(q: QuenchInputs) -> tuple[float, float]:
-    """Room temperature (°C) and pressure (kPa) of ``q``, defaults filled in."""
-    return (20.0 if q.room_temperature_C is None else float(q.room_temperature_C),
-            101.325 if q.room_pressure_kPa is None else float(q.room_pressure_kPa))
-
-
-def budget_for_site(site: Site, q: QuenchInputs) -> QuenchBudget:
-    """Compute the budget of ``q.magnet``: W and L from :mod:`fringe.physics.energy`."""
-    from fringe.physics.energy import circuit_inductance_H, stored_energy_J
-
-    magnet = site.magnet(q.magnet)
-    w = stored_energy_J(magnet)
-    inductance = refused = current = None
-    if q.dump_ohm is not None:
-        inductance = circuit_inductance_H(magnet)
-        if inductance is None:
-            refused = (f"magnet {q.magnet!r}: the windings carry different current "
-                       "magnitudes, so it is not one series circuit with one inductance; "
-                       "the dump-resistor decay is not computed")
-        else:
-            current = abs(float(magnet.coils[0].current_A))  # the common |current|
-    t_c, p_kpa = room_conditions(q)
-    try:
-        return quench_budget(
-            w, q.helium_L, q.room_volume_m3,
-            room_temperature_C=t_c, room_pressure_kPa=p_kpa,
-            dump_ohm=q.dump_ohm, inductance_H=inductance, initial_current_A=current,
-            magnet_resistance_ohm=q.magnet_resistance_ohm or 0.0,
-            dump_refused_reason=refused or "", magnet=q.magnet)
-    except FringeInputError as e:
-        raise ScenarioError(str(e), site.source_file or None) from None
 
 
 def _pct(x: float) -> str:

@@ -109,13 +109,18 @@ def terminal_summary(result, out_dir: str | Path) -> str:
 def run_report(scenario: str | Path, out_dir: str | Path, *, grid_step_m: float | None = None,
                drawings: bool = True, quiet: bool = False):
     """Load, compute, write; returns the :class:`fringe.analysis.report.ReportResult`."""
-    from fringe.analysis.report import compute_report, prefetch_quench_data, write_report
+    from fringe.analysis.report import check_grid_step_m, compute_report, write_report
+    from fringe.io.prefetch import prefetch_quench_data
 
     site = load_site(scenario)
+    if grid_step_m is not None:
+        check_grid_step_m(grid_step_m, "--grid-step-m")
     progress = _Progress(quiet)
     progress(f"loaded {scenario}")
-    if drawings:  # import the drawing stack while a child starts CoolProp (both ~1 s+)
-        prefetch_quench_data(site)
+    # a child starts CoolProp (~1 s+) while this process imports the drawing stack and
+    # computes the maps
+    prefetch_quench_data(site)
+    if drawings:
         from fringe.render import drawing  # noqa: F401
     result = compute_report(site, grid_step_m=grid_step_m, progress=progress)
     write_report(result, out_dir, drawings=drawings, progress=progress)

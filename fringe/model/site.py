@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 
 from fringe.model.building import BOUNDARY_CHOICES, Boundary, Equipment, Floor, Room
 from fringe.model.constants import DEFAULT_THRESHOLDS_MT
-from fringe.model.errors import ScenarioError, must_be
+from fringe.model.errors import ArgumentError, must_be
 from fringe.model.magnet import Magnet
 
 __all__ = ["Site", "SitePlan", "PlanSettings", "RoomDrawing", "QuenchInputs", "site_plan",
@@ -160,12 +160,13 @@ class Site:
     quench: tuple[QuenchInputs, ...] = ()
 
     def magnet(self, name: str) -> Magnet:
-        """The magnet called ``name``; :class:`ScenarioError` listing the names otherwise."""
+        """The magnet called ``name``; :class:`ArgumentError` (argument ``magnet``) listing
+        the names otherwise."""
         for m in self.magnets:
             if m.name == name:
                 return m
-        raise ScenarioError(must_be("magnet", f"one of the site's magnets ({self.magnet_names()})",
-                                    name), self.source_file or None)
+        raise ArgumentError(must_be("magnet", f"one of the site's magnets ({self.magnet_names()})",
+                                    name), "magnet", self.source_file or None)
 
     def magnet_names(self) -> str:
         """The magnets' names quoted and comma-separated (``'none'`` for no magnet)."""

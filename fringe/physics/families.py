@@ -36,7 +36,9 @@ Jackson, *Classical Electrodynamics*, 3rd ed., Sec. 5.6 (dipole moment I·πR²)
 
 from __future__ import annotations
 
+import functools
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -47,7 +49,8 @@ from fringe.model.errors import FringeInputError, must_be
 from fringe.model.magnet import Coil, Magnet
 
 __all__ = ["shielded_whole_body", "unshielded_whole_body", "vertical_lab_magnet",
-           "thick_solenoid", "helmholtz_pair", "FAMILIES", "Family",
+           "thick_solenoid", "helmholtz_pair", "FAMILIES", "Family", "FitShape", "family",
+           "FIT_FAMILIES", "WHOLE_BODY_WARM_BORE_M", "LAB_WARM_BORE_M",
            "SUPERCONDUCTING_J_A_PER_M2", "RESISTIVE_J_A_PER_M2", "main_thickness_estimate_m"]
 
 #: Design winding current density of superconducting coils, A/m² (Nb-Ti magnets run at
@@ -325,23 +328,127 @@ def helmholtz_pair(center_field_T: float = 0.01, radius_m: float = 0.3,
     return _finalise(name, spec, b, current_A, (0.0, 0.0, 1.0), "generic resistive Helmholtz pair")
 
 
+#: Warm bore assumed when none is given for a whole-body magnet, m (common practice,
+#: no source: 0.6 m is the usual clinical warm bore; 0.7 m "wide bore").
+WHOLE_BODY_WARM_BORE_M: float = 0.6
+
+#: Warm bore assumed when none is given for a lab magnet, m (54 mm, the common NMR
+#: standard bore; common practice, no source).
+LAB_WARM_BORE_M: float = 0.054
+
+
+@dataclass(frozen=True)
+class FitShape:
+    """The shape parameters a data-sheet fit varies for one family.
+
+    Attributes
+    ----------
+    parameters : tuple of str
+        Names of the parameters (SI units in the names; ratios are dimensionless).
+    lower, upper : tuple of float
+        Bounds of each parameter.
+    nominal : tuple of float
+        The family's nominal shape: the first start and the point the fit's weak prior
+        pulls towards.
+    """
+
+    parameters: tuple[str, ...]
+    lower: tuple[float, ...]
+    upper: tuple[float, ...]
+    nominal: tuple[float, ...]
+
+
+_SHIELDED_PARAMETERS = ("half_length_over_radius", "shield_over_main_outer_radius",
+                        "residual_dipole_fraction")
+_UNSHIELDED_PARAMETERS = ("radius_over_minimum", "half_length_over_radius")
+
+
 @dataclass(frozen=True)
 class Family:
-    """One generic family: its name, builder and a line of description."""
+    """One generic magnet family and every fact about it.
+
+    Attributes
+    ----------
+    name : str
+        The one spelling of the family (registry key, ``FitResult.family``, ``fringe fit``
+        output).
+    build : callable
+        Builder with keyword defaults: ``build(center_field_T, ...) -> Magnet``.
+    description : str
+        One line.
+    shielded : bool or None
+        Actively shielded (None for families without that choice).
+    lab : bool
+        A small-bore lab magnet (else whole-body size, or not a bore magnet).
+    warm_bore_m : float or None
+        Warm bore assumed by the fit when none is given, m.
+    cryostat_allowance_m : float or None
+        Radial space between warm bore and main winding, m (cryostat: vacuum vessel,
+        thermal shield, helium vessel, former; common practice, no source).
+    field_range_T : tuple of float or None
+        Centre fields (T) the family is known to be built for; a fit outside draws a
+        warning with the number. Whole-body MR magnets: about 0.2 T (low-field open
+        systems) to 11.7 T (the strongest whole-body magnet built); lab magnets: to
+        28.2 T (1.2 GHz NMR). From memory; common practice, no source.
+    fit : FitShape or None
+        The shape parameters of a data-sheet fit (None: the fit does not use the family).
+    """
 
     name: str
-    build: object
+    build: Callable[..., Magnet]
     description: str
+    shielded: bool | None = None
+    lab: bool = False
+    warm_bore_m: float | None = None
+    cryostat_allowance_m: float | None = None
+    field_range_T: tuple[float, float] | None = None
+    fit: FitShape | None = None
 
 
-#: One registry of the generic families (name → builder and description).
+#: The one registry of the generic families (name → :class:`Family`); the data-sheet
+#: fit (:mod:`fringe.physics.fit`) and everything else read it.
 FAMILIES: dict[str, Family] = {f.name: f for f in (
     Family("shielded_whole_body", shielded_whole_body,
-           "actively shielded whole-body magnet (main pairs + reversed shield pair)"),
+           "actively shielded whole-body magnet (main pairs + reversed shield pair)",
+           shielded=True, warm_bore_m=WHOLE_BODY_WARM_BORE_M, cryostat_allowance_m=0.16,
+           field_range_T=(0.2, 11.7),
+           fit=FitShape(_SHIELDED_PARAMETERS, (0.9, 1.5, -0.4), (3.0, 3.0, 0.4),
+                        (1.6, 1.95, 0.0))),
     Family("unshielded_whole_body", unshielded_whole_body,
-           "unshielded whole-body magnet (homogenising main pairs)"),
-    Family("vertical_lab_magnet", vertical_lab_magnet,
-           "small-bore high-field vertical lab magnet, shielded or not"),
+           "unshielded whole-body magnet (homogenising main pairs)",
+           shielded=False, warm_bore_m=WHOLE_BODY_WARM_BORE_M, cryostat_allowance_m=0.16,
+           field_range_T=(0.2, 11.7),
+           fit=FitShape(_UNSHIELDED_PARAMETERS, (1.0, 0.9), (3.0, 3.5), (1.1, 1.8))),
+    Family("shielded_lab", functools.partial(vertical_lab_magnet, shielded=True),
+           "small-bore high-field vertical lab magnet, actively shielded "
+           "(vertical_lab_magnet)",
+           shielded=True, lab=True, warm_bore_m=LAB_WARM_BORE_M, cryostat_allowance_m=0.025,
+           field_range_T=(0.5, 28.2),
+           fit=FitShape(_SHIELDED_PARAMETERS, (1.5, 1.5, -0.4), (7.0, 4.0, 0.4),
+                        (3.0, 2.5, 0.0))),
+    Family("unshielded_lab", functools.partial(vertical_lab_magnet, shielded=False),
+           "small-bore high-field vertical lab magnet, unshielded (vertical_lab_magnet)",
+           shielded=False, lab=True, warm_bore_m=LAB_WARM_BORE_M, cryostat_allowance_m=0.025,
+           field_range_T=(0.1, 28.2),
+           fit=FitShape(_UNSHIELDED_PARAMETERS, (1.0, 1.5), (4.0, 7.0), (1.2, 3.0))),
     Family("thick_solenoid", thick_solenoid, "one thick solenoid"),
     Family("helmholtz_pair", helmholtz_pair, "resistive Helmholtz-type pair"),
 )}
+
+#: Names of the families a data-sheet fit can use, in the order it lists them.
+FIT_FAMILIES: tuple[str, ...] = tuple(n for n, f in FAMILIES.items() if f.fit is not None)
+
+
+def family(name: str) -> Family:
+    """The registry entry of ``name``.
+
+    Raises
+    ------
+    FringeInputError
+        For a name not in :data:`FAMILIES`.
+    """
+    try:
+        return FAMILIES[name]
+    except (KeyError, TypeError):
+        raise FringeInputError(must_be("family", f"one of {', '.join(FAMILIES)}",
+                                       name)) from None

@@ -52,6 +52,8 @@ from fringe.field.multipole import interior_coefficients_T, zonal_moments_Am
 from fringe.model.errors import FringeInputError, FringeWarning, must_be
 from fringe.model.magnet import Magnet
 from fringe.physics.families import (
+    FAMILIES,
+    FIT_FAMILIES,
     main_thickness_estimate_m,
     shielded_whole_body,
     unshielded_whole_body,
@@ -59,8 +61,7 @@ from fringe.physics.families import (
 )
 
 __all__ = ["FieldLine", "FitResult", "fit_magnet", "check_request", "minimum_dipole_moment_Am2",
-           "EXTENT_TOLERANCE", "DIPOLE_RATIO", "FIT_FAMILIES", "WHOLE_BODY_WARM_BORE_M",
-           "LAB_BORE_LIMIT_M"]
+           "EXTENT_TOLERANCE", "DIPOLE_RATIO", "LAB_BORE_LIMIT_M", "MAX_CENTER_FIELD_T"]
 
 #: Relative extent error above which the fit is reported as not reproducing the request.
 EXTENT_TOLERANCE: float = 0.02
@@ -68,20 +69,8 @@ EXTENT_TOLERANCE: float = 0.02
 #: Axial/radial extent ratio of a pure dipole, 2^{1/3} (Jackson Eq. 5.56).
 DIPOLE_RATIO: float = 2.0 ** (1.0 / 3.0)
 
-#: Warm bore assumed when none is given for a whole-body magnet, m (common practice,
-#: no source: 0.6 m is the usual clinical warm bore; 0.7 m "wide bore").
-WHOLE_BODY_WARM_BORE_M: float = 0.6
-
 #: Warm bores below this (m) select the vertical lab-magnet family.
 LAB_BORE_LIMIT_M: float = 0.3
-
-#: Radial space between warm bore and main winding, m (cryostat: vacuum vessel, thermal
-#: shield, helium vessel, former; common practice, no source).
-_CRYOSTAT_ALLOWANCE_M = {"whole_body": 0.16, "lab": 0.025}
-
-#: Names of the families the fit can use.
-FIT_FAMILIES: tuple[str, ...] = ("shielded_whole_body", "unshielded_whole_body",
-                                 "shielded_lab", "unshielded_lab")
 
 _PRIOR_WEIGHT = 1e-3
 #: A start whose worst extent error is below this ends the multi-start search.
@@ -97,17 +86,6 @@ _SERIES_FACTOR = 1.5
 #: resistive-superconducting records) no magnet family modelled here exists; common
 #: practice, no source.
 MAX_CENTER_FIELD_T: float = 50.0
-
-#: Centre fields (T) each fitted family is known to be built for; a request outside draws
-#: a warning with the number. Whole-body MR magnets: about 0.2 T (low-field open systems)
-#: to 11.7 T (the strongest whole-body magnet built); lab magnets: to 28.2 T (1.2 GHz
-#: NMR). From memory; common practice, no source.
-FAMILY_FIELD_RANGE_T: dict[str, tuple[float, float]] = {
-    "shielded_whole_body": (0.2, 11.7),
-    "unshielded_whole_body": (0.2, 11.7),
-    "shielded_lab": (0.5, 28.2),
-    "unshielded_lab": (0.1, 28.2),
-}
 
 @dataclass(frozen=True)
 class FieldLine:
@@ -132,7 +110,7 @@ class FitResult:
     magnet : Magnet
         The fitted equivalent magnet (centre at the origin, axis +z, whole turns).
     family : str
-        One of :data:`FIT_FAMILIES`.
+        One of :data:`fringe.physics.families.FIT_FAMILIES`.
     parameters : dict
         The family's shape parameters at the optimum (SI units in the names).
     requested, achieved : tuple of FieldLine
@@ -180,30 +158,18 @@ class _Spec:
 
 
 def _family_spec(family: str) -> _Spec:
-    if family == "shielded_whole_body":
-        return _Spec(family, np.array([0.9, 1.5, -0.4]), np.array([3.0, 3.0, 0.4]),
-                     np.array([1.6, 1.95, 0.0]),
-                     ("half_length_over_radius", "shield_over_main_outer_radius",
-                      "residual_dipole_fraction"))
-    if family == "shielded_lab":
-        return _Spec(family, np.array([1.5, 1.5, -0.4]), np.array([7.0, 4.0, 0.4]),
-                     np.array([3.0, 2.5, 0.0]),
-                     ("half_length_over_radius", "shield_over_main_outer_radius",
-                      "residual_dipole_fraction"))
-    if family == "unshielded_whole_body":
-        return _Spec(family, np.array([1.0, 0.9]), np.array([3.0, 3.5]), np.array([1.1, 1.8]),
-                     ("radius_over_minimum", "half_length_over_radius"))
-    if family == "unshielded_lab":
-        return _Spec(family, np.array([1.0, 1.5]), np.array([4.0, 7.0]), np.array([1.2, 3.0]),
-                     ("radius_over_minimum", "half_length_over_radius"))
-    raise FringeInputError(must_be("family", f"one of {', '.join(FIT_FAMILIES)}", family))
+    f = FAMILIES.get(family) if isinstance(family, str) else None
+    if f is None or f.fit is None:
+        raise FringeInputError(must_be("family", f"one of {', '.join(FIT_FAMILIES)}", family))
+    return _Spec(family, np.array(f.fit.lower), np.array(f.fit.upper),
+                 np.array(f.fit.nominal), f.fit.parameters)
 
 
 def _build(family: str, p: np.ndarray, center_field_T: float, a_min_m: float,
            whole_turns: bool) -> Magnet:
     """Family member for parameter vector ``p`` (see :func:`_family_spec`)."""
-    lab = family.endswith("_lab")
-    if family.startswith("shielded"):
+    lab = FAMILIES[family].lab
+    if FAMILIES[family].shielded:
         a = a_min_m
         h = p[0] * a
         t = main_thickness_estimate_m(center_field_T, a, h, lab=lab)
@@ -327,9 +293,9 @@ def _fit_family(family: str, center_field_T: float, a_min_m: float,
 
 
 def _a_min(family: str, bore_m: float | None) -> float:
-    lab = family.endswith("_lab")
-    bore = bore_m if bore_m is not None else (0.054 if lab else WHOLE_BODY_WARM_BORE_M)
-    return bore / 2 + _CRYOSTAT_ALLOWANCE_M["lab" if lab else "whole_body"]
+    f = FAMILIES[family]
+    bore = bore_m if bore_m is not None else f.warm_bore_m
+    return bore / 2 + f.cryostat_allowance_m
 
 
 def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
@@ -351,7 +317,7 @@ def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
         family is used, otherwise the whole-body one. When omitted both are tried and the
         better fit kept (whole-body assumes a 0.6 m warm bore, lab a 54 mm one).
     family : str, optional
-        Force one of :data:`FIT_FAMILIES`.
+        Force one of :data:`fringe.physics.families.FIT_FAMILIES`.
     name : str
         Name of the fitted magnet.
 
@@ -382,14 +348,15 @@ def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
     lines_t = tuple(parsed)
     if bore_m is not None and not (math.isfinite(bore_m) and bore_m > 0):
         raise FringeInputError(must_be("bore_m", "a positive number of metres", bore_m))
-    kind = "shielded" if shielded else "unshielded"
+    # whole-body before lab, as FIT_FAMILIES lists them
+    kinds = [n for n in FIT_FAMILIES if FAMILIES[n].shielded == bool(shielded)]
     if family is not None:
         _family_spec(family)
         candidates = [family]
     elif bore_m is None:
-        candidates = [f"{kind}_whole_body", f"{kind}_lab"]
+        candidates = kinds
     else:
-        candidates = [f"{kind}_lab" if bore_m < LAB_BORE_LIMIT_M else f"{kind}_whole_body"]
+        candidates = [n for n in kinds if FAMILIES[n].lab == (bore_m < LAB_BORE_LIMIT_M)]
 
     best = None
     for fam in candidates:  # without a bore: whole-body first, lab only if that fails
@@ -409,7 +376,7 @@ def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
         achieved.append(FieldLine(ln.threshold_T, ax, rad))
         residuals.append((ax / ln.axial_m - 1.0, rad / ln.radial_m - 1.0))
     warn = check_request(b0, lines_t, shielded, a_min)
-    lo, hi = FAMILY_FIELD_RANGE_T.get(fam, (0.0, math.inf))
+    lo, hi = FAMILIES[fam].field_range_T or (0.0, math.inf)
     if not lo <= b0 <= hi:
         warn.append(f"a centre field of {b0:g} T is implausible for the "
                     f"{fam.replace('_', ' ')} family (built for about {lo:g} to {hi:g} T); "

@@ -38,20 +38,22 @@ from __future__ import annotations
 
 import math
 import re
-import sys
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from functools import lru_cache
 from importlib import resources
 
 import numpy as np
 
-from fringe.io.forked import ForkedCall, forking_enabled
 from fringe.model.constants import ADVISORY_NOTICE, STANDARD_ATMOSPHERE_PA
 from fringe.model.errors import FringeInputError, must_be
 
 __all__ = [
     "HELIUM_FLUID", "AIR_OXYGEN_FRACTION", "OxygenThreshold", "OXYGEN_THRESHOLDS",
+    "OxygenModel", "OXYGEN_MODELS", "oxygen_model_text", "room_volume_formula",
     "QUENCH_CAUTIONS", "HeliumProperties", "helium_properties", "coolprop_source",
+    "room_conditions_K_Pa", "helium_properties_key", "helium_properties_expected",
+    "expect_helium_properties", "lookup_helium_properties",
     "boiloff_mass_kg", "liquid_volume_L", "liquid_mass_kg", "gas_volume_m3",
     "oxygen_fraction_after_release", "oxygen_fraction_displacement",
     "room_volume_for_oxygen_m3", "dump_time_constant_s", "dump_current_A",
@@ -86,6 +88,57 @@ OXYGEN_THRESHOLDS: tuple[OxygenThreshold, ...] = (
                     "used in some European guidance (e.g. the 18 % evacuation level of UK "
                     "BCGA guidance, as quoted by university safety calculators)"),
 )
+
+@dataclass(frozen=True)
+class OxygenModel:
+    """A room-oxygen model and its formula text, written here once for every printer.
+
+    Attributes
+    ----------
+    name : str
+        Registry key.
+    template : str
+        The formula with ``{x0}`` (the initial oxygen fraction) and ``{V}`` (the symbol
+        of the released gas volume) left open.
+    assumptions : str
+        What the model takes about the room.
+    source : str
+        Where it comes from.
+    """
+
+    name: str
+    template: str
+    assumptions: str
+    source: str
+
+    def formula(self, gas_symbol: str = "V_gas") -> str:
+        """The formula text, e.g. ``0.2095·exp(−V_gas/V_room)``."""
+        return self.template.format(x0=f"{AIR_OXYGEN_FRACTION:g}", V=gas_symbol)
+
+
+#: The room-oxygen models (:func:`oxygen_fraction_after_release`,
+#: :func:`oxygen_fraction_displacement`); JSON, tables and sheets print their text.
+OXYGEN_MODELS: dict[str, OxygenModel] = {m.name: m for m in (
+    OxygenModel("well-mixed", "{x0}·exp(−{V}/V_room)",
+                "well-mixed room, displaced mixture escapes, no ventilation",
+                "Fermilab ES&H Manual ch. 4240 §6.1.A"),
+    OxygenModel("displacement", "{x0}·(1 − {V}/V_room)",
+                "released gas pushes out unmixed air",
+                "common practice, no source beyond university safety calculators"),
+)}
+
+
+def room_volume_formula(threshold_fraction: float, gas_symbol: str = "V") -> str:
+    """Text of :func:`room_volume_for_oxygen_m3`, e.g. ``V/ln(0.2095/0.195)``."""
+    return f"{gas_symbol}/ln({AIR_OXYGEN_FRACTION:g}/{threshold_fraction:g})"
+
+
+def oxygen_model_text() -> str:
+    """The ``oxygen_model`` line of a budget's JSON: both models and their formulas."""
+    mixed, disp = OXYGEN_MODELS["well-mixed"], OXYGEN_MODELS["displacement"]
+    return (f"{mixed.assumptions}: x = {mixed.formula()} ({mixed.source}); "
+            f"{disp.name} cross-check x = {disp.formula()}")
+
 
 #: Cautions printed with every quench budget (human output and JSON ``cautions``).
 QUENCH_CAUTIONS: tuple[str, ...] = (
@@ -194,31 +247,55 @@ class HeliumProperties:
                 "source": self.source}
 
 
-#: Helium property look-ups started ahead in a forked child, by their arguments.
-_PREFETCHED: dict[tuple[float, float, float], ForkedCall] = {}
-
+#: Helium look-ups already running elsewhere, by their key (see
+#: :func:`expect_helium_properties`): a zero-argument callable that returns the values.
+_EXPECTED: dict[tuple[float, float, float], Callable[[], HeliumProperties]] = {}
 
 def room_conditions_K_Pa(room_temperature_C: float = 20.0,
                          room_pressure_kPa: float = 101.325) -> tuple[float, float]:
     """(K, Pa) of room conditions given in °C and kPa, as :func:`quench_budget` passes
-    them to :func:`helium_properties` (so a prefetch asks for exactly the same key)."""
+    them to :func:`helium_properties` (so a look-up started ahead asks for exactly the
+    same key)."""
     return float(room_temperature_C) + 273.15, float(room_pressure_kPa) * 1e3
 
 
-def prefetch_helium_properties(room_temperature_K: float = 293.15,
-                               room_pressure_Pa: float = STANDARD_ATMOSPHERE_PA,
-                               boil_pressure_Pa: float = STANDARD_ATMOSPHERE_PA) -> None:
-    """Start :func:`helium_properties` for these conditions in a second process.
+def helium_properties_key(room_temperature_K: float = 293.15,
+                          room_pressure_Pa: float = STANDARD_ATMOSPHERE_PA,
+                          boil_pressure_Pa: float = STANDARD_ATMOSPHERE_PA
+                          ) -> tuple[float, float, float]:
+    """The key of one :func:`helium_properties` look-up: its three arguments as floats."""
+    return float(room_temperature_K), float(room_pressure_Pa), float(boil_pressure_Pa)
 
-    CoolProp's first import takes seconds of one core (most of it the library's own
-    start-up); a report starts this before its field maps, so the import overlaps them
-    and the later :func:`helium_properties` call just collects the values. Does nothing
-    when CoolProp is already imported or processes cannot be forked.
+
+def helium_properties_expected(room_temperature_K: float = 293.15,
+                               room_pressure_Pa: float = STANDARD_ATMOSPHERE_PA,
+                               boil_pressure_Pa: float = STANDARD_ATMOSPHERE_PA) -> bool:
+    """True while values promised by :func:`expect_helium_properties` for these
+    conditions wait to be collected by :func:`helium_properties`."""
+    return helium_properties_key(room_temperature_K, room_pressure_Pa,
+                                 boil_pressure_Pa) in _EXPECTED
+
+
+def expect_helium_properties(room_temperature_K: float, room_pressure_Pa: float,
+                             boil_pressure_Pa: float,
+                             result: Callable[[], HeliumProperties]) -> None:
+    """Promise :func:`helium_properties` the values of one look-up computed elsewhere.
+
+    ``result`` is called (once, with no arguments) by the next :func:`helium_properties`
+    call with these conditions, instead of asking CoolProp; it should return what
+    :func:`lookup_helium_properties` returns for them (e.g. the value of the same look-up
+    run ahead in another process, :mod:`fringe.io.prefetch`). If it raises, the look-up
+    runs here, so errors come the usual way.
+
+    Parameters
+    ----------
+    room_temperature_K, room_pressure_Pa, boil_pressure_Pa : float
+        The conditions, as :func:`helium_properties` takes them.
+    result : callable
+        ``result() -> HeliumProperties``.
     """
-    key = (float(room_temperature_K), float(room_pressure_Pa), float(boil_pressure_Pa))
-    if "CoolProp" in sys.modules or key in _PREFETCHED or not forking_enabled():
-        return
-    _PREFETCHED[key] = ForkedCall(_coolprop_helium_properties, *key)
+    _EXPECTED[helium_properties_key(room_temperature_K, room_pressure_Pa,
+                                    boil_pressure_Pa)] = result
 
 
 @lru_cache(maxsize=64)
@@ -240,6 +317,8 @@ def helium_properties(room_temperature_K: float = 293.15,
     Returns
     -------
     HeliumProperties
+        Cached per conditions; values promised by :func:`expect_helium_properties` are
+        collected instead of asking CoolProp again.
 
     Raises
     ------
@@ -251,19 +330,20 @@ def helium_properties(room_temperature_K: float = 293.15,
     .. [1] CoolProp HEOS backend, helium-4 equation of state of Ortiz-Vega et al.
        (see :func:`coolprop_source`).
     """
-    key = (float(room_temperature_K), float(room_pressure_Pa), float(boil_pressure_Pa))
-    ahead = _PREFETCHED.pop(key, None)
+    key = helium_properties_key(room_temperature_K, room_pressure_Pa, boil_pressure_Pa)
+    ahead = _EXPECTED.pop(key, None)
     if ahead is not None:
         try:
-            return ahead.result()
+            return ahead()
         except Exception:  # noqa: BLE001 - compute here, so errors come the usual way
             pass
-    return _coolprop_helium_properties(*key)
+    return lookup_helium_properties(*key)
 
 
-def _coolprop_helium_properties(room_temperature_K: float, room_pressure_Pa: float,
-                                boil_pressure_Pa: float) -> HeliumProperties:
-    """The CoolProp look-ups behind :func:`helium_properties` (uncached)."""
+def lookup_helium_properties(room_temperature_K: float, room_pressure_Pa: float,
+                             boil_pressure_Pa: float) -> HeliumProperties:
+    """The CoolProp look-ups behind :func:`helium_properties` (uncached, nothing expected
+    is collected): what a look-up run ahead elsewhere computes."""
     from CoolProp.CoolProp import PropsSI
 
     try:
@@ -574,9 +654,7 @@ class QuenchBudget:
             "oxygen_fraction_worst_case": self.oxygen_fraction_worst_case,
             "oxygen_fraction_worst_case_displacement":
                 self.oxygen_fraction_worst_case_displacement,
-            "oxygen_model": ("well-mixed room, displaced mixture escapes, no ventilation: "
-                             "x = 0.2095·exp(−V_gas/V_room) (Fermilab ES&H Manual ch. 4240 "
-                             "§6.1.A); displacement cross-check x = 0.2095·(1 − V_gas/V_room)"),
+            "oxygen_model": oxygen_model_text(),
             "room_volume_m3_for_19_5_percent": self.room_volume_m3_for_19_5_percent,
             "oxygen_thresholds": list(self.thresholds),
             "time_constant_s": self.time_constant_s,
@@ -723,6 +801,7 @@ def dump_decay_curves(dump: DumpCircuit, n_points: int = 201,
 def budget_table_rows(b: QuenchBudget) -> list[tuple[str, float | str, str, str]]:
     """The budget as rows (quantity, value, unit, basis) for tables and reports."""
     he = b.helium
+    mixed = OXYGEN_MODELS["well-mixed"]
     room = f"{b.room_temperature_C:g} °C, {b.room_pressure_kPa:g} kPa"
     rows: list[tuple[str, float | str, str, str]] = [
         ("stored energy W", b.stored_energy_J / 1e6, "MJ", "fringe.physics.energy: ½·Iᵀ·M·I"),
@@ -738,13 +817,14 @@ def budget_table_rows(b: QuenchBudget) -> list[tuple[str, float | str, str, str]
          f"gas at {room}"),
         ("room free volume", b.room_volume_m3, "m³", "input"),
         ("oxygen after energy-limited release", 100 * b.oxygen_fraction_energy_limited, "%",
-         "0.2095·exp(−V/V_room), well mixed"),
+         f"{mixed.formula('V')}, well mixed"),
         ("oxygen after whole inventory", 100 * b.oxygen_fraction_worst_case, "%",
-         "0.2095·exp(−V/V_room), well mixed"),
+         f"{mixed.formula('V')}, well mixed"),
         ("oxygen after whole inventory, displacement",
-         100 * b.oxygen_fraction_worst_case_displacement, "%", "0.2095·(1 − V/V_room)"),
+         100 * b.oxygen_fraction_worst_case_displacement, "%",
+         OXYGEN_MODELS["displacement"].formula("V")),
         ("room volume keeping worst case ≥ 19.5 %", b.room_volume_m3_for_19_5_percent, "m³",
-         "V/ln(0.2095/0.195)"),
+         room_volume_formula(0.195)),
     ]
     for t in b.thresholds:
         rows.append((f"{t['threshold']} threshold", f"energy-limited {t['energy_limited']}; "

@@ -9,7 +9,12 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from fringe.physics.quench import QuenchBudget, budget_table_rows, dump_decay_curves
+from fringe.physics.quench import (
+    OXYGEN_MODELS,
+    QuenchBudget,
+    budget_table_rows,
+    dump_decay_curves,
+)
 from fringe.render.drawing import Curve, CurvePanel, SheetInfo, curve_sheet, table_sheet, write_pdf
 
 __all__ = ["quench_sheets", "quench_decay_sheet", "write_quench_pdf"]
@@ -18,8 +23,8 @@ _MODEL_NOTES: tuple[str, ...] = (
     "Energy-limited boil-off W/h_fg takes all stored energy as latent heat of saturated "
     "liquid at 1 atm: an upper bound for the energy alone; the whole inventory can still be "
     "lost, hence the worst case.",
-    "Room oxygen: well-mixed room, displaced mixture escapes, no ventilation, vent pipe "
-    "failed: x = 0.2095·exp(−V_gas/V_room) (Fermilab ES&H Manual ch. 4240 §6.1.A).",
+    f"Room oxygen: {OXYGEN_MODELS['well-mixed'].assumptions}, vent pipe failed: "
+    f"x = {OXYGEN_MODELS['well-mixed'].formula()} ({OXYGEN_MODELS['well-mixed'].source}).",
 )
 
 
