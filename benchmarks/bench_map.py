@@ -25,7 +25,8 @@ import time
 from importlib import resources
 from pathlib import Path
 
-from fringe.io.gridmap import grid_from_box, write_map
+from fringe.field.grid import grid_from_box
+from fringe.io.gridmap import write_map
 from fringe.io.scenario import load_site
 
 

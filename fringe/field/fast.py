@@ -299,7 +299,7 @@ class AxisymmetricModel:
         return band
 
     def to_arrays(self) -> dict[str, np.ndarray]:
-        """The model as named arrays (for a store: e.g. ``numpy.savez``); see :meth:`from_arrays`."""
+        """The model as named arrays (e.g. for ``numpy.savez``); see :meth:`from_arrays`."""
         t = self.table
         return {"scale_m": np.asarray(self.scale_m), "d": self.d,
                 "band_edges": self.band_edges, "band_lmax": self.band_lmax,

@@ -18,8 +18,6 @@ from functools import cached_property
 import numpy as np
 from scipy.spatial.transform import Rotation
 
-from fringe.model.constants import MU0_T_M_PER_A
-
 __all__ = ["Coil", "Magnet"]
 
 
