@@ -470,3 +470,30 @@ def test_model_arrays_round_trip():
     assert (back.table.rho0, back.table.z0, back.table.inv_h, back.table.n_rho,
             back.table.n_z) == (model.table.rho0, model.table.z0, model.table.inv_h,
                                 model.table.n_rho, model.table.n_z)
+
+
+def test_disk_store_is_installed_once_by_the_program_and_the_api(monkeypatch, write_file,
+                                                                capsys):
+    # common practice, no source: the command line and the first use of the public API
+    # install the disk store; installing again keeps whatever store is in place.
+    from conftest import SMALL_SCENARIO_TOML
+
+    import fringe
+    from fringe.cli.main import main
+    from fringe.field import fast as fastfield
+    from fringe.io.model_cache import DiskModelStore, install
+
+    monkeypatch.setattr(fastfield, "_STORE", None)
+    install()
+    first = fastfield.model_store()
+    assert isinstance(first, DiskModelStore)
+    install()
+    assert fastfield.model_store() is first
+    monkeypatch.setattr(fastfield, "_STORE", None)
+    monkeypatch.delitem(fringe.__dict__, "field_at", raising=False)
+    assert callable(fringe.field_at)
+    assert isinstance(fastfield.model_store(), DiskModelStore)
+    monkeypatch.setattr(fastfield, "_STORE", None)
+    assert main(["probe", str(write_file(SMALL_SCENARIO_TOML)), "--at", "0", "0", "3"]) == 0
+    assert isinstance(fastfield.model_store(), DiskModelStore)
+    capsys.readouterr()

@@ -190,3 +190,12 @@ def test_cli_map_unusable_scheduler_fails_before_writing(tmp_path, demo_path, ca
     assert code == 2
     assert "`--scheduler` must be" in capsys.readouterr().err
     assert not list(tmp_path.iterdir())
+
+
+def test_grid_errors_name_the_key_given():
+    # common practice, no source: the field layer names its Python arguments; a caller
+    # (the command line) passes its own names for the box and the step.
+    with pytest.raises(FringeInputError, match="`--box` must be a box"):
+        grid_from_box((1, 0, 0, 0, 1, 1), 0.1, box_key="--box", step_key="--step")
+    with pytest.raises(FringeInputError, match="`--step` must be a positive number"):
+        grid_from_box((0, 0, 0, 1, 1, 1), -1.0, box_key="--box", step_key="--step")
