@@ -250,7 +250,8 @@ def field_at_magpylib(site, points_m, order: int = DEFAULT_RADIAL_ORDER,
     Same physics as :func:`field_at` with ``method="direct"`` but through magpylib's
     object interface; this is the "direct magpylib sum" benchmarks compare against.
     """
-    return magpylib_field_site_T(as_magnets(site), as_points(points_m), order, panels)
+    p = as_points(points_m)
+    return magpylib_field_site_T(as_magnets(site), p, order, panels)
 
 
 def energy_density_J_per_m3(B_T) -> np.ndarray:
