@@ -95,7 +95,7 @@ def grid_points(grid: Grid, start: int, stop: int) -> np.ndarray:
 
 
 def block_field(idx: np.ndarray, magnets=(), grid: Grid | None = None,
-                 dtype=np.float32) -> np.ndarray:
+                dtype=np.float32) -> np.ndarray:
     """Field (M, 4): B_x, B_y, B_z, |B| in T at grid points numbered ``idx`` (contiguous)."""
     if idx.size == 0:
         return np.zeros((0, 4), dtype=dtype)
