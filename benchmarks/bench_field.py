@@ -37,6 +37,7 @@ import numpy as np
 
 from fringe.field.evaluate import field_at, field_at_magpylib
 from fringe.field.fast import prepare_models
+from fringe.io.model_cache import install as install_model_cache
 from fringe.io.scenario import load_site
 
 
@@ -69,6 +70,7 @@ CASES = {"mix": (1.0, 30.0, "uniform"), "far": (5.0, 30.0, "uniform"),
 
 
 def main() -> None:
+    install_model_cache()  # models on disk, as the program keeps them
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--n", type=int, default=1_000_000)
     ap.add_argument("--cases", nargs="+", default=["mix", "far"], choices=sorted(CASES))

@@ -25,11 +25,14 @@ import time
 from importlib import resources
 from pathlib import Path
 
-from fringe.io.gridmap import grid_from_box, write_map
+from fringe.field.grid import grid_from_box
+from fringe.io.gridmap import write_map
+from fringe.io.model_cache import install as install_model_cache
 from fringe.io.scenario import load_site
 
 
 def main() -> None:
+    install_model_cache()  # models on disk, as the program keeps them
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--box", nargs=6, type=float, default=[-6, 0, -3.5, 20, 10, 6])
     ap.add_argument("--step", type=float, default=0.0625)

@@ -62,6 +62,8 @@ __all__ = ["__version__", *_PUBLIC]
 
 def __getattr__(name: str) -> Any:
     if name in _PUBLIC:
+        # first use of the public API: keep fast field models on disk between runs
+        importlib.import_module("fringe.io.model_cache").install()
         value = getattr(importlib.import_module(_PUBLIC[name]), name)
         globals()[name] = value
         return value

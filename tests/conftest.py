@@ -15,6 +15,14 @@ if os.environ.get("CI"):
     settings.load_profile("ci")
 
 
+@pytest.fixture(scope="session", autouse=True)
+def model_disk_cache():
+    """The disk store of fast field models, as the command line and the public API install it."""
+    from fringe.io.model_cache import install
+
+    install()
+
+
 @pytest.fixture(scope="session")
 def demo_site():
     """The invented demo site shipped with the package."""

@@ -15,7 +15,8 @@ from fringe.analysis.energy_maps import (
     energy_density_plan_map,
     energy_density_section_map,
 )
-from fringe.field.evaluate import field_at, magnet_field_local_T, points_in_windings
+from fringe.field.direct import magnet_field_local_T
+from fringe.field.evaluate import field_at, points_in_windings
 from fringe.field.multipole import zonal_moments_Am
 from fringe.model.constants import MU0_T_M_PER_A as MU0
 from fringe.model.magnet import Coil, Magnet

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
-from fringe.field.evaluate import magnet_field_local_T
+from fringe.field.direct import magnet_field_local_T
 from fringe.field.extents import extents_from_moments, field_bound_radius_m, threshold_extents_m
 from fringe.field.multipole import zonal_moments_Am
 from fringe.model.constants import MU0_T_M_PER_A

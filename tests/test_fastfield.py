@@ -81,7 +81,7 @@ def magnets(demo_site):
 
 @pytest.mark.parametrize("name", ["demo-shielded", "unshielded", "lab"])
 def test_auto_within_bound_of_direct_sum_at_random_points(magnets, name):
-    # Source: consistency with the direct sum (fringe.field.evaluate.magnet_field_local_T), the
+    # Source: consistency with the direct sum (fringe.field.direct.magnet_field_local_T), the
     # reference the fast path promises to match within 1e-4 relative to |B|.
     m = magnets[name]
     pts = random_points(m, 2500, seed={"demo-shielded": 1, "unshielded": 2, "lab": 3}[name])
@@ -150,7 +150,7 @@ def test_sheet_moments_equal_exact_coil_moments_at_low_degree(magnets):
     # Source: the coil's zonal moments (fringe.field.multipole, exact Gauss-Legendre integration
     # of Smythe's loop formula, Sec. 7.13): the sheet rule integrates r^(l+1) exactly for
     # l ≤ 14 (8-node Gauss-Legendre, A&S 25.4.29), so both agree to rounding there.
-    from fringe.model.magnet import current_sheets
+    from fringe.field.sources import current_sheets
 
     m = magnets["demo-shielded"]
     s = current_sheets(m)
@@ -246,6 +246,9 @@ def test_disk_cache_round_trip(tmp_path, monkeypatch):
     # common practice, no source: a model read back from the disk cache gives the same
     # field as the one built; "off" disables the cache.
     from fringe.field import fast as fastfield
+    from fringe.io.model_cache import DiskModelStore
+
+    monkeypatch.setattr(fastfield, "_STORE", DiskModelStore())
 
     coils = (Coil(0.011, 0.013, -0.02, 0.03, 300, 2.0),)      # asymmetric, tiny
     pts = np.array([[0.0, 0.0, 0.0], [0.01, 0.0, 0.05], [0.1, 0.2, -0.3]])
@@ -316,7 +319,9 @@ def test_few_points_on_a_new_coil_set_use_the_direct_sum(monkeypatch, tmp_path):
     # a handful of points on an unseen coil set (a fit iteration) is summed directly, and
     # the model is built once the points asked of that coil set pass the threshold.
     from fringe.field import fast as fastfield
+    from fringe.io.model_cache import DiskModelStore
 
+    monkeypatch.setattr(fastfield, "_STORE", DiskModelStore())
     monkeypatch.setattr(fastfield, "BUILD_AFTER_POINTS", 1000)
     monkeypatch.setenv("FRINGE_CACHE_DIR", str(tmp_path))
     m = Magnet("new", (0.0, 0.0, 0.0), (0.0, 0.0, 1.0),
@@ -399,3 +404,96 @@ def test_points_on_winding_corners_are_finite(magnets):
     near = field_at(m, m.to_site(loc + 1e-6))
     assert np.all(np.isfinite(b))
     assert rel_err(b, near).max() < 1e-3
+
+
+class _MemoryStore:
+    """A model store in a dict, recording what is asked of it."""
+
+    def __init__(self):
+        self.models = {}
+        self.calls = []
+
+    def has(self, key):
+        self.calls.append(("has", key))
+        return key in self.models
+
+    def load(self, key):
+        self.calls.append(("load", key))
+        return self.models.get(key)
+
+    def save(self, key, model):
+        self.calls.append(("save", key))
+        self.models[key] = model
+
+
+def test_model_store_is_pluggable_and_asked_whether_it_holds_a_model(monkeypatch):
+    # common practice, no source: the field layer keeps models through whatever store is
+    # installed (no file access of its own); a model in the store is served at once.
+    from fringe.field import fast as fastfield
+
+    store = _MemoryStore()
+    monkeypatch.setattr(fastfield, "_STORE", None)
+    assert fastfield.set_model_store(store) is None
+    assert fastfield.model_store() is store
+    coils = (Coil(0.021, 0.024, -0.03, 0.02, 200, 1.0),)
+    m = Magnet("s", (0.0, 0.0, 0.0), (0.0, 0.0, 1.0), coils)
+    key = fastfield.model_key(coils)
+    fastfield.axisymmetric_model.cache_clear()
+    built = fastfield.axisymmetric_model(coils)
+    assert store.calls == [("load", key), ("save", key)]
+    fastfield.axisymmetric_model.cache_clear()
+    fastfield._memory_keys.clear()
+    assert fastfield.axisymmetric_model(coils) is built          # served by the store
+    fastfield.axisymmetric_model.cache_clear()
+    fastfield._memory_keys.clear()
+    monkeypatch.setattr(fastfield, "BUILD_AFTER_POINTS", 10**9)
+    assert fastfield.model_wanted(coils, 1)                     # the store holds it
+    assert ("has", key) in store.calls
+    assert not fastfield.model_wanted((Coil(0.3, 0.4, -0.1, 0.1, 10, 1.0),), 1)
+    fastfield.axisymmetric_model.cache_clear()
+    pts = np.array([[0.0, 0.0, 0.5], [0.1, 0.0, 0.3]])
+    np.testing.assert_array_equal(field_at(m, pts), field_at(m, pts))
+
+
+def test_model_arrays_round_trip():
+    # common practice, no source: to_arrays/from_arrays keep every number of the model.
+    from fringe.field import fast as fastfield
+
+    coils = (Coil(0.011, 0.013, -0.02, 0.03, 300, 1.0),)
+    model = fastfield.axisymmetric_model(coils)
+    back = fastfield.AxisymmetricModel.from_arrays(model.to_arrays())
+    for name in ("d", "band_edges", "band_lmax", "band_err", "windings_scaled"):
+        np.testing.assert_array_equal(getattr(back, name), getattr(model, name))
+    assert back.scale_m == model.scale_m
+    np.testing.assert_array_equal(back.table.values, model.table.values)
+    np.testing.assert_array_equal(back.table.error, model.table.error)
+    assert (back.table.rho0, back.table.z0, back.table.inv_h, back.table.n_rho,
+            back.table.n_z) == (model.table.rho0, model.table.z0, model.table.inv_h,
+                                model.table.n_rho, model.table.n_z)
+
+
+def test_disk_store_is_installed_once_by_the_program_and_the_api(monkeypatch, write_file,
+                                                                capsys):
+    # common practice, no source: the command line and the first use of the public API
+    # install the disk store; installing again keeps whatever store is in place.
+    from conftest import SMALL_SCENARIO_TOML
+
+    import fringe
+    from fringe.cli.main import main
+    from fringe.field import fast as fastfield
+    from fringe.io.model_cache import DiskModelStore, install
+
+    monkeypatch.setattr(fastfield, "_STORE", None)
+    install()
+    first = fastfield.model_store()
+    assert isinstance(first, DiskModelStore)
+    install()
+    assert fastfield.model_store() is first
+    monkeypatch.setattr(fastfield, "_STORE", None)
+    monkeypatch.delitem(fringe.__dict__, "field_at", raising=False)
+    assert callable(fringe.field_at)
+    assert isinstance(fastfield.model_store(), DiskModelStore)
+    monkeypatch.setattr(fastfield, "_STORE", None)
+    assert main(["probe", str(write_file(SMALL_SCENARIO_TOML)), "--at", "0", "0", "3"]) == 0
+    assert isinstance(fastfield.model_store(), DiskModelStore)
+    capsys.readouterr()

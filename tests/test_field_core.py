@@ -14,12 +14,8 @@ from scipy import integrate
 from scipy.spatial.transform import Rotation
 
 from fringe import Coil, Magnet, field_at
-from fringe.field.evaluate import (
-    _magnet_field_site_T,
-    field_at_magpylib,
-    magnet_field_local_T,
-    points_in_windings,
-)
+from fringe.field.direct import magnet_field_local_T, magnet_field_site_T
+from fringe.field.evaluate import field_at_magpylib, points_in_windings
 from fringe.model.constants import MU0_T_M_PER_A as MU0
 
 RTOL_OUTSIDE = 1e-4  # the engine's stated accuracy outside windings (issue: core)
@@ -206,7 +202,7 @@ def test_kernel_path_equals_magpylib_objects(demo_site):
     pts = pts[~points_in_windings(demo_site, pts, margin_m=0.05)]
     ref = field_at_magpylib(demo_site, pts)
     # Same sheets, fixed rule (refine=False), evaluated through our kernel path.
-    got = _magnet_field_site_T(demo_site.magnets[0], pts, refine=False)
+    got = magnet_field_site_T(demo_site.magnets[0], pts, refine=False)
     assert rel_err(got, ref).max() < 1e-9
 
 

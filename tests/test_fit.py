@@ -10,7 +10,7 @@ import pytest
 from scipy.optimize import brentq
 
 from fringe.cli.main import main
-from fringe.field.evaluate import magnet_field_local_T
+from fringe.field.direct import magnet_field_local_T
 from fringe.io.scenario import load_site, parse_site
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeWarning, ScenarioError

@@ -12,7 +12,8 @@ import pytest
 from fringe import Coil, Magnet
 from fringe.cli.main import main
 from fringe.field.evaluate import field_at
-from fringe.io.gridmap import Grid, grid_from_box, grid_points, map_blocks, read_vti, write_map
+from fringe.field.grid import Grid, grid_from_box, grid_points, map_blocks
+from fringe.io.gridmap import read_vti, scheduled_blocks, write_map
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeInputError
 
@@ -41,9 +42,9 @@ def test_grid_from_box_counts_nodes_and_includes_both_corners():
 
 
 @pytest.mark.parametrize("box, step, text", [
-    ((0, 0, 0, -1, 1, 1), 0.1, "`--box` must be a box with X1 ≥ X0"),
-    ((0, 0, 0, 1, 1), 0.1, "`--box` must be six finite numbers"),
-    ((0, 0, 0, 1, 1, 1), 0.0, "`--step` must be a positive number of metres; got 0.0"),
+    ((0, 0, 0, -1, 1, 1), 0.1, "`box_m` must be a box with X1 ≥ X0"),
+    ((0, 0, 0, 1, 1), 0.1, "`box_m` must be six finite numbers"),
+    ((0, 0, 0, 1, 1, 1), 0.0, "`step_m` must be a positive number of metres; got 0.0"),
 ])
 def test_bad_boxes_are_refused_with_one_message_form(box, step, text):
     # common practice, no source: message form "`key` must be …; got …".
@@ -99,7 +100,8 @@ def test_dask_blocks_equal_the_plain_blocks(scheduler):
     m = small_magnet()
     g = grid_from_box((-0.3, -0.3, -0.3, 0.3, 0.3, 0.3), 0.1)
     plain = list(map_blocks(m, g, block_points=60))
-    viadask = list(map_blocks(m, g, block_points=60, scheduler=scheduler, parallel_blocks=3))
+    viadask = list(scheduled_blocks(m, g, block_points=60, scheduler=scheduler,
+                                   parallel_blocks=3))
     assert [s for s, _ in plain] == [s for s, _ in viadask]
     for (_, a), (_, b) in zip(plain, viadask, strict=True):
         np.testing.assert_array_equal(a, b)
@@ -110,7 +112,7 @@ def test_unknown_scheduler_address_is_an_input_error():
     pytest.importorskip("dask")
     g = Grid((0.0, 0.0, 1.0), 0.1, (2, 2, 1))
     with pytest.raises(FringeInputError, match="`--scheduler`"):
-        list(map_blocks(small_magnet(), g, scheduler="tcp://127.0.0.1:9"))
+        list(scheduled_blocks(small_magnet(), g, scheduler="tcp://127.0.0.1:9"))
 
 
 def test_map_memory_is_bounded_by_the_block_not_the_map(tmp_path):
@@ -188,3 +190,12 @@ def test_cli_map_unusable_scheduler_fails_before_writing(tmp_path, demo_path, ca
     assert code == 2
     assert "`--scheduler` must be" in capsys.readouterr().err
     assert not list(tmp_path.iterdir())
+
+
+def test_grid_errors_name_the_key_given():
+    # common practice, no source: the field layer names its Python arguments; a caller
+    # (the command line) passes its own names for the box and the step.
+    with pytest.raises(FringeInputError, match="`--box` must be a box"):
+        grid_from_box((1, 0, 0, 0, 1, 1), 0.1, box_key="--box", step_key="--step")
+    with pytest.raises(FringeInputError, match="`--step` must be a positive number"):
+        grid_from_box((0, 0, 0, 1, 1, 1), -1.0, box_key="--box", step_key="--step")

@@ -7,7 +7,7 @@ import math
 import numpy as np
 import pytest
 
-from fringe.field.evaluate import magnet_field_local_T
+from fringe.field.direct import magnet_field_local_T
 from fringe.field.multipole import zonal_moments_Am
 from fringe.model.constants import MU0_T_M_PER_A
 from fringe.model.errors import FringeInputError

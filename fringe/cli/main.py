@@ -19,6 +19,7 @@ from pathlib import Path
 import numpy as np
 
 from fringe.field.evaluate import coordinate_range_problem
+from fringe.io.model_cache import install as install_model_cache
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.constants import VERSION as __version__
 from fringe.model.errors import ArgumentError, FringeError, FringeWarning, ScenarioError
@@ -70,6 +71,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     if not getattr(args, "func", None):
         parser.print_help()
         return EXIT_INPUT
+    install_model_cache()
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("always", FringeWarning)

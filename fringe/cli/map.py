@@ -7,7 +7,8 @@ import time
 
 import numpy as np
 
-from fringe.io.gridmap import DEFAULT_BLOCK_POINTS, MAP_FORMATS, grid_from_box, write_map
+from fringe.field.grid import DEFAULT_BLOCK_POINTS, grid_from_box
+from fringe.io.gridmap import MAP_FORMATS, write_map
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeInputError, ScenarioError
@@ -70,7 +71,7 @@ class ProgressBar:
 def run(args) -> int:
     site = load_site(args.scenario)
     try:
-        grid = grid_from_box(args.box, args.step)
+        grid = grid_from_box(args.box, args.step, box_key="--box", step_key="--step")
     except FringeInputError as e:
         raise ScenarioError(str(e)) from None
     if grid.n_points > args.max_points:

@@ -28,8 +28,10 @@ from functools import lru_cache
 
 import numpy as np
 
+from fringe.field.quadrature_rules import composite_rule, gauss_legendre_panels
+from fringe.field.sources import DEFAULT_RADIAL_ORDER
 from fringe.model.constants import MU0_T_M_PER_A
-from fringe.model.magnet import DEFAULT_RADIAL_ORDER, Coil
+from fringe.model.magnet import Coil
 
 __all__ = ["coil_field_local_T", "distance_to_winding_m", "near_levels", "NEAR_LEVELS",
            "NEAR_RATIO"]
@@ -86,21 +88,14 @@ def _sheet_sum(coil: Coil, radius: np.ndarray, weight: np.ndarray, rho: np.ndarr
 
 
 def _far_rule(coil: Coil, order: int, panels: int) -> tuple[np.ndarray, np.ndarray]:
-    x, w = np.polynomial.legendre.leggauss(order)
-    edges = np.linspace(coil.r_inner_m, coil.r_outer_m, panels + 1)
-    half = np.diff(edges) / 2
-    mid = (edges[:-1] + edges[1:]) / 2
-    return (mid[:, None] + half[:, None] * x).ravel(), (half[:, None] * w).ravel()
+    return gauss_legendre_panels(coil.r_inner_m, coil.r_outer_m, order, panels)
 
 
 @lru_cache(maxsize=64)
 def _graded_unit_rule(order: int, levels: int, ratio: float) -> tuple[np.ndarray, np.ndarray]:
     """Nodes/weights on [0, 1] graded geometrically toward 0 (panel edges 0, σ^levels, …, σ, 1)."""
     edges = np.concatenate([[0.0], ratio ** np.arange(levels, -1, -1)])
-    x, w = np.polynomial.legendre.leggauss(order)
-    half = np.diff(edges) / 2
-    mid = (edges[:-1] + edges[1:]) / 2
-    return (mid[:, None] + half[:, None] * x).ravel(), (half[:, None] * w).ravel()
+    return composite_rule(edges, order)
 
 
 def near_levels(coil: Coil, distance_m: np.ndarray) -> np.ndarray:
@@ -154,7 +149,7 @@ def coil_field_local_T(coil: Coil, rho_m: np.ndarray, z_m: np.ndarray,
     refine : bool
         Use the per-point graded rule for points closer to the winding than a panel
         half-width (default). ``False`` gives the plain fixed-sheet sum, identical to
-        the magpylib object model of :func:`fringe.model.magnet.magpylib_sources`.
+        the magpylib object model of :func:`fringe.field.sources.magpylib_sources`.
 
     References
     ----------

@@ -2,8 +2,8 @@
 
 Three tiers, magpylib-style:
 
-* :func:`magnet_field_local_T` — kernel: one magnet, local-frame points, direct sum of
-  its current sheets through magpylib's closed-form cylinder kernel.
+* :func:`fringe.field.direct.magnet_field_local_T` — kernel: one magnet, local-frame
+  points, direct sum of its current sheets through magpylib's closed-form cylinder kernel.
 * :func:`field_at` — checked public function: any number of magnets (superposed),
   site-frame points, chunked so memory stays bounded; ``method="auto"`` goes through
   the fast axisymmetric path of :mod:`fringe.field.fast` with a per-point error check.
@@ -17,14 +17,22 @@ from collections.abc import Iterable
 
 import numpy as np
 
-from fringe.field._quadrature import coil_field_local_T
+from fringe.field.direct import direct_gradient, magnet_field_site_T, magpylib_field_site_T
+from fringe.field.fast import (
+    RELATIVE_TOLERANCE,
+    SAFETY_FACTOR,
+    fast_field_site_T,
+    fast_gradient_site,
+    model_wanted,
+)
+from fringe.field.sources import DEFAULT_RADIAL_ORDER
 from fringe.model.constants import MAX_COORDINATE_M, MU0_T_M_PER_A
 from fringe.model.errors import FringeInputError
-from fringe.model.magnet import DEFAULT_RADIAL_ORDER, Magnet, magpylib_sources
+from fringe.model.magnet import Magnet
 
-__all__ = ["field_at", "field_gradient_at", "field_at_magpylib", "magnet_field_local_T",
+__all__ = ["field_at", "field_gradient_at", "field_at_magpylib",
            "energy_density_J_per_m3", "points_in_windings", "as_magnets", "as_points",
-           "METHODS"]
+           "coordinate_range_problem", "METHODS"]
 
 #: Evaluation methods accepted by :func:`field_at` (one list, checked everywhere).
 METHODS: tuple[str, ...] = ("auto", "direct")
@@ -50,7 +58,8 @@ def coordinate_range_problem(points_m: np.ndarray, key: str) -> str | None:
 
     Such coordinates overflow the field kernels (and magpylib's elliptic-integral
     iteration then never ends); every entry point refuses them with this one message,
-    naming its own ``key`` (``points_m``, ``--at``, ``--points``).
+    naming its own ``key`` (the Python argument, e.g. ``points_m``; the command line passes
+    its option name).
     """
     far = float(np.max(np.abs(points_m), initial=0.0))
     if far > MAX_COORDINATE_M:
@@ -73,69 +82,6 @@ def as_points(points_m) -> np.ndarray:
     if problem := coordinate_range_problem(p, "points_m"):
         raise FringeInputError(problem)
     return p
-
-
-def magnet_field_local_T(magnet: Magnet, rho_m: np.ndarray, z_m: np.ndarray,
-                         order: int = DEFAULT_RADIAL_ORDER,
-                         panels: int | None = None,
-                         refine: bool = True) -> tuple[np.ndarray, np.ndarray]:
-    """Axisymmetric field of one magnet in its local cylindrical frame (direct sum).
-
-    Parameters
-    ----------
-    magnet : Magnet
-    rho_m, z_m : ndarray, shape (N,)
-        Local cylindrical radius and axial coordinate, m.
-    order, panels : int
-        Radial quadrature (see :func:`fringe.field._quadrature.coil_field_local_T`).
-    refine : bool
-        Per-point graded quadrature near and inside windings (default True).
-
-    Returns
-    -------
-    B_rho_T, B_z_T : ndarray, shape (N,)
-        Radial and axial flux density in T.
-
-    Notes
-    -----
-    Sum over coils of the radial integral of closed-form sheet fields (Derby & Olbert,
-    Am. J. Phys. 78, 229 (2010), as implemented in ``magpylib.core``); points near or
-    inside a winding get a graded per-point rule (:mod:`fringe.field._quadrature`).
-    """
-    rho = np.asarray(rho_m, dtype=float).ravel()
-    z = np.asarray(z_m, dtype=float).ravel()
-    b_rho = np.zeros(rho.size)
-    b_z = np.zeros(rho.size)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        for coil in magnet.coils:
-            br, bz = coil_field_local_T(coil, rho, z, order, panels, refine)
-            b_rho += br
-            b_z += bz
-        # A point exactly on a winding's corner or end edge meets a sheet end where the
-        # closed-form kernel divides by zero. B is continuous there (volume current), so
-        # evaluate 1e-9 R_enc away instead.
-        bad = np.flatnonzero(~(np.isfinite(b_rho) & np.isfinite(b_z)))
-        if bad.size:
-            eps = 1e-9 * magnet.enclosing_radius_m
-            b_rho[bad] = 0.0
-            b_z[bad] = 0.0
-            for coil in magnet.coils:
-                br, bz = coil_field_local_T(coil, rho[bad] + eps, z[bad] + eps, order, panels,
-                                            refine)
-                b_rho[bad] += br
-                b_z[bad] += bz
-    return b_rho, b_z
-
-
-def _magnet_field_site_T(magnet: Magnet, points_m: np.ndarray, **kw) -> np.ndarray:
-    loc = magnet.to_local(points_m)
-    rho = np.hypot(loc[:, 0], loc[:, 1])
-    b_rho, b_z = magnet_field_local_T(magnet, rho, loc[:, 2], **kw)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        c = np.where(rho > 0, loc[:, 0] / rho, 0.0)
-        s = np.where(rho > 0, loc[:, 1] / rho, 0.0)
-    b_loc = np.stack([b_rho * c, b_rho * s, b_z], axis=1)
-    return magnet.vectors_to_site(b_loc)
 
 
 def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
@@ -161,7 +107,7 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
         Points evaluated at once; peak memory is independent of N beyond the output.
     **options
         ``order``, ``panels`` (radial quadrature) and ``refine`` passed to
-        :func:`magnet_field_local_T`.
+        :func:`fringe.field.direct.magnet_field_local_T`.
 
     Returns
     -------
@@ -185,24 +131,22 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
                 fallback.append(bad + a)
         else:
             for m in mags:
-                out[sl] += _magnet_field_site_T(m, p[sl], **options)
+                out[sl] += magnet_field_site_T(m, p[sl], **options)
     # points the fast path declined, evaluated together (fewer, larger kernel calls)
     idx = np.concatenate(fallback) if fallback else np.zeros(0, dtype=np.intp)
     for a in range(0, idx.size, chunk_size):
         sub = idx[a:a + chunk_size]
         direct = np.zeros((sub.size, 3))
         for m in mags:
-            direct += _magnet_field_site_T(m, p[sub], **options)
+            direct += magnet_field_site_T(m, p[sub], **options)
         out[sub] = direct
     return out
 
 
 def _fast_flags(mags, n_points: int, method: str, options: dict) -> list[bool]:
-    """Per magnet: use the fast path for this call? (see fastfield.model_wanted)."""
+    """Per magnet: use the fast path for this call? (see :func:`fringe.field.fast.model_wanted`)."""
     if method != "auto" or not options.get("refine", True) or n_points == 0:
         return [False] * len(mags)
-    from fringe.field.fast import model_wanted
-
     order = options.get("order", DEFAULT_RADIAL_ORDER)
     return [model_wanted(m.coils, n_points, order, options.get("panels")) for m in mags]
 
@@ -212,8 +156,6 @@ def _fast_chunk(mags, fast, p: np.ndarray, options: dict) -> tuple[np.ndarray, n
 
     Magnets not flagged in ``fast`` are summed directly (error estimate 0).
     """
-    from fringe.field.fast import RELATIVE_TOLERANCE, SAFETY_FACTOR, fast_field_site_T
-
     order = options.get("order", DEFAULT_RADIAL_ORDER)
     panels = options.get("panels")
     pts = np.ascontiguousarray(p.T)
@@ -225,7 +167,7 @@ def _fast_chunk(mags, fast, p: np.ndarray, options: dict) -> tuple[np.ndarray, n
             b += bm
             err += em
         else:
-            b += _magnet_field_site_T(m, p, **options).T
+            b += magnet_field_site_T(m, p, **options).T
     b_abs = np.sqrt(np.einsum("ij,ij->j", b, b))
     bad = np.flatnonzero(~(err <= (RELATIVE_TOLERANCE / SAFETY_FACTOR) * b_abs))
     return b.T, bad
@@ -273,8 +215,6 @@ def field_gradient_at(site, points_m, *, method: str = "auto", chunk_size: int =
     fallback: list[np.ndarray] = []
     fast = _fast_flags(mags, 7 * n, method, options)
     if all(fast) and mags:
-        from fringe.field.fast import RELATIVE_TOLERANCE, SAFETY_FACTOR, fast_gradient_site
-
         order = options.get("order", DEFAULT_RADIAL_ORDER)
         panels = options.get("panels")
         for a in range(0, n, chunk_size):
@@ -299,28 +239,8 @@ def field_gradient_at(site, points_m, *, method: str = "auto", chunk_size: int =
         idx = np.arange(n)
     for a in range(0, idx.size, chunk_size):
         sub = idx[a:a + chunk_size]
-        B[sub], J[sub] = _direct_gradient(mags, p[sub], options)
+        B[sub], J[sub] = direct_gradient(mags, p[sub], options)
     return B, J
-
-
-def _direct_gradient(mags, p: np.ndarray, options: dict):
-    """B and central-difference Jacobian of the direct sum.
-
-    Step per point: 2e-4 of its distance to the nearest magnet centre (at least 1e-6 of
-    the largest R_enc): small against the scale on which B varies there, large enough
-    that the direct sum's own rounding (~1e-9 relative far away) stays below 1e-4 of J.
-    """
-    r_min = 1e-6 * max(m.enclosing_radius_m for m in mags)
-    dist = np.min([np.linalg.norm(p - np.asarray(m.center_m), axis=1) for m in mags], axis=0)
-    h = np.maximum(2e-4 * dist, r_min)[:, None]
-    n = len(p)
-    allp = np.concatenate([p] + [p + h * e for e in np.eye(3)] + [p - h * e for e in np.eye(3)])
-    b = np.zeros_like(allp)
-    for m in mags:
-        b += _magnet_field_site_T(m, allp, **options)
-    parts = b.reshape(7, n, 3)
-    jac = np.stack([(parts[1 + j] - parts[4 + j]) / (2 * h) for j in range(3)], axis=2)
-    return parts[0], jac
 
 
 def field_at_magpylib(site, points_m, order: int = DEFAULT_RADIAL_ORDER,
@@ -330,14 +250,8 @@ def field_at_magpylib(site, points_m, order: int = DEFAULT_RADIAL_ORDER,
     Same physics as :func:`field_at` with ``method="direct"`` but through magpylib's
     object interface; this is the "direct magpylib sum" benchmarks compare against.
     """
-    import magpylib as magpy
-
     p = as_points(points_m)
-    out = np.zeros_like(p)
-    for m in as_magnets(site):
-        col = magpylib_sources(m, order, panels)
-        out += np.asarray(magpy.getB(col, p, sumup=True)).reshape(-1, 3)
-    return out
+    return magpylib_field_site_T(as_magnets(site), p, order, panels)
 
 
 def energy_density_J_per_m3(B_T) -> np.ndarray:

@@ -16,7 +16,7 @@ crossing counts: near shield coils |B| need not fall monotonically.
 Beyond ``SERIES_SAFE_FACTOR × R_enc`` (R_enc the radius of the sphere enclosing every
 winding) |B| comes from the exterior zonal series (:mod:`fringe.field.multipole`, exact there
 up to a truncation below 1e-4 relative at l ≤ ``SERIES_L_MAX``); closer in, from the
-direct current-sheet sum :func:`fringe.field.evaluate.magnet_field_local_T`.
+direct current-sheet sum :func:`fringe.field.direct.magnet_field_local_T`.
 
 Start bound: for a loop of radius a at distance R₀ ≤ R from the centre,
 |q_l| ≤ 2π I a² R₀^{l−1} |P_l'|/(l+1) ≤ π l I a² R^{l−1} (|P_l'(x)| ≤ l(l+1)/2 on
@@ -36,7 +36,7 @@ import math
 import numpy as np
 from scipy.optimize import brentq
 
-from fringe.field.evaluate import magnet_field_local_T
+from fringe.field.direct import magnet_field_local_T
 from fringe.field.multipole import legendre_P_dP, zonal_moments_Am
 from fringe.model.constants import MU0_T_M_PER_A
 from fringe.model.errors import FringeInputError

@@ -2,7 +2,7 @@
 
 A magnet's field is axisymmetric in its own frame, so it is a function of two
 coordinates (ρ, z) only. This module replaces the direct sum over current sheets
-(:func:`fringe.field.evaluate.magnet_field_local_T`, ~0.5 µs per point per sheet) by
+(:func:`fringe.field.direct.magnet_field_local_T`, ~0.5 µs per point per sheet) by
 
 * **exterior zonal series** for r ≥ ``TABLE_RADIUS_FACTOR``·R_enc (R_enc: radius of the
   origin-centred sphere enclosing every winding), truncated per distance band at the
@@ -21,8 +21,9 @@ near zeros of the field, where the direct sum is used).
 
 Both the series moments and the table are computed from the *same current sheets* as
 the direct sum (same radial quadrature), so the fast path reproduces the direct sum,
-not some other model of the coils. Everything is cached per coil set, in memory and on
-disk (:func:`axisymmetric_model`), so moving or turning a magnet costs nothing.
+not some other model of the coils. Everything is cached per coil set, in memory and in
+an optional store (:func:`set_model_store`; the program installs a disk store from
+:mod:`fringe.io.model_cache`), so moving or turning a magnet costs nothing.
 :func:`fast_gradient_site` gives the Jacobian of B the same way (analytic in the series,
 differentiated interpolant in the table).
 
@@ -42,21 +43,26 @@ B = −∇ψ, ψ = μ₀/4π Σ q_l P_l(cosθ)/r^(l+1), and the identities
 
 from __future__ import annotations
 
+import hashlib
 import math
-import os
 from dataclasses import dataclass
 from functools import cached_property, lru_cache
+from typing import Protocol
 
 import numpy as np
 
+from fringe.field.direct import magnet_field_local_T
 from fringe.field.multipole import legendre_P_dP
+from fringe.field.quadrature_rules import gauss_legendre_panels
+from fringe.field.sources import DEFAULT_RADIAL_ORDER, current_sheets
 from fringe.model.constants import MU0_T_M_PER_A
-from fringe.model.magnet import DEFAULT_RADIAL_ORDER, Coil, Magnet, current_sheets
+from fringe.model.magnet import Coil, Magnet
 
 __all__ = ["RELATIVE_TOLERANCE", "SAFETY_FACTOR", "TABLE_RADIUS_FACTOR", "AxisymmetricModel",
            "axisymmetric_model", "prepare_models", "model_wanted", "fast_gradient_site",
            "BUILD_AFTER_POINTS", "sheet_zonal_moments_Am", "series_field_scaled",
-           "fast_field_site_T", "exterior_tail_bounds_scaled"]
+           "fast_field_site_T", "exterior_tail_bounds_scaled", "ModelStore",
+           "set_model_store", "model_store", "model_key"]
 
 #: Bound on |B_fast − B_direct| / |B_direct| at every point where the fast path is used.
 RELATIVE_TOLERANCE: float = 1e-4
@@ -101,7 +107,7 @@ def sheet_zonal_moments_Am(radius_m, z_center_m, half_length_m, polarization_T,
     degree l − 1 in z₀, so Gauss-Legendre quadrature with ⌊l_max/2⌋ + 2 nodes is exact
     (A&S 25.4.29).
     """
-    x, w = np.polynomial.legendre.leggauss(l_max // 2 + 2)
+    x, w = gauss_legendre_panels(-1.0, 1.0, l_max // 2 + 2, 1)
     a = np.repeat(np.asarray(radius_m, float), x.size)
     z0 = (np.asarray(z_center_m, float)[:, None] + np.asarray(half_length_m, float)[:, None]
           * x[None, :]).ravel()
@@ -292,13 +298,36 @@ class AxisymmetricModel:
             band += r2 >= e
         return band
 
+    def to_arrays(self) -> dict[str, np.ndarray]:
+        """The model as named arrays (e.g. for ``numpy.savez``); see :meth:`from_arrays`."""
+        t = self.table
+        return {"scale_m": np.asarray(self.scale_m), "d": self.d,
+                "band_edges": self.band_edges, "band_lmax": self.band_lmax,
+                "band_err": self.band_err, "windings": self.windings_scaled,
+                "t_values": t.values, "t_error": t.error,
+                **{"t_" + f: np.asarray(getattr(t, f)) for f in _TABLE_FIELDS}}
+
+    @classmethod
+    def from_arrays(cls, arrays) -> AxisymmetricModel:
+        """The model from the arrays of :meth:`to_arrays` (any mapping of name → array).
+
+        Raises ``KeyError`` or ``ValueError`` if an array is missing or malformed.
+        """
+        a = arrays
+        tab = _Table(*(np.asarray(a["t_" + f]).item() for f in _TABLE_FIELDS),
+                     np.array(a["t_values"], dtype=float), np.array(a["t_error"], dtype=float))
+        return cls(float(np.asarray(a["scale_m"])), np.array(a["d"], dtype=float),
+                   np.array(a["band_edges"], dtype=float), np.array(a["band_lmax"]),
+                   np.array(a["band_err"], dtype=float), tab, np.array(a["windings"], dtype=float))
+
+
+_TABLE_FIELDS = ("rho0", "z0", "inv_h", "n_rho", "n_z")
+
 
 def _direct_local(magnet: Magnet, rho_m, z_m, order, panels):
     """Direct sum at table nodes. Nodes on the axis are moved 1e-9 R_enc off it: the
     field changes by O(ρ²) there, and the radial quadrature of a winding that reaches
     the axis (r_inner = 0) has nodes at r = 0 that a point on the axis cannot use."""
-    from fringe.field.evaluate import magnet_field_local_T
-
     rho = np.maximum(np.asarray(rho_m, float), 1e-9 * magnet.enclosing_radius_m)
     return magnet_field_local_T(magnet, rho, z_m, order=order, panels=panels)
 
@@ -468,18 +497,18 @@ def axisymmetric_model(coils: tuple[Coil, ...], order: int = DEFAULT_RADIAL_ORDE
                        panels: int | None = None) -> AxisymmetricModel:
     """Precomputed fast model of a coil set (cached; independent of position and axis).
 
-    Cached in memory per process and, unless ``FRINGE_CACHE_DIR`` is set to ``off``, on
-    disk (``$FRINGE_CACHE_DIR``, else ``$XDG_CACHE_HOME/fringe`` or ``~/.cache/fringe``)
-    under a key made of the coils, the quadrature and the source of the modules that
-    compute the model, so a changed engine never reads an old table. Building costs one
-    direct evaluation of the table nodes inside ~1.3 R_enc (about 1–2 s for the 64-sheet
-    demo magnet).
+    Cached in memory per process and in the installed model store, if any
+    (:func:`set_model_store`), under :func:`model_key`. Building costs one direct
+    evaluation of the table nodes inside ~1.3 R_enc (about 1–2 s for the 64-sheet demo
+    magnet).
     """
     _memory_keys.add((tuple(coils), int(order), panels))
-    key = _cache_key(coils, order, panels)
-    cached = _load_cached(key)
-    if cached is not None:
-        return cached
+    key = model_key(coils, order, panels)
+    store = _STORE
+    if store is not None:
+        cached = store.load(key)
+        if cached is not None:
+            return cached
     magnet = Magnet("fast-model", (0.0, 0.0, 0.0), (0.0, 0.0, 1.0), tuple(coils))
     s = current_sheets(magnet, order, panels)
     scale = magnet.enclosing_radius_m
@@ -495,89 +524,53 @@ def axisymmetric_model(coils: tuple[Coil, ...], order: int = DEFAULT_RADIAL_ORDE
     edges, lmax, errs = _choose_bands(d, big_d)
     table, windings = _build_table(magnet, d, big_d, scale, order, panels)
     model = AxisymmetricModel(scale, d, edges, lmax, errs, table, windings)
-    _store_cached(key, model)
+    if store is not None:
+        store.save(key, model)
     return model
 
 
-def _cache_dir():
-    from pathlib import Path
+class ModelStore(Protocol):
+    """Where built models are kept between processes (e.g. a disk cache).
 
-    env = os.environ.get("FRINGE_CACHE_DIR")
-    if env is not None:
-        return None if env.strip().lower() in ("", "off", "0", "none") else Path(env)
-    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
-    return Path(base) / "fringe"
+    Keys come from :func:`model_key`; a store may extend them (for instance with a
+    digest of the engine's source, so a changed engine never reads an old table).
+    ``load`` returns None for a missing or unreadable model; ``save`` must not raise.
+    """
 
+    def has(self, key: str) -> bool:
+        """Whether a model is stored under ``key`` (without reading it)."""
 
-@lru_cache(maxsize=1)
-def _source_digest() -> str:
-    """Hash of the source of every module the model depends on (cache invalidation)."""
-    import hashlib
-    import importlib
-    import inspect
+    def load(self, key: str) -> AxisymmetricModel | None:
+        """The model stored under ``key``, or None."""
 
-    import magpylib
-
-    h = hashlib.sha256(magpylib.__version__.encode())
-    for name in ("fringe.field.fast", "fringe.field.evaluate", "fringe.field._quadrature",
-                 "fringe.model.magnet",
-                 "fringe.field.multipole"):
-        try:
-            h.update(inspect.getsource(importlib.import_module(name)).encode())
-        except (OSError, TypeError, ImportError):
-            h.update(name.encode())
-    return h.hexdigest()
+    def save(self, key: str, model: AxisymmetricModel) -> None:
+        """Keep ``model`` under ``key`` (silently skipped if it cannot be kept)."""
 
 
-def _cache_key(coils, order, panels) -> str:
-    import hashlib
+#: The installed model store (None: models are kept in memory only).
+_STORE: ModelStore | None = None
 
+
+def set_model_store(store: ModelStore | None) -> ModelStore | None:
+    """Install ``store`` for the models of :func:`axisymmetric_model`; returns the previous one.
+
+    ``None`` keeps models in memory only. Models already in memory are not affected.
+    """
+    global _STORE
+    previous, _STORE = _STORE, store
+    return previous
+
+
+def model_store() -> ModelStore | None:
+    """The installed model store, or None."""
+    return _STORE
+
+
+def model_key(coils, order: int = DEFAULT_RADIAL_ORDER, panels: int | None = None) -> str:
+    """Key of a coil set's model: a hash of the coils, the quadrature and numpy's major version."""
     text = repr((tuple((c.r_inner_m, c.r_outer_m, c.z_min_m, c.z_max_m, c.turns, c.current_A)
                        for c in coils), int(order), panels, np.__version__[:1]))
-    return hashlib.sha256((text + _source_digest()).encode()).hexdigest()[:32]
-
-
-_TABLE_FIELDS = ("rho0", "z0", "inv_h", "n_rho", "n_z")
-#: Model files kept in the disk cache (oldest removed first).
-_CACHE_KEEP = 24
-
-
-def _load_cached(key: str) -> AxisymmetricModel | None:
-    d = _cache_dir()
-    if d is None:
-        return None
-    try:
-        with np.load(d / f"model-{key}.npz", allow_pickle=False) as z:
-            tab = _Table(*(z["t_" + f].item() for f in _TABLE_FIELDS), z["t_values"].copy(),
-                         z["t_error"].copy())
-            return AxisymmetricModel(float(z["scale_m"]), z["d"].copy(), z["band_edges"].copy(),
-                                     z["band_lmax"].copy(), z["band_err"].copy(), tab,
-                                     z["windings"].copy())
-    except Exception:  # noqa: BLE001 - missing, partial or foreign file: just rebuild
-        return None
-
-
-def _store_cached(key: str, m: AxisymmetricModel) -> None:
-    import io
-
-    from fringe.io.atomic import write_bytes_atomic
-
-    d = _cache_dir()
-    if d is None:
-        return
-    buf = io.BytesIO()
-    t = m.table
-    np.savez(buf, scale_m=m.scale_m, d=m.d, band_edges=m.band_edges, band_lmax=m.band_lmax,
-             band_err=m.band_err, windings=m.windings_scaled, t_values=t.values,
-             t_error=t.error, **{"t_" + f: getattr(t, f) for f in _TABLE_FIELDS})
-    try:
-        d.mkdir(parents=True, exist_ok=True)
-        write_bytes_atomic(d / f"model-{key}.npz", buf.getvalue())
-        old = sorted(d.glob("model-*.npz"), key=lambda f: f.stat().st_mtime)
-        for f in old[:-_CACHE_KEEP]:            # keep the newest few (≈1.4 MB each)
-            f.unlink(missing_ok=True)
-    except Exception:  # noqa: BLE001 - a cache that cannot be written is just not used
-        pass
+    return hashlib.sha256(text.encode()).hexdigest()[:32]
 
 
 def _table_field(tab: _Table, rho: np.ndarray, z: np.ndarray):
@@ -757,7 +750,7 @@ def _model_and_scale(coils, order, panels) -> tuple[AxisymmetricModel, float]:
 
 def prepare_models(magnets, order: int = DEFAULT_RADIAL_ORDER,
                    panels: int | None = None) -> None:
-    """Build (or read from the disk cache) the fast model of each magnet's coil set now.
+    """Build (or read from the model store) the fast model of each magnet's coil set now.
 
     Useful before timing, or before a search that will ask many points of one magnet.
     """
@@ -769,20 +762,20 @@ def model_wanted(coils, n_points: int, order: int = DEFAULT_RADIAL_ORDER,
                  panels: int | None = None) -> bool:
     """Whether the fast path should serve ``n_points`` more points of this coil set.
 
-    True if the model is in memory or in the disk cache, or once the points asked of
-    this coil set in this process reach :data:`BUILD_AFTER_POINTS`.
+    True if the model is in memory or in the installed model store, or once the points
+    asked of this coil set in this process reach :data:`BUILD_AFTER_POINTS`.
     """
     norm, _ = _normalised(coils)
     args = (norm, int(order), panels)
     if _in_memory(args):
         return True
-    key = _cache_key(*args)
+    key = model_key(*args)
     total = _demand.get(key, 0) + int(n_points)
     _demand[key] = total
     if total >= BUILD_AFTER_POINTS:
         return True
-    d = _cache_dir()
-    return d is not None and (d / f"model-{key}.npz").is_file()
+    store = _STORE
+    return store is not None and store.has(key)
 
 
 def _in_memory(args) -> bool:

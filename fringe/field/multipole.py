@@ -28,6 +28,7 @@ import math
 
 import numpy as np
 
+from fringe.field.quadrature_rules import gauss_legendre_panels
 from fringe.model.constants import MU0_T_M_PER_A
 from fringe.model.magnet import Magnet
 
@@ -57,14 +58,12 @@ def legendre_P_dP(l_max: int, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 def _cross_section_nodes(magnet: Magnet, order: int):
     """Loop radii a, positions z0 and ampere-turn weights I over all windings."""
-    x, w = np.polynomial.legendre.leggauss(order)
     a_all, z_all, i_all = [], [], []
     for c in magnet.coils:
-        hr, hz = c.thickness_m / 2, c.length_m / 2
-        a = (c.r_inner_m + c.r_outer_m) / 2 + hr * x
-        z = (c.z_min_m + c.z_max_m) / 2 + hz * x
+        a, wa = gauss_legendre_panels(c.r_inner_m, c.r_outer_m, order, 1)
+        z, wz = gauss_legendre_panels(c.z_min_m, c.z_max_m, order, 1)
         A, Z = np.meshgrid(a, z, indexing="ij")
-        W = np.outer(w * hr, w * hz) * c.current_density_A_per_m2
+        W = np.outer(wa, wz) * c.current_density_A_per_m2
         a_all.append(A.ravel())
         z_all.append(Z.ravel())
         i_all.append(W.ravel())

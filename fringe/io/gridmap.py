@@ -1,12 +1,11 @@
 """3-D field maps on a regular grid, streamed in blocks to ``.npz`` or VTK ``.vti``.
 
-A map is B (T) and |B| (T) at every node of a regular grid (one step in x, y and z).
-Points are numbered in VTK ImageData order (x fastest, then y, then z), so the arrays
-are ``(nz, ny, nx)`` in C order and a contiguous run of point numbers is a contiguous
-run of output. The grid is evaluated in blocks of at most ``block_points`` points with
-:func:`fringe.field.evaluate.field_at` and each block is written out as soon as it is ready, so
-peak memory is set by the block size, not by the map size (the arrays are never held
-whole in memory).
+A map is B (T) and |B| (T) at every node of a regular grid (:mod:`fringe.field.grid`:
+VTK ImageData point order, x fastest, arrays ``(nz, ny, nx)`` in C order). The grid is
+evaluated in blocks of at most ``block_points`` points
+(:func:`fringe.field.grid.map_blocks`) and each block is written out as soon as it is
+ready, so peak memory is set by the block size, not by the map size (the arrays are
+never held whole in memory).
 
 With the optional ``fringe[cluster]`` extra (dask) the same blocks become the chunks of
 a ``dask.array`` built with ``map_blocks``; blocks are computed in order, a few at a
@@ -31,117 +30,40 @@ from __future__ import annotations
 
 import base64
 import contextlib
-import math
 import os
 import tempfile
 import time
 import zipfile
 from collections.abc import Callable, Iterator
-from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
-from fringe.field.evaluate import as_magnets, field_at
+from fringe.field.evaluate import as_magnets
+from fringe.field.grid import (
+    DEFAULT_BLOCK_POINTS,
+    Grid,
+    block_bounds,
+    block_field,
+    checked_block_points,
+    map_blocks,
+)
 from fringe.io.atomic import atomic_file
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeInputError, must_be
 
-__all__ = ["Grid", "grid_from_box", "grid_points", "map_blocks", "write_map", "read_vti",
-           "check_scheduler",
-           "MAP_FORMATS", "DEFAULT_BLOCK_POINTS"]
+__all__ = ["scheduled_blocks", "write_map", "read_vti", "check_scheduler", "MAP_FORMATS"]
 
 #: Output formats by file suffix (one list, used by the CLI and the writer).
 MAP_FORMATS: tuple[str, ...] = (".npz", ".vti")
-#: Points per evaluated block (≈ 100 MB of temporaries in the field engine at most).
-DEFAULT_BLOCK_POINTS: int = 1_000_000
 
 
-@dataclass(frozen=True)
-class Grid:
-    """Regular grid: node (i, j, k) is at ``origin_m + step_m * (i, j, k)``.
+def scheduled_blocks(site, grid: Grid, *, block_points: int = DEFAULT_BLOCK_POINTS,
+                     scheduler: str | None = None, dtype=np.float32,
+                     parallel_blocks: int = 4) -> Iterator[tuple[int, np.ndarray]]:
+    """:func:`fringe.field.grid.map_blocks`, optionally computed by dask.
 
-    Attributes
-    ----------
-    origin_m : tuple of 3 float
-        First node in the site frame, m.
-    step_m : float
-        Node spacing in m (same in x, y and z).
-    shape_xyz : tuple of 3 int
-        Nodes along x, y, z.
-    """
-
-    origin_m: tuple[float, float, float]
-    step_m: float
-    shape_xyz: tuple[int, int, int]
-
-    @property
-    def n_points(self) -> int:
-        """Total number of nodes."""
-        nx, ny, nz = self.shape_xyz
-        return nx * ny * nz
-
-    @property
-    def shape_zyx(self) -> tuple[int, int, int]:
-        """Array shape of a scalar map (C order, x fastest)."""
-        nx, ny, nz = self.shape_xyz
-        return (nz, ny, nx)
-
-
-def grid_from_box(box_m, step_m: float) -> Grid:
-    """Grid covering the box ``(x0, y0, z0, x1, y1, z1)`` with nodes ``step_m`` apart.
-
-    Nodes start at the low corner; the last node along each axis is the last one not
-    beyond the high corner (within 1e-9 of a step). A flat box (x1 = x0) gives one node.
-    """
-    b = np.asarray(box_m, dtype=float).ravel()
-    if b.size != 6 or not np.all(np.isfinite(b)):
-        raise FringeInputError(must_be("--box", "six finite numbers X0 Y0 Z0 X1 Y1 Z1 in m",
-                                       list(np.asarray(box_m).ravel())))
-    lo, hi = b[:3], b[3:]
-    if np.any(hi < lo):
-        raise FringeInputError(must_be("--box", "a box with X1 ≥ X0, Y1 ≥ Y0 and Z1 ≥ Z0",
-                                       b.tolist()))
-    if not (isinstance(step_m, (int, float, np.floating)) and math.isfinite(step_m)
-            and step_m > 0):
-        raise FringeInputError(must_be("--step", "a positive number of metres", step_m))
-    n = tuple(int(math.floor((h - l) / step_m + 1e-9)) + 1 for l, h in zip(lo, hi, strict=True))
-    return Grid(tuple(float(x) for x in lo), float(step_m), n)
-
-
-def grid_points(grid: Grid, start: int, stop: int) -> np.ndarray:
-    """Site coordinates (m) of points ``start..stop-1`` in VTK order, shape (M, 3)."""
-    nx, ny, _ = grid.shape_xyz
-    idx = np.arange(start, stop, dtype=np.int64)
-    i = idx % nx
-    j = (idx // nx) % ny
-    k = idx // (nx * ny)
-    o = grid.origin_m
-    s = grid.step_m
-    return np.column_stack([o[0] + s * i, o[1] + s * j, o[2] + s * k])
-
-
-def _block_field(idx: np.ndarray, magnets=(), grid: Grid | None = None,
-                 dtype=np.float32) -> np.ndarray:
-    """Field (M, 4): B_x, B_y, B_z, |B| in T at grid points numbered ``idx`` (contiguous)."""
-    if idx.size == 0:
-        return np.zeros((0, 4), dtype=dtype)
-    pts = grid_points(grid, int(idx[0]), int(idx[-1]) + 1)
-    b = field_at(magnets, pts)
-    out = np.empty((len(b), 4), dtype=dtype)
-    out[:, :3] = b
-    out[:, 3] = np.sqrt(np.einsum("ij,ij->i", b, b))
-    return out
-
-
-def _block_bounds(n: int, block_points: int) -> list[tuple[int, int]]:
-    return [(a, min(n, a + block_points)) for a in range(0, n, block_points)]
-
-
-def map_blocks(site, grid: Grid, *, block_points: int = DEFAULT_BLOCK_POINTS,
-               scheduler: str | None = None, dtype=np.float32,
-               parallel_blocks: int = 4) -> Iterator[tuple[int, np.ndarray]]:
-    """Yield ``(start, block)`` in point order; ``block`` is (M, 4): B_x, B_y, B_z, |B| (T).
+    Yields ``(start, block)`` in point order; ``block`` is (M, 4): B_x, B_y, B_z, |B| (T).
 
     Parameters
     ----------
@@ -158,14 +80,11 @@ def map_blocks(site, grid: Grid, *, block_points: int = DEFAULT_BLOCK_POINTS,
     parallel_blocks : int
         With dask, blocks computed at once (then written in order).
     """
-    mags = as_magnets(site)
-    if not isinstance(block_points, (int, np.integer)) or block_points < 1:
-        raise FringeInputError(must_be("block_points", "a positive integer", block_points))
-    bounds = _block_bounds(grid.n_points, int(block_points))
     if scheduler is None:
-        for a, b in bounds:
-            yield a, _block_field(np.arange(a, b), magnets=mags, grid=grid, dtype=dtype)
+        yield from map_blocks(site, grid, block_points=block_points, dtype=dtype)
         return
+    mags = as_magnets(site)
+    bounds = block_bounds(grid.n_points, checked_block_points(block_points))
     yield from _dask_blocks(mags, grid, bounds, scheduler, dtype, max(1, parallel_blocks))
 
 
@@ -202,7 +121,7 @@ def _dask_blocks(mags, grid, bounds, scheduler, dtype, parallel):
             "`--scheduler` needs dask: install the optional extra `fringe[cluster]`") from None
     chunks = tuple(b - a for a, b in bounds)
     idx = da.arange(grid.n_points, chunks=(chunks,), dtype=np.int64)
-    arr = idx.map_blocks(_block_field, magnets=mags, grid=grid, dtype=dtype,
+    arr = idx.map_blocks(block_field, magnets=mags, grid=grid, dtype=dtype,
                          new_axis=1, chunks=(chunks, (4,)), meta=np.empty((0, 4), dtype))
     client = None
     if scheduler in _LOCAL_SCHEDULERS:
@@ -297,8 +216,8 @@ def write_map(site, grid: Grid, path, *, block_points: int = DEFAULT_BLOCK_POINT
     check_scheduler(scheduler)
     with atomic_file(path) as tmp, tempfile.TemporaryFile(dir=tmp.parent) as abs_tmp, \
             open(tmp, "wb") as fh, contextlib.ExitStack() as stack:
-        blocks = map_blocks(site, grid, block_points=block_points, scheduler=scheduler,
-                            dtype=dtype)
+        blocks = scheduled_blocks(site, grid, block_points=block_points, scheduler=scheduler,
+                                  dtype=dtype)
         if fmt == ".npz":
             zf = zipfile.ZipFile(fh, "w", compression=zipfile.ZIP_STORED, allowZip64=True)
             stack.enter_context(zf)

@@ -43,6 +43,7 @@ from functools import lru_cache
 import numpy as np
 from scipy.special import ellipe, ellipkm1
 
+from fringe.field.quadrature_rules import composite_rule, gauss_legendre_panels
 from fringe.model.constants import MU0_T_M_PER_A
 from fringe.model.errors import FringeInputError, must_be
 from fringe.model.magnet import Coil, Magnet
@@ -160,14 +161,6 @@ def _regular_kernel(r1, z1, r2, z2) -> np.ndarray:
 
 # -- quadrature over cross-sections ---------------------------------------------------
 
-def _panels(a: float, b: float, order: int, n_panels: int):
-    x, w = np.polynomial.legendre.leggauss(order)
-    edges = np.linspace(a, b, n_panels + 1)
-    h = np.diff(edges) / 2.0
-    mid = (edges[:-1] + edges[1:]) / 2.0
-    return (mid[:, None] + h[:, None] * x).ravel(), (h[:, None] * w).ravel()
-
-
 def _rect_nodes(c: Coil, order: int, cell_m: float):
     """Tensor Gauss–Legendre nodes (r, z, weight) over a coil section.
 
@@ -178,7 +171,7 @@ def _rect_nodes(c: Coil, order: int, cell_m: float):
     def side(a: float, b: float):
         n_p = max(1, math.ceil((b - a) / cell_m - 1e-9))
         n_o = max(2, min(order, math.ceil(order * (b - a) / n_p / cell_m - 1e-9)))
-        return _panels(a, b, n_o, n_p)
+        return gauss_legendre_panels(a, b, n_o, n_p)
 
     r, wr = side(c.r_inner_m, c.r_outer_m)
     z, wz = side(c.z_min_m, c.z_max_m)
@@ -331,7 +324,7 @@ def winding_field_local_T(magnet: Magnet, rho_m, z_m,
                           order: int = FIELD_RADIAL_ORDER) -> tuple[np.ndarray, np.ndarray]:
     """(B_ρ, B_z) in T at local points, accurate inside windings too.
 
-    Like :func:`fringe.field.evaluate.magnet_field_local_T` each winding is a radial Gauss–Legendre
+    Like :func:`fringe.field.direct.magnet_field_local_T` each winding is a radial Gauss–Legendre
     sum of axially magnetised cylinders (equivalent current sheets, exact in z; Derby &
     Olbert, Am. J. Phys. 78, 229 (2010)), but the radial integral of every winding is
     split in two panels at a point-dependent radius: at the field point's own ρ when it
@@ -345,8 +338,7 @@ def winding_field_local_T(magnet: Magnet, rho_m, z_m,
     kernel = magpy.core.magnet_cylinder_axial_Bfield
     rho = np.asarray(rho_m, dtype=float).ravel()
     z = np.asarray(z_m, dtype=float).ravel()
-    t, w = np.polynomial.legendre.leggauss(order)
-    t01, w01 = (t + 1.0) / 2.0, w / 2.0
+    t01, w01 = gauss_legendre_panels(0.0, 1.0, order, 1)
     br = np.zeros(rho.size)
     bz = np.zeros(rho.size)
     if rho.size == 0:
@@ -384,13 +376,6 @@ def _breaks(lo: float, hi: float, cuts, max_panel_m: float) -> np.ndarray:
     return np.asarray(edges)
 
 
-def _composite(edges: np.ndarray, order: int):
-    x, w = np.polynomial.legendre.leggauss(order)
-    h = np.diff(edges) / 2.0
-    mid = (edges[:-1] + edges[1:]) / 2.0
-    return (mid[:, None] + h[:, None] * x).ravel(), (h[:, None] * w).ravel()
-
-
 def energy_in_cylinder_J(magnet: Magnet, radius_m: float, z_min_m: float, z_max_m: float,
                          order: int = 8, max_panel_m: float | None = None,
                          field_order: int = FIELD_RADIAL_ORDER) -> float:
@@ -405,8 +390,8 @@ def energy_in_cylinder_J(magnet: Magnet, radius_m: float, z_min_m: float, z_max_
     hmax = max_panel_m if max_panel_m is not None else 0.1 * rmax
     rc = [v for c in magnet.coils for v in (c.r_inner_m, c.r_outer_m)]
     zc = [v for c in magnet.coils for v in (c.z_min_m, c.z_max_m)]
-    rr, wr = _composite(_breaks(0.0, radius_m, rc, hmax), order)
-    zz, wz = _composite(_breaks(z_min_m, z_max_m, zc, hmax), order)
+    rr, wr = composite_rule(_breaks(0.0, radius_m, rc, hmax), order)
+    zz, wz = composite_rule(_breaks(z_min_m, z_max_m, zc, hmax), order)
     R, Z = np.meshgrid(rr, zz, indexing="ij")
     br, bz = winding_field_local_T(magnet, R.ravel(), Z.ravel(), field_order)
     u = (br * br + bz * bz) / (2 * MU0)
@@ -444,10 +429,10 @@ def _energy_between_cylinder_and_sphere_J(magnet: Magnet, radius_m: float, z_min
     ]
     total = 0.0
     for face, d, (s0, s1) in faces:
-        s, ws = _composite(np.linspace(s0, s1, 5), order)
+        s, ws = composite_rule(np.linspace(s0, s1, 5), order)
         pr, pz = face(s)
         tmax = sphere_m / np.hypot(pr, pz)
-        y01, wy01 = _composite(np.linspace(0.0, 1.0, 4), order)
+        y01, wy01 = composite_rule(np.linspace(0.0, 1.0, 4), order)
         t = np.exp(np.log(tmax)[:, None] * y01[None, :])  # t = e^y, dt = t dy
         wt = np.log(tmax)[:, None] * wy01[None, :] * t
         rho = t * pr[:, None]
@@ -595,12 +580,12 @@ def energy_outside_box_J(magnet: Magnet, box_min_m, box_max_m, order: int = 6,
     corners = np.array([[x, y, z] for x in (lo[0], hi[0]) for y in (lo[1], hi[1])
                         for z in (lo[2], hi[2])])
     sphere = 1.5 * max(magnet.enclosing_radius_m, float(np.max(np.linalg.norm(corners, axis=1))))
-    y01, wy01 = _composite(np.linspace(0.0, 1.0, 4), order)
+    y01, wy01 = composite_rule(np.linspace(0.0, 1.0, 4), order)
     total = 0.0
     for axis in range(3):
         others = [k for k in range(3) if k != axis]
-        a, wa = _composite(np.linspace(lo[others[0]], hi[others[0]], 4), order)
-        b, wb = _composite(np.linspace(lo[others[1]], hi[others[1]], 4), order)
+        a, wa = composite_rule(np.linspace(lo[others[0]], hi[others[0]], 4), order)
+        b, wb = composite_rule(np.linspace(lo[others[1]], hi[others[1]], 4), order)
         A, B = np.meshgrid(a, b, indexing="ij")
         WAB = np.outer(wa, wb).ravel()
         for d_signed in (lo[axis], hi[axis]):
@@ -647,8 +632,8 @@ def mutual_energy_J(magnet_a: Magnet, magnet_b: Magnet, order: int = 8,
     normal = magnet_b.vectors_to_site(np.array([[0.0, 0.0, 1.0]]))[0]
     total = 0.0
     for c in magnet_b.coils:
-        z, wz = _composite(np.array([c.z_min_m, c.z_max_m]), order)
-        r, wr = _composite(np.array([0.0, c.r_inner_m, c.r_outer_m]) if c.r_inner_m > 0
+        z, wz = composite_rule(np.array([c.z_min_m, c.z_max_m]), order)
+        r, wr = composite_rule(np.array([0.0, c.r_inner_m, c.r_outer_m]) if c.r_inner_m > 0
                            else np.array([0.0, c.r_outer_m]), order)
         wr = wr * r * (c.r_outer_m - np.maximum(r, c.r_inner_m))
         R, Z, P = np.meshgrid(r, z, phi, indexing="ij")
