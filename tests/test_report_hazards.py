@@ -1,9 +1,9 @@
 """The report's hazard layers: attraction zone, exposure lines, zones back out as DXF.
 
 Consistency checks tie the report to the modules it draws on (fringe.physics.attraction,
-fringe.physics.exposure, fringe.io.dxf), which have their own checks against outside sources in
-test_attraction.py, test_drawing.py and test_cad.py; the values named here come from
-ICNIRP (2009) Health Phys. 96(4):504-514, Table 1.
+fringe.physics.exposure, fringe.io.dxf, fringe.render.dxf), which have their own checks
+against outside sources in test_attraction.py, test_drawing.py and test_cad.py; the values
+named here come from ICNIRP (2009) Health Phys. 96(4):504-514, Table 1.
 """
 
 from __future__ import annotations
@@ -15,10 +15,13 @@ import pytest
 import shapely
 from test_cad import LAYERS, MM, make_mm_plan
 
-from fringe.analysis.report import compute_report, summary_dict, write_report
-from fringe.io.dxf import ATTRACTION_LAYER, read_dxf_polygons, zone_layer_name
+from fringe.analysis.report import compute_report
+from fringe.io.dxf import read_dxf_polygons
+from fringe.io.report_files import summary_dict
 from fringe.io.scenario import load_site
 from fringe.physics.attraction import attraction_extents_m
+from fringe.render.dxf import ATTRACTION_LAYER, zone_layer_name
+from fringe.render.report import write_report
 
 
 @pytest.fixture(scope="module")
@@ -124,7 +127,7 @@ layers = {{ {layers} }}
     # the drawing's wall layer reaches the plan sheet, in site metres
     from matplotlib.text import Text
 
-    from fringe.analysis.report import build_sheets
+    from fringe.render.report import build_sheets
 
     (wall,) = r.site.section("room_drawing")[0].walls
     assert wall.length == pytest.approx(10.35) and wall.bounds[1] == pytest.approx(1.8)
@@ -176,7 +179,7 @@ def test_datasheet_only_magnet_gets_a_full_report_that_says_so(tmp_path):
     # report, and the report states the magnet is an equivalent model fitted to them
     from test_fit import DATASHEET_SITE
 
-    from fringe.analysis.report import build_sheets
+    from fringe.render.report import build_sheets
 
     p = tmp_path / "site.toml"
     p.write_text(DATASHEET_SITE + "[plan]\ngrid_step_m = 0.5\n", encoding="utf-8")
@@ -199,7 +202,7 @@ def test_report_sheets_include_energy_density_and_quench(demo_result):
     # issues 4 and 5: the energy-density maps and the quench budget join the report
     from matplotlib.text import Text
 
-    from fringe.analysis.report import build_sheets
+    from fringe.render.report import build_sheets
 
     titles = []
     for _stem, fig in build_sheets(demo_result):

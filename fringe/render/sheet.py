@@ -28,7 +28,6 @@ from __future__ import annotations
 
 import datetime as _dt
 import math
-import os
 import re
 import textwrap
 from collections.abc import Iterable, Sequence
@@ -768,13 +767,6 @@ def number_sheets(figures) -> list[Figure]:
     return figs
 
 
-def _usual_mode(path: Path) -> None:
-    """Give a temporary file the mode a plain ``open()`` would (mkstemp makes it 0600)."""
-    umask = os.umask(0)
-    os.umask(umask)
-    os.chmod(path, 0o666 & ~umask)
-
-
 def _save_rc() -> dict[str, Any]:
     # Text stays text in SVG and PDF, so the advisory notice is searchable and editable.
     return {"svg.fonttype": "none", "pdf.fonttype": 42, "svg.hashsalt": "fringe"}
@@ -821,7 +813,6 @@ def save_figure(fig: Figure, path: str | Path, *, dpi: int = PNG_DPI) -> Path:
         # zlib level 3 instead of PIL's 6: a third less time for ~25 % more bytes
         extra = {"pil_kwargs": {"compress_level": 3}} if fmt == "png" else {}
         fig.savefig(tmp, format=fmt, dpi=dpi, metadata=meta, **extra)
-        _usual_mode(tmp)
     return path
 
 
@@ -858,5 +849,4 @@ def write_pdf(figures, path: str | Path, *, title: str | None = None) -> Path:
         with PdfPages(tmp, metadata=meta) as pdf:
             for fig in figs:
                 pdf.savefig(fig)
-        _usual_mode(tmp)
     return path
