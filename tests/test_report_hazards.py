@@ -11,6 +11,7 @@ from __future__ import annotations
 import json
 
 import ezdxf
+import numpy as np
 import pytest
 import shapely
 from test_cad import LAYERS, MM, make_mm_plan
@@ -214,3 +215,37 @@ def test_report_sheets_include_energy_density_and_quench(demo_result):
     flat = " ".join(joined.split())  # titles wrap in the title block
     assert "Force product along the axis of hall-A 1.5 T" in flat and "T²/m" in flat
     assert all("ADVISORY ESTIMATE ONLY" in t for t in titles)  # every sheet
+
+
+def test_threshold_colour_is_the_same_on_every_floor_and_on_the_sheets(demo_result, tmp_path):
+    # one palette (fringe.render.style): a threshold's DXF layer has one colour on every
+    # floor, and it is the colour of that threshold's band on the plan sheet
+    from matplotlib.contour import ContourSet
+
+    from fringe.render import drawing as dr
+    from fringe.render.style import threshold_rgb
+
+    out = tmp_path / "rep"
+    write_report(demo_result, out, drawings=False)
+    docs = {fl: ezdxf.readfile(str(out / f"zones-{fl}.dxf")) for fl in ("ground", "first")}
+    shared = [t for t in demo_result.thresholds_mT
+              if all(docs[fl].layers.has_entry(zone_layer_name(t)) for fl in docs)]
+    assert shared  # the low thresholds reach both floors
+    for t in shared:
+        rgbs = {docs[fl].layers.get(zone_layer_name(t)).rgb for fl in docs}
+        assert rgbs == {threshold_rgb(t)}, t
+    assert docs["ground"].layers.get(zone_layer_name(demo_result.thresholds_mT[0])).rgb \
+        != docs["ground"].layers.get(zone_layer_name(demo_result.thresholds_mT[1])).rgb
+    fm = demo_result.floor_maps["ground"]
+    fig = dr.plan_sheet(fm.x_m, fm.y_m, fm.envelope_T, dr.SheetInfo(site_name="t", title="t"),
+                        thresholds_mT=demo_result.thresholds_mT,
+                        boundary_mT=demo_result.boundary.value_mT)
+    (bands,) = [c for c in fig.findobj(ContourSet) if c.filled]
+    seen = 0
+    for lo, rgba in zip(bands.levels[:-1], bands.get_facecolor(), strict=False):
+        t = next((t for t in demo_result.thresholds_mT if abs(np.log10(t) - lo) < 1e-9), None)
+        if t is None:
+            continue
+        assert tuple(round(255 * c) for c in rgba[:3]) == threshold_rgb(t), t
+        seen += 1
+    assert seen >= 3

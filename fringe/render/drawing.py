@@ -81,7 +81,7 @@ __all__ = [
 ]
 
 
-_EXPOSURE_COLOR = "#3d0b57"
+_EXPOSURE_COLOR = HAZARD_COLOR
 _EXPOSURE_STYLES = [(0, (7, 2, 1.5, 2)), (0, (4, 1.5)), (0, (1.2, 1.5)), (0, (9, 3))]
 _MAIN = (0.055, 0.185, 0.655, 0.775)
 

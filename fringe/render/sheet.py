@@ -46,6 +46,7 @@ from matplotlib.patches import Rectangle
 from fringe.io.atomic import atomic_file
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeInputError, must_be
+from fringe.render.style import INK_COLOR
 
 __all__ = [
     "SheetInfo", "Curve", "CurvePanel", "VERDICT_EXCEEDS", "A3_LANDSCAPE_IN", "PNG_DPI",
@@ -62,7 +63,7 @@ VERDICT_EXCEEDS = "exceeds"
 PNG_DPI = 170
 _SAVE_FORMATS = ("png", "svg", "pdf")
 _HALO = [patheffects.withStroke(linewidth=2.4, foreground="white")]
-_INK = "0.08"
+_INK = INK_COLOR  # near-black ink of text and lines (fringe.render.style)
 _SHEET_NUMBER_GID = "fringe-sheet-number"
 # Layout of every sheet, in figure fractions (left, bottom, width, height).
 _FRAME = (0.012, 0.015, 0.976, 0.97)
