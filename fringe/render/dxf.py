@@ -91,6 +91,44 @@ def layer_rgb(name: str) -> tuple[int, int, int]:
     return hex_to_rgb(INK_COLOR) if t is None else threshold_rgb(t)
 
 
+def _drawing(template, units: str | None):
+    """The drawing to write into and its ``$INSUNITS``: a copy of ``template`` without
+    its ``FRINGE-`` entities (units set when it has none), or a new drawing in ``units``."""
+    import ezdxf
+
+    if template is None:
+        insunits = UNIT_CHOICES[units or "m"]
+        return ezdxf.new("R2010", setup=False, units=insunits), insunits
+    doc = _read_doc(Path(template), str(template))
+    insunits = int(doc.header.get("$INSUNITS", 0) or 0)
+    if not math.isfinite(metres_per_unit(insunits)):
+        insunits = UNIT_CHOICES[units or "m"]
+        doc.header["$INSUNITS"] = insunits
+    msp = doc.modelspace()
+    for e in list(msp):
+        if e.dxf.layer.upper().startswith(LAYER_PREFIX):
+            msp.delete_entity(e)
+    return doc, insunits
+
+
+def _add_outlines(msp, layer: str, g) -> np.ndarray:
+    """LWPOLYLINEs of geometry ``g`` (drawing units) on ``layer``: one closed polyline per
+    polygon ring, one open polyline per line. Returns the lowest (x, y) drawn (inf if
+    none)."""
+    lo = np.array([np.inf, np.inf])
+    for poly in _polygons(g):
+        for ring in (poly.exterior, *poly.interiors):
+            xy = _ring_xy(ring)
+            msp.add_lwpolyline(xy.tolist(), close=True, dxfattribs={"layer": layer})
+            lo = np.minimum(lo, xy.min(axis=0))
+    if g is not None and g.geom_type in ("LineString", "MultiLineString"):
+        for line in getattr(g, "geoms", [g]):
+            xy = np.asarray(line.coords)[:, :2]
+            msp.add_lwpolyline(xy.tolist(), dxfattribs={"layer": layer})
+            lo = np.minimum(lo, xy.min(axis=0))
+    return lo
+
+
 def write_zones_dxf(path: str | Path, zones: Mapping[str, Any], *,
                     template: str | Path | None = None, units: str | None = None,
                     offset_m: tuple[float, float] = (0.0, 0.0), notes: str = "",
@@ -126,8 +164,6 @@ def write_zones_dxf(path: str | Path, zones: Mapping[str, Any], *,
     int
         The ``$INSUNITS`` code of the written drawing.
     """
-    import ezdxf
-
     for name in zones:
         if not isinstance(name, str) or not name.startswith(LAYER_PREFIX):
             raise FringeInputError(must_be("zones", f"keyed by layer names starting with "
@@ -135,20 +171,8 @@ def write_zones_dxf(path: str | Path, zones: Mapping[str, Any], *,
     if units is not None and units not in UNIT_CHOICES:
         raise FringeInputError(must_be("units", f"one of {', '.join(map(repr, UNIT_CHOICES))}",
                                        units))
-    if template is not None:
-        doc = _read_doc(Path(template), str(template))
-        insunits = int(doc.header.get("$INSUNITS", 0) or 0)
-        if not math.isfinite(metres_per_unit(insunits)):
-            insunits = UNIT_CHOICES[units or "m"]
-            doc.header["$INSUNITS"] = insunits
-        msp = doc.modelspace()
-        for e in list(msp):
-            if e.dxf.layer.upper().startswith(LAYER_PREFIX):
-                msp.delete_entity(e)
-    else:
-        insunits = UNIT_CHOICES[units or "m"]
-        doc = ezdxf.new("R2010", setup=False, units=insunits)
-        msp = doc.modelspace()
+    doc, insunits = _drawing(template, units)
+    msp = doc.modelspace()
     mpu = metres_per_unit(insunits)
     inv = 1.0 / mpu
     shift = (-offset_m[0] * inv, -offset_m[1] * inv)
@@ -161,16 +185,7 @@ def write_zones_dxf(path: str | Path, zones: Mapping[str, Any], *,
     lo = np.array([np.inf, np.inf])
     for name, geom in zones.items():
         g = _affine(geom, inv, shift) if geom is not None else None
-        for poly in _polygons(g):
-            for ring in (poly.exterior, *poly.interiors):
-                xy = _ring_xy(ring)
-                msp.add_lwpolyline(xy.tolist(), close=True, dxfattribs={"layer": name})
-                lo = np.minimum(lo, xy.min(axis=0))
-        if g is not None and g.geom_type in ("LineString", "MultiLineString"):
-            for line in getattr(g, "geoms", [g]):
-                xy = np.asarray(line.coords)[:, :2]
-                msp.add_lwpolyline(xy.tolist(), dxfattribs={"layer": name})
-                lo = np.minimum(lo, xy.min(axis=0))
+        lo = np.minimum(lo, _add_outlines(msp, name, g))
     if not np.all(np.isfinite(lo)):
         lo = np.zeros(2)
     text = ADVISORY_NOTICE + ("\\P" + notes.replace("\n", "\\P") if notes else "")
