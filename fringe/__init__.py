@@ -54,7 +54,7 @@ _PUBLIC: dict[str, str] = {
     "search_placement": "fringe.analysis.placement",
     "PlacementResult": "fringe.analysis.placement",
     "load_site": "fringe.io.scenario",
-    "write_report": "fringe.analysis.report",
+    "write_report": "fringe.render.report",
 }
 
 __all__ = ["__version__", *_PUBLIC]

@@ -9,17 +9,11 @@ import pytest
 import shapely
 import shapely.affinity
 
-from fringe.io.dxf import (
-    ATTRACTION_LAYER,
-    NOTES_LAYER,
-    read_dxf_plan,
-    read_dxf_polygons,
-    write_zones_dxf,
-    zone_layer_name,
-)
+from fringe.io.dxf import read_dxf_plan, read_dxf_polygons
 from fringe.io.scenario import ROOM_LOADERS
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import ScenarioError
+from fringe.render.dxf import ATTRACTION_LAYER, NOTES_LAYER, write_zones_dxf, zone_layer_name
 
 MM = 1e-3  # round-trip tolerance: 1 mm (issue requirement; common practice, no source)
 

@@ -439,3 +439,19 @@ def test_key_says_when_the_boundary_is_not_reached():
               for t in leg.get_texts()]
     assert "0.5 mT: controlled access area boundary (not reached on this sheet)" in \
         [norm(t) for t in legend]
+
+
+def test_threshold_palette_is_fixed_by_value_and_darkens_with_field():
+    # fringe.render.style: the colour is a function of the value alone (log10 on a fixed
+    # range), lighter for lower fields (viridis reversed), the same in hex and in RGB
+    from fringe.render.style import threshold_color, threshold_rgb
+
+    ts = [0.1, 0.5, 1.0, 3.0, 10.0, 40.0, 200.0, 2000.0]
+
+    def luma(rgb):  # Rec. 709 weights (common practice, no source needed for ordering)
+        return 0.2126 * rgb[0] + 0.7152 * rgb[1] + 0.0722 * rgb[2]
+
+    lum = [luma(threshold_rgb(t)) for t in ts]
+    assert all(a > b for a, b in zip(lum, lum[1:], strict=False))
+    assert threshold_color(0.5) == "#{:02x}{:02x}{:02x}".format(*threshold_rgb(0.5))
+    assert threshold_rgb(1e-6) == threshold_rgb(0.1) and threshold_rgb(1e9) == threshold_rgb(1e4)

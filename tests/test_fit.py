@@ -190,3 +190,20 @@ def test_centre_field_implausible_for_the_family_warns_with_the_number():
     lo, hi = FAMILIES[res.family].field_range_T
     assert any(f"a centre field of 20 T is implausible for the unshielded whole body family "
                f"(built for about {lo:g} to {hi:g} T)" in str(w.message) for w in rec)
+
+
+def test_magnet_block_writer_escapes_and_keeps_whole_turns():
+    # fringe.io.toml_out: one writer for `fringe fit` and `fringe place`; quotes and
+    # backslashes in names survive, whole turns print as integers, the header comes first
+    from fringe.io.toml_out import magnet_toml
+    from fringe.model.magnet import Coil, Magnet
+
+    m = Magnet('hall "A" \\ 1.5 T', (1.0, -0.0, 1.1), (0, 0, 1),
+               (Coil(0.3, 0.32, -0.2, 0.2, 2180.0, 100.0),), description='a "quoted" model')
+    block = magnet_toml(m, comments=["advisory"], coil_comments=["main coil"],
+                        position_digits=4)
+    assert block.startswith("[[magnet]]\n# advisory\n")
+    assert "  turns = 2180\n" in block and "[[magnet.coil]]  # main coil" in block
+    again = parse_site(tomllib.loads(block), "block.toml").magnets[0]
+    assert again.name == m.name and again.description == m.description
+    assert again.coils == m.coils and again.center_m == pytest.approx(m.center_m)

@@ -1,4 +1,4 @@
-"""Placement search (fringe.analysis.placement, fringe.cli.place)."""
+"""Placement search (fringe.analysis.placement, fringe.cli.place, fringe.render.placement)."""
 
 from __future__ import annotations
 
@@ -16,11 +16,11 @@ from fringe.analysis.placement import (
     allowed_region,
     axis_at_angle,
     magnet_outline_relative,
-    magnet_toml,
     score_footprints,
     search_placement,
 )
 from fringe.cli.main import main
+from fringe.cli.place import best_magnet_toml
 from fringe.field.extents import threshold_extents_m
 from fringe.io.scenario import parse_site
 from fringe.model.magnet import Coil, Magnet
@@ -216,7 +216,9 @@ def test_outside_every_room_is_a_zone():
 def test_magnet_block_round_trips():
     site = parse_site(tomllib.loads(_strip_site_text()), "strip.toml")
     res = search_placement(site, "m", "strip", (30,), coarse_points=10)
-    block = magnet_toml(res.magnet, res.best)
+    block = best_magnet_toml(res)
+    assert block.startswith("[[magnet]]\n")
+    assert "  turns = 1000\n" in block  # a whole number of turns prints as an integer
     again = parse_site(tomllib.loads(block), "block.toml").magnets[0]
     assert again.coils == res.magnet.coils
     assert again.center_m == pytest.approx(res.best.center_m, abs=1e-4)
@@ -287,7 +289,7 @@ def test_demo_placement_at_least_as_good_as_the_demo(demo_site):
     # not only because the scenario placement is always ranked: the search itself
     # finds one at least as good
     assert any(p.source != "scenario" and p.key <= cur.key for p in res.candidates)
-    from fringe.cli.place import why
+    from fringe.render.placement import why
 
     assert any("margin" in s for s in why(res))
 

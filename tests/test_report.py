@@ -11,8 +11,9 @@ import pytest
 import shapely
 from shapely.geometry import shape
 
-from fringe.analysis.report import compute_report, summary_dict, zones_geojson
+from fringe.analysis.report import compute_report
 from fringe.cli.main import main
+from fringe.io.report_files import summary_dict, zones_geojson
 from fringe.io.scenario import parse_site
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeWarning

@@ -1,9 +1,9 @@
 """The report's hazard layers: attraction zone, exposure lines, zones back out as DXF.
 
 Consistency checks tie the report to the modules it draws on (fringe.physics.attraction,
-fringe.physics.exposure, fringe.io.dxf), which have their own checks against outside sources in
-test_attraction.py, test_drawing.py and test_cad.py; the values named here come from
-ICNIRP (2009) Health Phys. 96(4):504-514, Table 1.
+fringe.physics.exposure, fringe.io.dxf, fringe.render.dxf), which have their own checks
+against outside sources in test_attraction.py, test_drawing.py and test_cad.py; the values
+named here come from ICNIRP (2009) Health Phys. 96(4):504-514, Table 1.
 """
 
 from __future__ import annotations
@@ -11,14 +11,18 @@ from __future__ import annotations
 import json
 
 import ezdxf
+import numpy as np
 import pytest
 import shapely
 from test_cad import LAYERS, MM, make_mm_plan
 
-from fringe.analysis.report import compute_report, summary_dict, write_report
-from fringe.io.dxf import ATTRACTION_LAYER, read_dxf_polygons, zone_layer_name
+from fringe.analysis.report import compute_report
+from fringe.io.dxf import read_dxf_polygons
+from fringe.io.report_files import summary_dict
 from fringe.io.scenario import load_site
 from fringe.physics.attraction import attraction_extents_m
+from fringe.render.dxf import ATTRACTION_LAYER, zone_layer_name
+from fringe.render.report import write_report
 
 
 @pytest.fixture(scope="module")
@@ -124,7 +128,7 @@ layers = {{ {layers} }}
     # the drawing's wall layer reaches the plan sheet, in site metres
     from matplotlib.text import Text
 
-    from fringe.analysis.report import build_sheets
+    from fringe.render.report import build_sheets
 
     (wall,) = r.site.room_drawings[0].walls
     assert wall.length == pytest.approx(10.35) and wall.bounds[1] == pytest.approx(1.8)
@@ -176,7 +180,7 @@ def test_datasheet_only_magnet_gets_a_full_report_that_says_so(tmp_path):
     # report, and the report states the magnet is an equivalent model fitted to them
     from test_fit import DATASHEET_SITE
 
-    from fringe.analysis.report import build_sheets
+    from fringe.render.report import build_sheets
 
     p = tmp_path / "site.toml"
     p.write_text(DATASHEET_SITE + "[plan]\ngrid_step_m = 0.5\n", encoding="utf-8")
@@ -199,7 +203,7 @@ def test_report_sheets_include_energy_density_and_quench(demo_result):
     # issues 4 and 5: the energy-density maps and the quench budget join the report
     from matplotlib.text import Text
 
-    from fringe.analysis.report import build_sheets
+    from fringe.render.report import build_sheets
 
     titles = []
     for _stem, fig in build_sheets(demo_result):
@@ -211,3 +215,37 @@ def test_report_sheets_include_energy_density_and_quench(demo_result):
     flat = " ".join(joined.split())  # titles wrap in the title block
     assert "Force product along the axis of hall-A 1.5 T" in flat and "T²/m" in flat
     assert all("ADVISORY ESTIMATE ONLY" in t for t in titles)  # every sheet
+
+
+def test_threshold_colour_is_the_same_on_every_floor_and_on_the_sheets(demo_result, tmp_path):
+    # one palette (fringe.render.style): a threshold's DXF layer has one colour on every
+    # floor, and it is the colour of that threshold's band on the plan sheet
+    from matplotlib.contour import ContourSet
+
+    from fringe.render import drawing as dr
+    from fringe.render.style import threshold_rgb
+
+    out = tmp_path / "rep"
+    write_report(demo_result, out, drawings=False)
+    docs = {fl: ezdxf.readfile(str(out / f"zones-{fl}.dxf")) for fl in ("ground", "first")}
+    shared = [t for t in demo_result.thresholds_mT
+              if all(docs[fl].layers.has_entry(zone_layer_name(t)) for fl in docs)]
+    assert shared  # the low thresholds reach both floors
+    for t in shared:
+        rgbs = {docs[fl].layers.get(zone_layer_name(t)).rgb for fl in docs}
+        assert rgbs == {threshold_rgb(t)}, t
+    assert docs["ground"].layers.get(zone_layer_name(demo_result.thresholds_mT[0])).rgb \
+        != docs["ground"].layers.get(zone_layer_name(demo_result.thresholds_mT[1])).rgb
+    fm = demo_result.floor_maps["ground"]
+    fig = dr.plan_sheet(fm.x_m, fm.y_m, fm.envelope_T, dr.SheetInfo(site_name="t", title="t"),
+                        thresholds_mT=demo_result.thresholds_mT,
+                        boundary_mT=demo_result.boundary.value_mT)
+    (bands,) = [c for c in fig.findobj(ContourSet) if c.filled]
+    seen = 0
+    for lo, rgba in zip(bands.levels[:-1], bands.get_facecolor(), strict=False):
+        t = next((t for t in demo_result.thresholds_mT if abs(np.log10(t) - lo) < 1e-9), None)
+        if t is None:
+            continue
+        assert tuple(round(255 * c) for c in rgba[:3]) == threshold_rgb(t), t
+        seen += 1
+    assert seen >= 3

@@ -51,7 +51,7 @@ fresh plan grid (:func:`exact_footprints`) and re-ranked on those numbers, which
 the ones reported.
 
 Limits: centre heights are not searched; the allowed region uses the windings' plan
-rectangle (:func:`fringe.analysis.report.magnet_plan_outline`), not a cryostat outline;
+rectangle (:func:`fringe.analysis.geometry.magnet_plan_outline`), not a cryostat outline;
 penetration depths on rooms that are not convex are evaluated on the spilled outline
 only.
 
@@ -71,6 +71,7 @@ import numpy as np
 import shapely
 from scipy.optimize import brentq, minimize
 
+from fringe.analysis.geometry import magnet_plan_outline
 from fringe.analysis.verdicts import room_limit
 from fringe.analysis.zones import field_magnitude_T, floor_map, footprints, plan_axes_m, reach_m
 from fringe.model.building import Floor
@@ -80,7 +81,7 @@ from fringe.model.site import SitePlan, site_plan
 
 __all__ = ["Zone", "Placement", "PlacementResult", "zones_of_site", "axis_at_angle",
            "parse_region", "allowed_region", "relative_footprints", "exact_footprints",
-           "score_footprints", "vertical_shortfall_m", "search_placement", "magnet_toml",
+           "score_footprints", "vertical_shortfall_m", "search_placement",
            "COARSE_POINTS", "EXACT_CANDIDATES", "OUTSIDE_ROOMS"]
 
 Progress = Callable[[str], None] | None
@@ -232,8 +233,6 @@ def parse_region(text: str, plan: SitePlan, magnet_floor: Floor
 
 def magnet_outline_relative(magnet: Magnet):
     """Plan outline of the magnet's windings relative to its centre (shapely Polygon)."""
-    from fringe.analysis.report import magnet_plan_outline
-
     m0 = magnet.moved(center_m=(0.0, 0.0, magnet.center_m[2]))
     return magnet_plan_outline(m0)
 
@@ -897,25 +896,3 @@ def moved_site(site, magnet: Magnet, placement: Placement):
     return replace(site, magnets=mags)
 
 
-def magnet_toml(magnet: Magnet, placement: Placement) -> str:
-    """The scenario ``[[magnet]]`` block (name, centre, axis, coils) for ``placement``."""
-    def num(v: float) -> str:
-        v = round(float(v), 4) + 0.0
-        return repr(v)
-
-    def text(s: str) -> str:
-        return '"' + s.replace("\\", "\\\\").replace('"', '\\"') + '"'
-
-    lines = ["[[magnet]]", f"name = {text(magnet.name)}"]
-    if magnet.description:
-        lines.append(f"description = {text(magnet.description)}")
-    lines.append("center_m = [" + ", ".join(num(v) for v in placement.center_m) + "]")
-    lines.append("axis = [" + ", ".join(num(v) for v in placement.axis) + "]")
-    if magnet.origin != "coils":
-        lines.append(f"# coils: the equivalent coil model ({magnet.origin})")
-    for c in magnet.coils:
-        lines += ["", "  [[magnet.coil]]", f"  r_inner_m = {c.r_inner_m!r}",
-                  f"  r_outer_m = {c.r_outer_m!r}", f"  z_min_m = {c.z_min_m!r}",
-                  f"  z_max_m = {c.z_max_m!r}", f"  turns = {c.turns!r}",
-                  f"  current_A = {c.current_A!r}"]
-    return "\n".join(lines) + "\n"

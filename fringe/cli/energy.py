@@ -13,12 +13,10 @@ import numpy as np
 
 from fringe.analysis.energy_maps import (
     DEFAULT_ENERGY_LEVELS_J_PER_M3,
-    energy_density_plan_map,
-    energy_density_section_map,
 )
 from fringe.cli.main import EXIT_INTERNAL, print_json
 from fringe.io.scenario import load_site
-from fringe.model.constants import ADVISORY_NOTICE, MU0_T_M_PER_A
+from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeIOError, ScenarioError, must_be
 from fringe.physics.energy import (
     DEFAULT_ENVELOPE_MARGIN_M,
@@ -127,65 +125,9 @@ def format_magnet(e: MagnetEnergy) -> str:
     return "\n".join(lines)
 
 
-def energy_density_sheets(site, magnets=None, levels=DEFAULT_ENERGY_LEVELS_J_PER_M3):
-    """Plan and section sheets of u = B²/2μ₀ for each magnet, ready for a report.
-
-    Returns a list of ``(file_stem, Figure)``: ``energy-plan-<magnet>`` (horizontal plane
-    at the centre height) and ``energy-section-<magnet>`` (vertical plane through the
-    centre along the axis), drawn with :func:`fringe.render.drawing.map_sheet`. The window is
-    1.2× the reach of the lowest level's field |B| = √(2μ₀u).
-    """
-    from types import SimpleNamespace
-
-    from fringe.analysis.report import magnet_plan_outline, section_windings, slug
-    from fringe.analysis.zones import reach_m, section_directions
-    from fringe.render.drawing import SheetInfo, map_sheet
-
-    magnets = list(site.magnets if magnets is None else magnets)
-    levels = [float(v) for v in levels]
-    b_low = math.sqrt(2 * MU0_T_M_PER_A * min(levels))  # |B| of the lowest level
-    sheets = []
-    taken: set[str] = set()
-    notes_for = {
-        "plan": ("u = |B|²/2μ₀ of all magnets superposed (vacuum; Jackson Eq. 5.148).",
-                 "The magnet's footprint (its windings projected on the plan) is left "
-                 "blank; the section sheet shows u inside it."),
-        "section": ("u = |B|²/2μ₀ of all magnets superposed (vacuum; Jackson Eq. 5.148).",
-                    "Windings drawn in grey (their cross-section in the section plane)."),
-    }
-    for m in magnets:
-        half = 1.2 * reach_m(m, b_low)
-        step = half / 60.0
-        c = np.asarray(m.center_m)
-        ax = np.arange(-half, half + step / 2, step)
-        plan = energy_density_plan_map(site, c[2], c[0] + ax, c[1] + ax, levels)
-        along = section_directions(m)["along"]
-        sec = energy_density_section_map(site, c, along, ax, c[2] + ax, levels)
-        name = slug(m.name, taken)
-        outlines = [(m.name, magnet_plan_outline(m))]
-        cut, _projected = section_windings(m, SimpleNamespace(unit=along))
-        windings = [] if cut.is_empty else [(m.name, cut)]
-        for mp, kind, labels in (
-                (plan, "plan", ("x (east), m", "y (north), m")),
-                (sec, "section", ("s along the axis, m", "z (height), m"))):
-            info = SheetInfo(site_name=site.name,
-                             title=f"Energy density, {kind} through {m.name}",
-                             subtitle=("horizontal plane at the magnet centre height"
-                                       if kind == "plan" else
-                                       "vertical plane through the centre along the axis"),
-                             magnets=(m.name,))
-            fig = map_sheet(mp.u_m, mp.v_m, mp.energy_density_J_per_m3, levels, info,
-                            unit="J/m³", quantity="u", notes=notes_for[kind],
-                            magnets=outlines if kind == "plan" else (),
-                            windings=windings if kind == "section" else (),
-                            x_label=labels[0], y_label=labels[1],
-                            north_arrow=kind == "plan")
-            sheets.append((f"energy-{kind}-{name}", fig))
-    return sheets
-
-
 def _write_maps(site, magnets, out_dir: Path, levels) -> list[Path]:
     from fringe.render.drawing import save_figure
+    from fringe.render.energy import energy_density_sheets
 
     try:
         out_dir.mkdir(parents=True, exist_ok=True)

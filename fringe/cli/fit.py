@@ -5,6 +5,7 @@ from __future__ import annotations
 import sys
 import warnings
 
+from fringe.io import toml_out
 from fringe.io.atomic import write_text_atomic
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeInputError, FringeWarning, ScenarioError
@@ -40,34 +41,23 @@ def register(sub) -> None:
     p.set_defaults(func=run)
 
 
-def _f(x: float) -> str:
-    return repr(float(round(x, 9)))
-
-
 def magnet_toml(result: FitResult) -> str:
-    """The fitted magnet as a scenario ``[[magnet]]`` block with ``[[magnet.coil]]`` tables."""
+    """The fitted magnet as a scenario ``[[magnet]]`` block with ``[[magnet.coil]]`` tables
+    (written by :func:`fringe.io.toml_out.magnet_toml`)."""
     m = result.magnet
     lines_txt = "; ".join(f"{ln.threshold_T * 1e3:g} mT line {ln.axial_m:g} m axial x "
                           f"{ln.radial_m:g} m radial" for ln in result.requested)
     desc = (f"Equivalent coil model fitted to data-sheet numbers ({result.center_field_T:.4g} T; "
             f"{lines_txt}); not the supplier's coils")
-    out = [f"# {ADVISORY_NOTICE}",
-           "# Equivalent model fitted to data-sheet numbers by `fringe fit` "
-           f"(family {result.family}); only its stray field is meant to match.",
-           "# Move it with center_m and axis (the bore axis).",
-           "[[magnet]]",
-           f'name = "{m.name}"',
-           f'description = "{desc}"',
-           f"center_m = [{_f(m.center_m[0])}, {_f(m.center_m[1])}, {_f(m.center_m[2])}]",
-           f"axis = [{_f(m.axis[0])}, {_f(m.axis[1])}, {_f(m.axis[2])}]"]
+    comments = [ADVISORY_NOTICE,
+                "Equivalent model fitted to data-sheet numbers by `fringe fit` "
+                f"(family {result.family}); only its stray field is meant to match.",
+                "Move it with center_m and axis (the bore axis)."]
     names = _GROUP_NAMES["lab" if FAMILIES[result.family].lab else "shielded"]
-    for i, c in enumerate(m.coils):
-        group = names[i // 2] if i // 2 < len(names) else f"coil pair {i // 2 + 1}"
-        out += ["", f"  [[magnet.coil]]  # {group}, {'+' if c.z_max_m > 0 else '-'}z half",
-                f"  r_inner_m = {_f(c.r_inner_m)}", f"  r_outer_m = {_f(c.r_outer_m)}",
-                f"  z_min_m = {_f(c.z_min_m)}", f"  z_max_m = {_f(c.z_max_m)}",
-                f"  turns = {int(round(c.turns))}", f"  current_A = {_f(c.current_A)}"]
-    return "\n".join(out) + "\n"
+    coil_notes = [f"{names[i // 2] if i // 2 < len(names) else f'coil pair {i // 2 + 1}'}, "
+                  f"{'+' if c.z_max_m > 0 else '-'}z half" for i, c in enumerate(m.coils)]
+    return toml_out.magnet_toml(m, description=desc, comments=comments,
+                                coil_comments=coil_notes, position_digits=9, coil_digits=9)
 
 
 def summary_text(result: FitResult) -> str:

@@ -2,11 +2,9 @@
 
 from __future__ import annotations
 
-import sys
-import time
-
 import numpy as np
 
+from fringe.cli.progress import ProgressBar
 from fringe.field.grid import DEFAULT_BLOCK_POINTS, grid_from_box
 from fringe.io.gridmap import MAP_FORMATS, write_map
 from fringe.io.scenario import load_site
@@ -40,32 +38,6 @@ def register(sub) -> None:
                    help="refuse grids with more nodes than this (default 2e9)")
     p.add_argument("--quiet", action="store_true", help="no progress bar on stderr")
     p.set_defaults(func=run)
-
-
-class ProgressBar:
-    """A one-line text progress bar on a stream (stderr), redrawn at most 10× per second."""
-
-    def __init__(self, stream=None, width: int = 30) -> None:
-        self.stream = stream if stream is not None else sys.stderr
-        self.width = width
-        self.t0 = time.perf_counter()
-        self.last = -1.0
-
-    def __call__(self, done: int, total: int) -> None:
-        now = time.perf_counter()
-        if done < total and now - self.last < 0.1:
-            return
-        self.last = now
-        frac = done / total if total else 1.0
-        fill = int(round(frac * self.width))
-        rate = done / max(now - self.t0, 1e-9)
-        eta = (total - done) / rate if rate > 0 else float("inf")
-        self.stream.write(f"\r[{'#' * fill}{'.' * (self.width - fill)}] {100 * frac:5.1f}% "
-                          f"{done:.3g}/{total:.3g} points, {rate:.3g} points/s, "
-                          f"{eta:5.1f} s left ")
-        if done >= total:
-            self.stream.write("\n")
-        self.stream.flush()
 
 
 def run(args) -> int:

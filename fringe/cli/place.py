@@ -5,18 +5,14 @@ See docs/placement.md for the scoring, the search and the outputs.
 
 from __future__ import annotations
 
-import json
 import math
-import sys
-import time
-from pathlib import Path
 
-import shapely
-
+from fringe.cli.progress import Progress
 from fringe.io.scenario import load_site
+from fringe.io.toml_out import magnet_toml
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import ScenarioError, must_be
-from fringe.model.verdict import Verdict
+from fringe.render.placement import fmt_m, limiting_rooms, why
 
 #: Parameters of :func:`fringe.analysis.placement.search_placement` → this command's options
 #: (errors about a parameter name the option).
@@ -55,14 +51,13 @@ def register(sub) -> None:
     p.set_defaults(func=run, flags=FLAGS)
 
 
-def _progress(quiet: bool):
-    t0 = time.monotonic()
-
-    def say(msg: str) -> None:
-        if not quiet:
-            sys.stderr.write(f"[{time.monotonic() - t0:5.1f} s] {msg}\n")
-            sys.stderr.flush()
-    return say
+def best_magnet_toml(result) -> str:
+    """The scenario ``[[magnet]]`` block of the best placement (centre and axis rounded to
+    0.1 mm and 1e-4; :func:`fringe.io.toml_out.magnet_toml`)."""
+    m = result.magnet
+    notes = [] if m.origin == "coils" else [f"coils: the equivalent coil model ({m.origin})"]
+    return magnet_toml(m, center_m=result.best.center_m, axis=result.best.axis,
+                       comments=notes, position_digits=4)
 
 
 def _r(v, nd=4):
@@ -122,8 +117,6 @@ def equipment_effect(site, result) -> list[dict]:
 
 def result_dict(site, result, equipment: list[dict]) -> dict:
     """The JSON document of ``fringe place --json`` (and place.json)."""
-    from fringe.analysis.placement import magnet_toml
-
     cands = []
     for k, p in enumerate(result.candidates, 1):
         d = _core(p)
@@ -140,47 +133,7 @@ def result_dict(site, result, equipment: list[dict]) -> dict:
             "boundary_mT": result.boundary_mT, "thresholds_mT": list(result.levels_mT),
             "fits": result.fits, "current": cur, "shortfall": shortfall(result),
             "equipment": equipment, "notes": list(result.notes),
-            "magnet_block": magnet_toml(result.magnet, result.best)}
-
-
-def _fmt_m(v) -> str:
-    return "-" if v is None or not math.isfinite(v) else f"{v:+.2f}"
-
-
-def _limiting(p) -> str:
-    near = [b for b in p.spill_by_room if b["clearance_m"] is not None]
-    if not near:
-        return "-"
-    m = min(b["clearance_m"] for b in near)
-    names = [f"{b['room']} ({b['floor']})" for b in near if b["clearance_m"] <= m + 0.02]
-    return ", ".join(names)
-
-
-def why(result) -> list[str]:
-    """Plain sentences comparing the best placement with the scenario's own."""
-    b, c = result.best, result.current
-    out = []
-    if c is None:
-        return ["The scenario's own placement is on another floor; not compared."]
-    if b is c or (math.dist(b.center_m, c.center_m) < 1e-9 and b.axis == c.axis):
-        out.append("The scenario's own placement is already the best found.")
-    ds = c.spill_area_m2 - b.spill_area_m2
-    if ds > 0.005:
-        out.append(f"It spills {ds:.2f} m² less ({b.spill_area_m2:.2f} against "
-                   f"{c.spill_area_m2:.2f} m², thresholds summed).")
-    else:
-        out.append(f"It spills the same area ({b.spill_area_m2:.2f} m², thresholds summed)")
-    dm = b.margin_m - c.margin_m
-    if math.isfinite(b.margin_m) and math.isfinite(c.margin_m):
-        out.append(f"Its margin is {b.margin_m:.2f} m against {c.margin_m:.2f} m "
-                   f"({'+' if dm >= 0 else ''}{dm:.2f} m); limiting: {_limiting(b)} "
-                   f"(scenario placement: {_limiting(c)}).")
-    thr = [x for x in b.spill_by_room if x["through_floor"]]
-    for x in thr:
-        out.append(f"{x['area_m2']:.2f} m² of the {x['limit_mT']:g} mT footprint reaches "
-                   f"{x['room']} ({x['floor']}) through the slab; moving in plan does not "
-                   "remove it.")
-    return out
+            "magnet_block": best_magnet_toml(result)}
 
 
 def text_summary(site, result, equipment: list[dict], out_dir: str | None) -> str:
@@ -199,7 +152,7 @@ def text_summary(site, result, equipment: list[dict], out_dir: str | None) -> st
         c = "(" + ", ".join(f"{v:.2f}" for v in p.center_m) + ")"
         a = "(" + ", ".join(f"{v:.3f}" for v in p.axis) + ")"
         lines.append(f"{k:<5} {c:<27} {a:<21} {p.spill_area_m2:9.2f} "
-                     f"{_fmt_m(p.margin_m):>8}  {_limiting(p)}")
+                     f"{fmt_m(p.margin_m):>8}  {limiting_rooms(p)}")
     lines += ["", "why the best placement:"] + ["  " + s for s in why(r)]
     sf = shortfall(r)
     if sf is None:
@@ -228,110 +181,13 @@ def text_summary(site, result, equipment: list[dict], out_dir: str | None) -> st
                          f"{e['after_verdict']}")
     for n in r.notes:
         lines.append(f"note: {n}")
-    from fringe.analysis.placement import magnet_toml
-
-    lines += ["", "# scenario block for the best placement", magnet_toml(r.magnet, r.best)]
+    lines += ["", "# scenario block for the best placement", best_magnet_toml(r)]
     if out_dir:
         lines.append(f"outputs: {out_dir}")
     lines.append(ADVISORY_NOTICE)
     return "\n".join(lines)
 
 
-def placement_sheet(site, result, equipment: list[dict]):
-    """A plan sheet of the best placement's floor: |B| bands of the best placement,
-    rooms, the allowed region, the candidate centres and the scenario placement's
-    boundary line."""
-    from fringe.analysis.placement import moved_site
-    from fringe.analysis.report import magnet_plan_outline
-    from fringe.analysis.zones import floor_map, plan_axes_m, reach_m
-    from fringe.model.site import site_plan
-    from fringe.render import drawing as dr
-
-    plan = site_plan(site)
-    best = result.best
-    fl = plan.floor_of_point(best.center_m[2])
-    site_b = moved_site(site, result.magnet, best)
-    mb = next(m for m in site_b.magnets if m.name == result.magnet.name)
-    r = reach_m(mb, result.boundary_mT * 1e-3) + 0.5
-    xs = [best.center_m[0] - r, best.center_m[0] + r]
-    ys = [best.center_m[1] - r, best.center_m[1] + r]
-    for room in plan.rooms:
-        if room.floor == fl.name:
-            b = room.outline.bounds
-            xs += [b[0], b[2]]
-            ys += [b[1], b[3]]
-    ext = ((min(xs) - 0.5, min(ys) - 0.5), (max(xs) + 0.5, max(ys) + 0.5))
-    span = max(ext[1][0] - ext[0][0], ext[1][1] - ext[0][1])
-    step = max(plan.settings.grid_step_m, span / 300.0)
-    x, y = plan_axes_m(ext, step)
-    fm = floor_map(site_b, fl, x, y, plan.settings.band_step_m,
-                   [t * 1e-3 for t in result.levels_mT])
-    zone_hit = {(b["room"], b["floor"]) for b in best.spill_by_room if b["area_m2"] > 0}
-    rooms = [dr.RoomMark(room.name, room.outline, room.access,
-                         Verdict.EXCEEDS if (room.name, room.floor) in zone_hit else
-                         (None if room.access == "controlled" else Verdict.WITHIN))
-             for room in plan.rooms if room.floor == fl.name]
-    eq = []
-    for e, info in zip(plan.equipment, equipment, strict=False):
-        if plan.floor_of_point(e.position_m[2]).name == fl.name:
-            eq.append(dr.EquipmentMark(e.name, (e.position_m[0], e.position_m[1]),
-                                       info["after_mT"] * 1e-3, e.limit_mT * 1e-3,
-                                       info["after_verdict"]))
-    overlays = []
-    allowed = result.allowed.get(best.angle_deg)
-    if allowed is not None and not allowed.is_empty:
-        overlays.append(dr.Overlay("allowed magnet centres (region shrunk by the winding "
-                                   "outline)", allowed.boundary, "outline"))
-    cur = result.current
-    if cur is not None:
-        g = result.footprint(cur, fl.name, result.boundary_mT)
-        if not g.is_empty:
-            overlays.append(dr.Overlay(f"scenario placement: {result.boundary_mT:g} mT line",
-                                       g.boundary, "contour"))
-    pts = shapely.union_all([shapely.Point(p.center_m[:2]).buffer(0.07, quad_segs=2)
-                             for p in result.candidates])
-    overlays.append(dr.Overlay("candidate centres (best few)", pts, "outline"))
-    notes = [f"Best placement: centre ({', '.join(f'{v:.2f}' for v in best.center_m)}) m, "
-             f"axis ({', '.join(f'{v:.3f}' for v in best.axis)}); spill "
-             f"{best.spill_area_m2:.2f} m² (thresholds summed), margin "
-             f"{_fmt_m(best.margin_m)} m."]
-    notes += why(result)
-    notes.append(f"Largest |B| over the occupied band {fl.band_bottom_m:g} to "
-                 f"{fl.band_top_m:g} m above the floor; grid step {step:.2g} m.")
-    info = dr.SheetInfo(site_name=site.name, title=f"Placement search: {fl.name} floor",
-                        subtitle=f"Best placement of {result.magnet.name} in "
-                                 f"{result.region_label}",
-                        magnets=(result.magnet.name,),
-                        boundary_note=f"Controlled access area boundary: "
-                                      f"{result.boundary_mT:g} mT")
-    return dr.plan_sheet(fm.x_m, fm.y_m, fm.envelope_T, info,
-                         thresholds_mT=result.levels_mT, boundary_mT=result.boundary_mT,
-                         rooms=rooms, equipment=eq,
-                         magnets=[dr.MagnetOutline(mb.name, magnet_plan_outline(mb))],
-                         overlays=overlays, notes=notes)
-
-
-def write_outputs(site, result, equipment, doc: dict, out_dir: str | Path) -> list[str]:
-    """Write place.json, best-magnet.toml and place-plan.png/.svg atomically."""
-    from fringe.analysis.placement import magnet_toml
-    from fringe.io.atomic import atomic_directory, check_output_folder
-    from fringe.render.drawing import save_figure
-
-    check_output_folder(out_dir, scenario_file=site.source_file, marker="place.json")
-    fig = placement_sheet(site, result, equipment)
-    with atomic_directory(out_dir) as tmp:
-        (tmp / "place.json").write_text(json.dumps(doc, indent=2, ensure_ascii=False)
-                                        + "\n", "utf-8")
-        (tmp / "best-magnet.toml").write_text(
-            "# " + ADVISORY_NOTICE + "\n" + magnet_toml(result.magnet, result.best), "utf-8")
-        save_figure(fig, tmp / "place-plan.png")
-        save_figure(fig, tmp / "place-plan.svg")
-        names = sorted(p.name for p in tmp.iterdir())
-    return names
-
-
-#: Argument of :func:`fringe.analysis.placement.search_placement` → option of this
-#: command, so the library's errors name the option typed.
 def run(args) -> int:
     from fringe.analysis.placement import search_placement
     from fringe.cli.main import print_json
@@ -351,14 +207,16 @@ def run(args) -> int:
         plan = site_plan(site)
         parse_region(args.region, plan, plan.floor_of_point(magnet.center_m[2]))
         check_output_folder(args.out, scenario_file=site.source_file, marker="place.json")
-    say = _progress(args.quiet or args.json)
+    say = Progress(args.quiet or args.json)
     result = search_placement(site, args.magnet, args.region, angles, args.threshold_mT,
                               progress=say)
     equipment = equipment_effect(site, result)
     doc = result_dict(site, result, equipment)
     if args.out:
         say("drawing the placement sheet")
-        write_outputs(site, result, equipment, doc, args.out)
+        from fringe.render.placement import write_placement_outputs
+
+        write_placement_outputs(site, result, equipment, doc, args.out)
     if args.json:
         print_json(doc)
     else:

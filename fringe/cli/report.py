@@ -2,10 +2,9 @@
 
 from __future__ import annotations
 
-import sys
-import time
 from pathlib import Path
 
+from fringe.cli.progress import Progress
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.verdict import Verdict
@@ -34,19 +33,6 @@ def register(sub) -> None:
                    help="write only the JSON, GeoJSON and CSV outputs (faster)")
     p.add_argument("--quiet", action="store_true", help="no progress messages on stderr")
     p.set_defaults(func=run)
-
-
-class _Progress:
-    """Progress messages on stderr with elapsed time (one line each)."""
-
-    def __init__(self, quiet: bool) -> None:
-        self.quiet = quiet
-        self.t0 = time.monotonic()
-
-    def __call__(self, msg: str) -> None:
-        if not self.quiet:
-            sys.stderr.write(f"[{time.monotonic() - self.t0:5.1f} s] {msg}\n")
-            sys.stderr.flush()
 
 
 def terminal_summary(result, out_dir: str | Path) -> str:
@@ -109,13 +95,14 @@ def terminal_summary(result, out_dir: str | Path) -> str:
 def run_report(scenario: str | Path, out_dir: str | Path, *, grid_step_m: float | None = None,
                drawings: bool = True, quiet: bool = False):
     """Load, compute, write; returns the :class:`fringe.analysis.report.ReportResult`."""
-    from fringe.analysis.report import check_grid_step_m, compute_report, write_report
+    from fringe.analysis.report import check_grid_step_m, compute_report
     from fringe.io.prefetch import prefetch_quench_data
+    from fringe.render.report import write_report
 
     site = load_site(scenario)
     if grid_step_m is not None:
         check_grid_step_m(grid_step_m, "--grid-step-m")
-    progress = _Progress(quiet)
+    progress = Progress(quiet)
     progress(f"loaded {scenario}")
     # a child starts CoolProp (~1 s+) while this process imports the drawing stack and
     # computes the maps

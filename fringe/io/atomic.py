@@ -18,14 +18,28 @@ from pathlib import Path
 from fringe.model.errors import FringeIOError
 
 __all__ = ["atomic_file", "atomic_directory", "write_text_atomic", "write_bytes_atomic",
-           "check_output_folder"]
+           "check_output_folder", "usual_mode", "set_usual_mode"]
 
 
-def _default_file_mode() -> int:
-    """0o666 less the process umask: the mode a plain ``open(path, "w")`` would give."""
+def usual_mode(*, folder: bool = False) -> int:
+    """The mode a plain ``open(path, "w")`` (0o666) or ``mkdir`` (``folder``: 0o777) gives
+    under the process umask (read without changing it for good)."""
     mask = os.umask(0)
     os.umask(mask)
-    return 0o666 & ~mask
+    return (0o777 if folder else 0o666) & ~mask
+
+
+def set_usual_mode(path: str | Path, *, with_files: bool = False) -> None:
+    """Give ``path`` the mode of :func:`usual_mode` (temporary names are created private,
+    0600 files and 0700 folders); for a folder with ``with_files``, also every file in it."""
+    path = Path(path)
+    is_dir = path.is_dir()
+    os.chmod(path, usual_mode(folder=is_dir))
+    if is_dir and with_files:
+        mode = usual_mode()
+        for p in path.iterdir():
+            if p.is_file():
+                os.chmod(p, mode)
 
 
 @contextlib.contextmanager
@@ -51,7 +65,7 @@ def atomic_file(path: str | Path, suffix: str | None = None) -> Iterator[Path]:
     tmp_path = Path(tmp)
     try:
         yield tmp_path
-        os.chmod(tmp_path, _default_file_mode())
+        set_usual_mode(tmp_path)
         try:
             os.replace(tmp_path, path)
         except OSError as e:
@@ -97,7 +111,7 @@ def atomic_directory(path: str | Path) -> Iterator[Path]:
     except BaseException:
         shutil.rmtree(tmp, ignore_errors=True)
         raise
-    os.chmod(tmp, 0o777 & ~(_default_file_mode() ^ 0o666))
+    set_usual_mode(tmp)
     old = None
     if path.exists():
         old = Path(tempfile.mkdtemp(prefix=f".{path.name}.old.", dir=parent))

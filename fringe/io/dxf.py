@@ -1,4 +1,4 @@
-"""CAD plan exchange (DXF, through ezdxf): room outlines in, zone outlines back out.
+"""CAD plan exchange (DXF, through ezdxf): room outlines in, zone layers read back.
 
 Reading
 -------
@@ -16,14 +16,12 @@ name. Drawing units come from the ``$INSUNITS`` header and are scaled to metres;
 ``fringe.io.scenario.ROOM_LOADERS["dxf"]``; its options are the keys of
 :data:`DXF_ROOM_OPTION_KEYS`.
 
-Writing
--------
-:func:`write_zones_dxf` writes shapely (multi)polygons — footprints per threshold,
-holes kept, and the attraction zone — as closed LWPOLYLINEs (one per ring) on layers
-named by :func:`zone_layer_name` (``FRINGE-0_5MT``, ``FRINGE-ATTRACTION``), in the units
-of a template drawing (the user's own plan, copied with every entity it had) or of
-the ``units`` asked for. An MTEXT on ``FRINGE-NOTES`` carries the advisory notice.
-:func:`read_dxf_polygons` reads such a layer back (rings nested by the even-odd rule).
+Zone drawings
+-------------
+Zone drawings (footprints and the attraction zone on ``FRINGE-…`` layers) are drawn
+by :func:`fringe.render.dxf.write_zones_dxf`; :func:`read_dxf_polygons` reads such a
+layer back (rings nested by the even-odd rule). Layers named ``FRINGE-…``
+(:data:`LAYER_PREFIX`) are never read as rooms.
 
 Any file ezdxf cannot read raises :class:`fringe.model.errors.ScenarioError` naming the file.
 
@@ -46,14 +44,12 @@ import numpy as np
 import shapely
 import shapely.affinity
 
-from fringe.io.atomic import atomic_file
 from fringe.model.building import ACCESS_CLASSES, Room
-from fringe.model.constants import ADVISORY_NOTICE
-from fringe.model.errors import FringeInputError, FringeIOError, ScenarioError, must_be
+from fringe.model.errors import ScenarioError, must_be
 
-__all__ = ["DxfPlan", "read_dxf_plan", "load_dxf_rooms", "write_zones_dxf",
-           "read_dxf_polygons", "zone_layer_name", "metres_per_unit", "DXF_ROOM_OPTION_KEYS",
-           "LAYER_ROLES", "UNIT_CHOICES", "ATTRACTION_LAYER", "NOTES_LAYER", "LAYER_PREFIX"]
+__all__ = ["DxfPlan", "read_dxf_plan", "load_dxf_rooms", "read_dxf_polygons",
+           "metres_per_unit", "DXF_ROOM_OPTION_KEYS", "LAYER_ROLES", "UNIT_CHOICES",
+           "LAYER_PREFIX"]
 
 #: Option keys understood by the DXF room loader (the ``[[room_file]]`` keys that the
 #: scenario passes through when ``format = "dxf"``).
@@ -67,10 +63,6 @@ UNIT_CHOICES: dict[str, int] = {"in": 1, "ft": 2, "mm": 4, "cm": 5, "m": 6, "dm"
 
 #: Prefix of every layer fringe writes (so a re-export replaces only our own layers).
 LAYER_PREFIX: str = "FRINGE-"
-#: Layer of the attraction zone.
-ATTRACTION_LAYER: str = "FRINGE-ATTRACTION"
-#: Layer of the advisory notice and legend text.
-NOTES_LAYER: str = "FRINGE-NOTES"
 
 #: Chord tolerance when flattening arcs (bulges), m.
 _FLATTEN_M: float = 5e-4
@@ -87,18 +79,6 @@ def metres_per_unit(insunits: int) -> float:
     except (IndexError, ValueError, TypeError):
         return math.nan
     return math.nan if not f else 1.0 / f
-
-
-def zone_layer_name(threshold_mT: float) -> str:
-    """Layer name for a footprint: ``FRINGE-0_5MT`` for 0.5 mT, ``FRINGE-200MT`` for 200 mT.
-
-    >>> zone_layer_name(0.5), zone_layer_name(3), zone_layer_name(0.25)
-    ('FRINGE-0_5MT', 'FRINGE-3MT', 'FRINGE-0_25MT')
-    """
-    t = float(threshold_mT)
-    if not (math.isfinite(t) and t > 0):
-        raise FringeInputError(must_be("threshold_mT", "a positive number", threshold_mT))
-    return f"{LAYER_PREFIX}{f'{t:g}'.replace('.', '_')}MT"
 
 
 # -- reading ----------------------------------------------------------------------------
@@ -405,117 +385,13 @@ def _ring_xy(ring) -> np.ndarray:
     return xy[:-1] if len(xy) > 1 and np.array_equal(xy[0], xy[-1]) else xy
 
 
-# -- writing ----------------------------------------------------------------------------
-
-def _layer_colors(names: list[str]) -> dict[str, tuple[int, int, int]]:
-    from matplotlib import colormaps
-
-    cmap = colormaps["viridis"]
-    n = max(1, len(names) - 1)
-    return {name: tuple(int(round(255 * c)) for c in cmap(0.9 * i / n)[:3])
-            for i, name in enumerate(names)}
-
-
-def write_zones_dxf(path: str | Path, zones: Mapping[str, Any], *,
-                    template: str | Path | None = None, units: str | None = None,
-                    offset_m: tuple[float, float] = (0.0, 0.0), notes: str = "",
-                    colors: Mapping[str, tuple[int, int, int]] | None = None) -> int:
-    """Write zone outlines as DXF layers, atomically.
-
-    Parameters
-    ----------
-    path : str or Path
-        Output ``.dxf``; written to a temporary name and renamed.
-    zones : mapping of layer name → shapely geometry
-        Site-frame metres; Polygon/MultiPolygon (each ring becomes one closed
-        LWPOLYLINE, holes included) or LineString. Layer names must start with
-        :data:`LAYER_PREFIX` (use :func:`zone_layer_name` / :data:`ATTRACTION_LAYER`).
-    template : str or Path, optional
-        A drawing to copy (the user's plan): its units are used and its entities kept;
-        entities already on ``FRINGE-`` layers are replaced.
-    units : str, optional
-        Key of :data:`UNIT_CHOICES` for a new drawing (default ``"m"``), or for a
-        unitless template.
-    offset_m : (float, float)
-        Site origin offset as in :func:`read_dxf_plan`:
-        ``drawing_xy = (site_xy − offset_m) / metres_per_unit``.
-    notes : str
-        Extra lines for the notes MTEXT (e.g. the attraction criterion); the advisory
-        notice is always written.
-    colors : mapping, optional
-        Layer → (r, g, b) 0–255; by default evenly spaced along viridis.
-
-    Returns
-    -------
-    int
-        The ``$INSUNITS`` code of the written drawing.
-    """
-    import ezdxf
-
-    for name in zones:
-        if not isinstance(name, str) or not name.startswith(LAYER_PREFIX):
-            raise FringeInputError(must_be("zones", f"keyed by layer names starting with "
-                                           f"{LAYER_PREFIX!r}", name))
-    if units is not None and units not in UNIT_CHOICES:
-        raise FringeInputError(must_be("units", f"one of {', '.join(map(repr, UNIT_CHOICES))}",
-                                       units))
-    if template is not None:
-        doc = _read_doc(Path(template), str(template))
-        insunits = int(doc.header.get("$INSUNITS", 0) or 0)
-        if not math.isfinite(metres_per_unit(insunits)):
-            insunits = UNIT_CHOICES[units or "m"]
-            doc.header["$INSUNITS"] = insunits
-        msp = doc.modelspace()
-        for e in list(msp):
-            if e.dxf.layer.upper().startswith(LAYER_PREFIX):
-                msp.delete_entity(e)
-    else:
-        insunits = UNIT_CHOICES[units or "m"]
-        doc = ezdxf.new("R2010", setup=False, units=insunits)
-        msp = doc.modelspace()
-    mpu = metres_per_unit(insunits)
-    inv = 1.0 / mpu
-    shift = (-offset_m[0] * inv, -offset_m[1] * inv)
-    names = list(zones) + [NOTES_LAYER]
-    rgb = dict(_layer_colors(names))
-    rgb.update(colors or {})
-    for name in names:
-        layer = doc.layers.get(name) if doc.layers.has_entry(name) else doc.layers.add(name)
-        layer.rgb = rgb[name]
-    lo = np.array([np.inf, np.inf])
-    for name, geom in zones.items():
-        g = _affine(geom, inv, shift) if geom is not None else None
-        for poly in _polygons(g):
-            for ring in (poly.exterior, *poly.interiors):
-                xy = _ring_xy(ring)
-                msp.add_lwpolyline(xy.tolist(), close=True, dxfattribs={"layer": name})
-                lo = np.minimum(lo, xy.min(axis=0))
-        if g is not None and g.geom_type in ("LineString", "MultiLineString"):
-            for line in getattr(g, "geoms", [g]):
-                xy = np.asarray(line.coords)[:, :2]
-                msp.add_lwpolyline(xy.tolist(), dxfattribs={"layer": name})
-                lo = np.minimum(lo, xy.min(axis=0))
-    if not np.all(np.isfinite(lo)):
-        lo = np.zeros(2)
-    text = ADVISORY_NOTICE + ("\\P" + notes.replace("\n", "\\P") if notes else "")
-    msp.add_mtext(text, dxfattribs={"layer": NOTES_LAYER, "char_height": 0.2 * inv,
-                                    "width": 20.0 * inv, "insert": (lo[0], lo[1] - 0.5 * inv),
-                                    "attachment_point": 1})
-    p = Path(path)
-    try:
-        with atomic_file(p) as tmp:
-            doc.saveas(str(tmp))
-    except OSError as e:
-        raise FringeIOError(f"{p}: cannot write the DXF drawing ({e.strerror or e})") from None
-    return insunits
-
-
 def read_dxf_polygons(path: str | Path, layer: str, *, offset_m: tuple[float, float] = (0.0, 0.0),
                       units: str | None = None):
     """Closed LWPOLYLINEs of one layer as a shapely MultiPolygon in site metres.
 
     Rings are nested by the even-odd rule (a ring inside an odd number of others is a
-    hole of the smallest ring containing it), which inverts :func:`write_zones_dxf`.
+    hole of the smallest ring containing it), which inverts
+    :func:`fringe.render.dxf.write_zones_dxf`.
     """
     p = Path(path)
     doc = _read_doc(p, str(p))

@@ -42,6 +42,7 @@ from matplotlib.transforms import Affine2D, Bbox, ScaledTranslation, blended_tra
 from shapely.geometry import LineString, Point, Polygon, box
 from shapely.ops import polylabel
 
+from fringe.analysis.geometry import footprint_rectangle
 from fringe.model.constants import DEFAULT_THRESHOLDS_MT
 from fringe.model.errors import FringeInputError, must_be
 from fringe.model.verdict import Verdict
@@ -67,6 +68,7 @@ from fringe.render.sheet import (
     tables_sheets,
     write_pdf,
 )
+from fringe.render.style import HAZARD_COLOR, threshold_color
 
 __all__ = [
     "SheetInfo", "RoomMark", "EquipmentMark", "MagnetOutline", "Overlay", "FloorLevel",
@@ -79,7 +81,7 @@ __all__ = [
 ]
 
 
-_EXPOSURE_COLOR = "#3d0b57"
+_EXPOSURE_COLOR = HAZARD_COLOR
 _EXPOSURE_STYLES = [(0, (7, 2, 1.5, 2)), (0, (4, 1.5)), (0, (1.2, 1.5)), (0, (9, 3))]
 _MAIN = (0.055, 0.185, 0.655, 0.775)
 
@@ -153,9 +155,9 @@ class MagnetOutline:
 OVERLAY_KINDS: dict[str, dict[str, Any]] = {
     "wall": {"hatch": None, "edgecolor": "0.6", "linewidth": 3.4, "linestyle": "-",
              "zorder": 2.2},  # under the field lines, above the bands
-    "hazard": {"hatch": "xx", "edgecolor": "#3d0b57", "linewidth": 1.6, "linestyle": "-"},
+    "hazard": {"hatch": "xx", "edgecolor": HAZARD_COLOR, "linewidth": 1.6, "linestyle": "-"},
     "outline": {"hatch": None, "edgecolor": "0.1", "linewidth": 1.2, "linestyle": (0, (6, 3))},
-    "contour": {"hatch": None, "edgecolor": "#3d0b57", "linewidth": 1.0,
+    "contour": {"hatch": None, "edgecolor": HAZARD_COLOR, "linewidth": 1.0,
                 "linestyle": (0, (1, 1.5))},
 }
 
@@ -234,39 +236,6 @@ def scale_bar_length_m(span_m: float) -> float:
         if m * 10**k <= target:
             return float(m * 10**k)
     return float(10**k)
-
-
-def footprint_rectangle(center_xy_m: Sequence[float], axis_xy: Sequence[float],
-                        length_m: float, width_m: float) -> Polygon:
-    """Plan footprint of a cylindrical cryostat: a rectangle centred on the magnet.
-
-    Parameters
-    ----------
-    center_xy_m : (2,) float
-        Magnet centre in plan, m.
-    axis_xy : (2,) float
-        Plan projection of the bore axis (any length; for a vertical axis pass (0, 0)
-        and the footprint is a square of side ``width_m``).
-    length_m : float
-        Extent along the axis (winding length or cryostat length), m.
-    width_m : float
-        Extent across the axis (outer winding diameter), m.
-
-    Returns
-    -------
-    shapely.Polygon
-    """
-    c = np.asarray(center_xy_m, float)
-    a = np.asarray(axis_xy, float)
-    n = float(np.hypot(*a))
-    if n < 1e-12:
-        return box(c[0] - width_m / 2, c[1] - width_m / 2, c[0] + width_m / 2,
-                   c[1] + width_m / 2)
-    u = a / n
-    v = np.array([-u[1], u[0]])
-    hl, hw = length_m / 2, width_m / 2
-    pts = [c + su * hl * u + sv * hw * v for su, sv in ((-1, -1), (1, -1), (1, 1), (-1, 1))]
-    return Polygon(pts)
 
 
 def _polygon_path(geom) -> MplPath:
@@ -352,8 +321,13 @@ def _check_levels(key: str, levels, *, positive: bool) -> np.ndarray:
     return lv
 
 
-def _band_colors(cmap: str, n: int) -> list:
-    """``n`` colours from a perceptually uniform colormap, lowest band lightest."""
+def _band_colors(cmap: str | None, levels: Sequence[float], palette=None) -> list:
+    """One colour per level: ``palette(level)`` when given (e.g.
+    :func:`fringe.render.style.threshold_color`, a colour fixed by the value), else evenly
+    spaced along the perceptually uniform colormap ``cmap``, lowest band lightest."""
+    if palette is not None:
+        return [palette(float(v)) for v in levels]
+    n = len(levels)
     cm = matplotlib.colormaps[cmap]
     ts = np.linspace(0.0, 0.78, n) if n > 1 else np.array([0.0])
     return [cm(float(t)) for t in ts]
@@ -382,8 +356,8 @@ class _LineSet:
 
 
 def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | None,
-                boundary_label: str | None, cmap: str, band_alpha: float,
-                log_contours: bool) -> tuple[list, list[_LineSet]]:
+                boundary_label: str | None, cmap: str | None, band_alpha: float,
+                log_contours: bool, palette=None) -> tuple[list, list[_LineSet]]:
     """Filled bands between consecutive levels, contour lines, emphasised boundary.
 
     Returns legend entries (handle, label) and the unlabelled line sets (boundary first).
@@ -396,7 +370,7 @@ def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | 
     if vmax > levels[-1]:
         fill_levels.append(vmax * (1.0 + 1e-9) if vmax > 0 else vmax + 1e-12)
     n_bands = len(fill_levels) - 1
-    colors = _band_colors(cmap, len(levels))  # one colour per "at least level i" band
+    colors = _band_colors(cmap, levels, palette)  # one colour per "at least level i" band
     Z = _log_or_linear(vals, log_contours)
     entries: list = []
     if n_bands >= 1 and vmax > levels[0]:
@@ -1088,7 +1062,7 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
               windings: Sequence = (),
               band_alpha: float = 0.62, log_contours: bool | None = None,
               x_label: str = "x (east), m", y_label: str = "y (north), m",
-              north_arrow: bool = True) -> Figure:
+              north_arrow: bool = True, palette=None) -> Figure:
     """A plan sheet of any scalar map: filled bands between levels and labelled lines.
 
     Parameters
@@ -1122,11 +1096,15 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     cmap : str
         Matplotlib colormap name; the lowest band takes the start of the map (light for
         the reversed perceptually uniform maps "viridis_r", "cividis_r", "magma_r").
+        Ignored when ``palette`` is given.
     band_alpha : float
         Opacity of the bands, so room outlines and text stay legible.
     log_contours : bool, optional
         Interpolate the lines on log10(values) (smoother for fields falling as 1/r³).
         Default: when every level and some value is positive.
+    palette : callable, optional
+        Level → colour of the band at and above it (e.g.
+        :func:`fringe.render.style.threshold_color` for levels in mT); overrides ``cmap``.
 
     Returns
     -------
@@ -1157,7 +1135,8 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     entries, line_sets = _draw_bands(ax, x, y, v, list(lv), unit=unit,
                                      boundary_level=boundary_level,
                                      boundary_label=boundary_label, cmap=cmap,
-                                     band_alpha=band_alpha, log_contours=log_contours)
+                                     band_alpha=band_alpha, log_contours=log_contours,
+                                     palette=palette)
     entries += _draw_overlays(ax, overlays)
     mag_texts, mag_entries = _draw_magnets(ax, magnets)
     mag_entries += _draw_magnets(ax, windings, section=True)[1]
@@ -1215,7 +1194,7 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
                boundary_mT: float | None = 0.5, boundary_label: str | None = None,
                rooms: Sequence[RoomMark] = (), equipment: Sequence[EquipmentMark] = (),
                magnets: Sequence = (), overlays: Sequence = (), notes: Sequence[str] = (),
-               cmap: str = "viridis_r") -> Figure:
+               cmap: str | None = None) -> Figure:
     """Floor plan of the field magnitude in mT, with rooms, equipment and the boundary.
 
     Parameters
@@ -1234,8 +1213,12 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
         missing). ``None`` draws no boundary line.
     boundary_label : str, optional
         Default "<value> mT: controlled access area boundary".
-    rooms, equipment, magnets, overlays, notes, cmap
+    rooms, equipment, magnets, overlays, notes
         As :func:`map_sheet`.
+    cmap : str, optional
+        A matplotlib colormap for the bands; by default each threshold's band takes its
+        own fixed colour (:func:`fringe.render.style.threshold_color`, the colour its
+        layer has in the DXF zone drawings).
 
     Returns
     -------
@@ -1258,7 +1241,8 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
     return map_sheet(x, y, v * 1e3, lv, info, unit="mT", quantity="|B|",
                      boundary_level=boundary_mT, boundary_label=label, rooms=rooms,
                      equipment=equipment, magnets=magnets, overlays=overlays, notes=notes,
-                     cmap=cmap, log_contours=True)
+                     cmap=cmap, log_contours=True,
+                     palette=threshold_color if cmap is None else None)
 
 
 def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
@@ -1267,7 +1251,7 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
                   floors: Sequence = (), windings: Sequence = (),
                   exposure_lines: Sequence[ExposureLine] = (), overlays: Sequence = (),
                   notes: Sequence[str] = (), s_label: str = "s along the section line, m",
-                  cmap: str = "viridis_r") -> Figure:
+                  cmap: str | None = None) -> Figure:
     """Vertical section of |B| in mT: bands, labelled lines, floors, windings, exposure.
 
     Parameters
@@ -1290,7 +1274,7 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
         Drawn as dashed labelled lines where |B| equals their value; their sources are
         printed in the notes (e.g. :data:`ICNIRP_2009_EXPOSURE_LINES`).
     overlays, notes, s_label, cmap
-        As :func:`map_sheet`; ``s_label`` names the horizontal axis.
+        As :func:`map_sheet` and :func:`plan_sheet`; ``s_label`` names the horizontal axis.
 
     Returns
     -------
@@ -1324,7 +1308,8 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
     renderer = _renderer(fig)
     entries, line_sets = _draw_bands(ax, s, z, vm, list(lv), unit="mT",
                                      boundary_level=boundary_mT, boundary_label=label,
-                                     cmap=cmap, band_alpha=0.62, log_contours=True)
+                                     cmap=cmap, band_alpha=0.62, log_contours=True,
+                                     palette=threshold_color if cmap is None else None)
     entries += _draw_overlays(ax, overlays)
     occupied: list[Bbox] = []
     # floors: slab line, lightly shaded occupied band (under the bands), name

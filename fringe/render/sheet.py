@@ -28,7 +28,6 @@ from __future__ import annotations
 
 import datetime as _dt
 import math
-import os
 import re
 import textwrap
 from collections.abc import Iterable, Sequence
@@ -48,6 +47,7 @@ from fringe.io.atomic import atomic_file
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeInputError, must_be
 from fringe.model.verdict import Verdict
+from fringe.render.style import INK_COLOR
 
 __all__ = [
     "SheetInfo", "Curve", "CurvePanel", "A3_LANDSCAPE_IN", "PNG_DPI",
@@ -62,7 +62,7 @@ A3_LANDSCAPE_IN: tuple[float, float] = (420 / 25.4, 297 / 25.4)
 PNG_DPI = 170
 _SAVE_FORMATS = ("png", "svg", "pdf")
 _HALO = [patheffects.withStroke(linewidth=2.4, foreground="white")]
-_INK = "0.08"
+_INK = INK_COLOR  # near-black ink of text and lines (fringe.render.style)
 _SHEET_NUMBER_GID = "fringe-sheet-number"
 # Layout of every sheet, in figure fractions (left, bottom, width, height).
 _FRAME = (0.012, 0.015, 0.976, 0.97)
@@ -767,13 +767,6 @@ def number_sheets(figures) -> list[Figure]:
     return figs
 
 
-def _usual_mode(path: Path) -> None:
-    """Give a temporary file the mode a plain ``open()`` would (mkstemp makes it 0600)."""
-    umask = os.umask(0)
-    os.umask(umask)
-    os.chmod(path, 0o666 & ~umask)
-
-
 def _save_rc() -> dict[str, Any]:
     # Text stays text in SVG and PDF, so the advisory notice is searchable and editable.
     return {"svg.fonttype": "none", "pdf.fonttype": 42, "svg.hashsalt": "fringe"}
@@ -820,7 +813,6 @@ def save_figure(fig: Figure, path: str | Path, *, dpi: int = PNG_DPI) -> Path:
         # zlib level 3 instead of PIL's 6: a third less time for ~25 % more bytes
         extra = {"pil_kwargs": {"compress_level": 3}} if fmt == "png" else {}
         fig.savefig(tmp, format=fmt, dpi=dpi, metadata=meta, **extra)
-        _usual_mode(tmp)
     return path
 
 
@@ -857,5 +849,4 @@ def write_pdf(figures, path: str | Path, *, title: str | None = None) -> Path:
         with PdfPages(tmp, metadata=meta) as pdf:
             for fig in figs:
                 pdf.savefig(fig)
-        _usual_mode(tmp)
     return path

@@ -1,0 +1,458 @@
+"""The site report's outputs: sheets, report.pdf, DXF zone drawings and tables.
+
+:func:`write_report` writes everything a computed
+:class:`fringe.analysis.report.ReportResult` shows into one folder swapped in atomically
+(:func:`fringe.io.atomic.atomic_directory`):
+
+* ``summary.json``, ``zones.geojson``, ``rooms.csv``, ``equipment.csv`` — the tables
+  (:mod:`fringe.io.report_files`; coordinates in site metres, see docs/zones.md);
+* ``zones-<floor>.dxf`` — footprints and attraction zone as DXF layers
+  (:func:`write_zone_drawings`, :mod:`fringe.render.dxf`);
+* ``plan-<floor>.png/.svg``, ``section-<magnet>.png/.svg``, ``energy-*.png`` and
+  ``report.pdf`` — the sheets of :func:`build_sheets`, drawn by :mod:`fringe.render.drawing`.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import math
+from collections.abc import Callable
+from pathlib import Path
+
+import numpy as np
+import shapely
+
+from fringe.analysis.geometry import magnet_plan_outline, section_windings
+from fringe.analysis.report import ReportResult
+from fringe.io.atomic import atomic_directory, check_output_folder, set_usual_mode
+from fringe.io.forked import ForkedCall
+from fringe.io.report_files import attraction_extents, slug, write_report_tables
+from fringe.model.verdict import Verdict
+from fringe.render.dxf import ATTRACTION_LAYER, write_zones_dxf, zone_layer_name
+
+__all__ = ["write_report", "write_zone_drawings", "build_sheets", "ATTRACTION_ZONE_LABEL",
+           "FORCE_PRODUCT_LEVELS_T2_PER_M"]
+
+Progress = Callable[[str], None] | None
+
+
+def write_report(r: ReportResult, out_dir: str | Path, *, drawings: bool = True,
+                 progress: Progress = None) -> list[str]:
+    """Write every output of ``r`` into ``out_dir`` atomically; returns the file names.
+
+    The folder is built beside ``out_dir`` and swapped in only when complete; an
+    existing ``out_dir`` is replaced whole.
+    """
+    say = progress or (lambda msg: None)
+    check_output_folder(out_dir, scenario_file=r.scenario_file, marker="summary.json")
+    with atomic_directory(out_dir) as tmp:
+        write_report_tables(r, tmp)
+        if drawings:  # the DXF drawings are written by a child while the sheets are built
+            dxf = ForkedCall(write_zone_drawings, r, tmp)
+            try:
+                _write_drawings(r, tmp, say)
+            except BaseException:
+                with contextlib.suppress(BaseException):  # reap; the first error wins
+                    dxf.result()
+                raise
+            dxf.result()
+        else:
+            write_zone_drawings(r, tmp)
+        set_usual_mode(tmp, with_files=True)
+        names = sorted(p.name for p in tmp.iterdir())
+    return names
+
+
+def write_zone_drawings(r: ReportResult, folder: str | Path) -> list[Path]:
+    """One ``zones-<floor>.dxf`` per floor: footprints and attraction zone as DXF layers.
+
+    A floor whose rooms were read from a DXF drawing (``[[room_file]] format = "dxf"``)
+    gets a copy of that drawing with the zones added, in its units and frame; any other
+    floor a new drawing in metres, site frame (:func:`fringe.render.dxf.write_zones_dxf`).
+    Each threshold's layer has the colour of its band on the sheets
+    (:mod:`fringe.render.style`).
+    """
+    site_drawings = () if r.site is None else r.site.room_drawings
+    taken: set[str] = set()
+    written = []
+    for name, fps in r.footprints.items():
+        zones = {zone_layer_name(fp.threshold_mT): fp.geometry for fp in fps
+                 if fp.geometry is not None and not fp.geometry.is_empty}
+        notes = [f"Floor {name}: footprints of the field lines (largest |B| over the "
+                 f"occupied band), boundary {r.boundary.value_mT:g} mT "
+                 f"({r.boundary.source})."]
+        fa = None if r.attraction is None else r.attraction.floors.get(name)
+        if fa is not None and not fa.geometry.is_empty:
+            zones[ATTRACTION_LAYER] = fa.geometry
+            notes.append(f"{ATTRACTION_LAYER}: {fa.criterion}")
+        source = next((d for d in site_drawings if name in d.floors), None)
+        path = Path(folder) / f"zones-{slug(name, taken)}.dxf"
+        write_zones_dxf(path, zones, template=None if source is None else source.path,
+                        offset_m=(0.0, 0.0) if source is None else source.offset_m,
+                        notes="\n".join(notes))
+        written.append(path)
+    return written
+
+
+#: Legend text of the attraction-hazard zone on plan and section sheets.
+ATTRACTION_ZONE_LABEL = "attraction zone: magnetic pull on loose steel exceeds its weight"
+
+
+#: Levels of the force-product sheet, T²/m: decades around the unsaturated soft-iron
+#: sphere's pull-equals-weight level μ₀ρg/3 = 0.0323 T²/m (docs/hazards.md).
+FORCE_PRODUCT_LEVELS_T2_PER_M: tuple[float, ...] = (0.001, 0.01, 0.1, 1.0, 10.0)
+
+
+def _force_product_sheet(r: ReportResult, sec, att_section, windings, s_label, base):
+    """Section sheet of B·|∇|B|| (T²/m) with the attraction zone (PDF only)."""
+    from fringe.render import drawing as dr
+
+    amap, zone = att_section
+    overlays = [] if zone.is_empty else [dr.Overlay(ATTRACTION_ZONE_LABEL, zone, "hazard")]
+    info = dr.SheetInfo(title=f"Force product along the axis of {sec.magnet}",
+                        subtitle="B·|∇|B|| in the vertical plane through the magnet centre; "
+                                 "the pull on soft iron grows with it", **base)
+    notes = [f"{r.attraction.criterion} (hatched).",
+             "B·|∇|B|| sets the unsaturated pull, F = (χ_eff V/μ₀)·B·|∇|B||; an iron sphere "
+             "(χ_eff = 3) is held by its weight below μ₀ρg/3 = 0.0323 T²/m.",
+             "Blank where not evaluated: beyond 1.5× the zone's reach and in the windings."]
+    # the window: where the map was evaluated (within reach of the magnet), plus a margin
+    u, v, fp = amap.u_m, amap.v_m, amap.force_product_T2_per_m
+    rows, cols = np.nonzero(np.isfinite(fp))
+    if rows.size:
+        pad_u = max(2, int(0.15 * (cols.max() - cols.min())))
+        pad_v = max(2, int(0.15 * (rows.max() - rows.min())))
+        c0, c1 = max(cols.min() - pad_u, 0), min(cols.max() + pad_u + 1, u.size)
+        r0, r1 = max(rows.min() - pad_v, 0), min(rows.max() + pad_v + 1, v.size)
+        u, v, fp = u[c0:c1], v[r0:r1], fp[r0:r1, c0:c1]
+    fig = dr.map_sheet(u, v, fp,
+                       FORCE_PRODUCT_LEVELS_T2_PER_M, info, unit="T²/m", quantity="B·|∇|B||",
+                       overlays=overlays, windings=windings, notes=notes,
+                       x_label=s_label, y_label="z (up), m", north_arrow=False)
+    return (None, fig)
+
+
+def _boundary_note(r: ReportResult) -> str:
+    return (f"Controlled access area boundary: {r.boundary.value_mT:g} mT "
+            f"({r.boundary.source})")
+
+
+def _sheet_base(r: ReportResult) -> dict:
+    """The title-block fields every sheet of the report shares."""
+    mag_names = tuple(m.name for m in r.magnets)
+    model_notes = tuple(f"{m.name}: {m.description}" for m in r.magnets
+                        if m.origin != "coils" and m.description)
+    return dict(site_name=r.site_name, magnets=mag_names, date_iso=r.created_utc[:10],
+                tool_version=f"fringe {r.version}", boundary_note=_boundary_note(r),
+                notes=model_notes)
+
+
+def _cover_facts(r: ReportResult) -> list[tuple[str, str]]:
+    """The key facts of the cover sheet: site, boundary, grid, each magnet."""
+    facts = [("Site", r.site_name), ("Scenario", Path(r.scenario_file).name or "-"),
+             ("Boundary", f"{r.boundary.value_mT:g} mT ({r.boundary.source})"),
+             ("Thresholds", ", ".join(f"{t:g}" for t in r.thresholds_mT) + " mT"),
+             ("Plan grid", f"{r.grid_step_m:g} m; occupied band sampled every "
+                           f"{r.plan.settings.band_step_m:g} m or finer")]
+    for m in r.magnets:
+        b = next((x for x in m.boundaries
+                  if math.isclose(x[0], r.boundary.value_mT, rel_tol=1e-9)), None)
+        ext = (f"; {b[0]:g} mT line {b[1]:.2f} m along, {b[2]:.2f} m across the axis"
+               if b else "")
+        facts.append((f"Magnet {m.name}", f"centre field {m.center_field_T:.3g} T{ext}; "
+                      f"stored energy {m.stored_energy_J / 1e6:.3g} MJ"))
+        if m.description:
+            facts.append((f"  model of {m.name}", m.description))
+        att = attraction_extents(r, m.name)
+        if att is not None:
+            facts.append((f"  attraction zone of {m.name}",
+                          f"{att['axial_extent_m']:.2f} m along, {att['radial_extent_m']:.2f} m "
+                          "across the axis (pull on loose steel exceeds its weight)"))
+    if r.attraction is not None:
+        facts.append(("Attraction criterion", r.attraction.criterion))
+    return facts
+
+
+def _cover_findings(r: ReportResult) -> list[str]:
+    """The findings of the cover sheet (shortened to one sheet; the tables list all)."""
+    from fringe.render import drawing as dr
+
+    findings = []
+    for fl, area in r.outside_controlled_m2.items():
+        if area > 0.005:
+            findings.append(f"{fl} floor: {area:.2f} m² of the {r.boundary.value_mT:g} mT "
+                            "footprint lies outside the controlled rooms")
+    for c in r.rooms:
+        lim = "" if c.limit_T is None else f" (limit {c.limit_T * 1e3:g} mT)"
+        findings.append(f"Room {c.name} ({c.floor} floor): largest field "
+                        f"{dr.format_value(c.max_field_T * 1e3)} mT{lim}: {c.verdict}")
+    for e in r.equipment:
+        findings.append(f"Equipment {e.name}: {dr.format_value(e.field_T * 1e3)} mT at its "
+                        f"position (limit {e.limit_T * 1e3:g} mT): {e.verdict}")
+    if len(findings) > 24:  # keep the cover to one sheet; the tables list everything
+        keep = [f for f in findings if Verdict.EXCEEDS in f or "outside the controlled" in f]
+        findings = keep[:22] + [f"{len(findings) - len(keep[:22])} further finding(s) "
+                                "within limits or in controlled rooms: see the tables"]
+    return findings
+
+
+def _cover_sheet(r: ReportResult, base: dict):
+    """The cover: key facts and findings."""
+    from fringe.render import drawing as dr
+
+    return dr.cover_sheet(
+        dr.SheetInfo(title="Static stray field: controlled-zone drawings and checks",
+                     subtitle="Footprints are the largest |B| over each floor's occupied "
+                              "band; verdicts per room and equipment point", **base),
+        _cover_facts(r), _cover_findings(r))
+
+
+def _plan_marks(r: ReportResult, name: str) -> tuple[list, list]:
+    """Room and equipment marks of floor ``name``."""
+    from fringe.render import drawing as dr
+
+    rooms = [dr.RoomMark(c.name, next(x.outline for x in r.plan.rooms if x.name == c.name),
+                         c.access, c.verdict, c.max_field_T, c.limit_T)
+             for c in r.rooms if c.floor == name]
+    equip = [dr.EquipmentMark(e.name, (e.position_m[0], e.position_m[1]), e.field_T,
+                              e.limit_T, e.verdict)
+             for e in r.equipment if e.floor == name]
+    return rooms, equip
+
+
+def _plan_magnets(r: ReportResult, name: str, site_mags: dict,
+                  room_drawings) -> tuple[list, list]:
+    """Magnet outlines on floor ``name`` and overlays: walls of the floor's DXF drawing,
+    magnets of other floors (outline), the attraction zone."""
+    from fringe.render import drawing as dr
+
+    mags, overlays = [], []
+    for m in site_mags.values():
+        poly = magnet_plan_outline(m)
+        home = r.plan.floor_of_point(m.center_m[2]).name
+        if home == name:
+            mags.append(dr.MagnetOutline(m.name, poly))
+        else:
+            overlays.append(dr.Overlay(f"{m.name} on the {home} floor (outline)",
+                                       poly.exterior, "outline"))
+    walls = [w for d in room_drawings if name in d.floors for w in d.walls]
+    if walls:
+        lines = [w.boundary if w.geom_type.endswith("Polygon") else w for w in walls]
+        overlays.insert(0, dr.Overlay("walls (from the floor's DXF drawing)",
+                                      shapely.union_all(lines), "wall"))
+    fa = None if r.attraction is None else r.attraction.floors.get(name)
+    if fa is not None and not fa.geometry.is_empty:
+        overlays.append(dr.Overlay(ATTRACTION_ZONE_LABEL, fa.geometry, "hazard"))
+    return mags, overlays
+
+
+def _plan_notes(r: ReportResult, name: str, fm) -> list[str]:
+    """The notes of the plan sheet of floor ``name``."""
+    fl = fm.floor
+    fa = None if r.attraction is None else r.attraction.floors.get(name)
+    clipped = [f"{fp.threshold_mT:g}" for fp in r.footprints[name] if fp.clipped]
+    notes = [f"Coordinates: site frame, x east, y north, m. Grid step {r.grid_step_m:g} m.",
+             f"Occupied band {fl.band_bottom_m:g} to {fl.band_top_m:g} m above the floor "
+             f"at {fl.elevation_m:g} m, sampled at {fm.z_levels_m.size} levels"
+             + (f" and refined near peaks (raising |B| by up to "
+                f"{100 * fm.band_correction_rel:.2g} %)" if fm.band_correction_rel > 0
+                else "") + f"; estimated remaining error of |B| "
+             f"{100 * fm.band_error_rel:.2g} %.",
+             f"Area of the {r.boundary.value_mT:g} mT footprint outside controlled rooms: "
+             f"{r.outside_controlled_m2[name]:.2f} m²."]
+    if fa is not None:
+        notes.append(f"{fa.criterion}. Hatched: largest pull over the band levels; "
+                     f"zone area {fa.area_m2:.2f} m².")
+    if clipped:
+        notes.append(f"The {', '.join(clipped)} mT footprint(s) reach the edge of the "
+                     "drawing: enlarge plan.extent_m to see them whole.")
+    return notes
+
+
+def _plan_sheet(r: ReportResult, name: str, fm, base: dict, site_mags: dict, room_drawings):
+    """The plan sheet of floor ``name``."""
+    from fringe.render import drawing as dr
+
+    fl = fm.floor
+    rooms, equip = _plan_marks(r, name)
+    mags, overlays = _plan_magnets(r, name, site_mags, room_drawings)
+    floor_word = name if name.lower().endswith("floor") else f"{name} floor"
+    info = dr.SheetInfo(title=f"Floor plan: {floor_word}",
+                        subtitle=f"Floor level {fl.elevation_m:g} m. Largest |B| over the "
+                                 f"occupied band {fl.band_bottom_m:g} to "
+                                 f"{fl.band_top_m:g} m above the floor", **base)
+    return dr.plan_sheet(fm.x_m, fm.y_m, fm.envelope_T, info,
+                         thresholds_mT=r.thresholds_mT, boundary_mT=r.boundary.value_mT,
+                         rooms=rooms, equipment=equip, magnets=mags, overlays=overlays,
+                         notes=_plan_notes(r, name, fm))
+
+
+def _section_windings_notes(sec, m, grid_step_m: float) -> tuple[list, list[str], str]:
+    """Windings drawn on section ``sec`` of magnet ``m`` (None: not in the site), the
+    notes on the plane, and the label of the horizontal axis."""
+    from fringe.render import drawing as dr
+
+    windings = []
+    notes = [f"Vertical plane through the centre of {sec.magnet}, {sec.direction} its "
+             f"axis; s = 0 at the centre, increasing towards site direction "
+             f"({round(float(sec.unit[0]), 6) + 0.0:.2f}, "
+             f"{round(float(sec.unit[1]), 6) + 0.0:.2f}) in (x, y). Grid step "
+             f"{grid_step_m:g} m. Fields of all magnets superposed."]
+    if m is not None:
+        poly, projected = section_windings(m, sec)
+        if not poly.is_empty:
+            windings.append(dr.MagnetOutline(m.name, poly))
+            if projected:
+                notes.append("The section plane passes between the coils; the windings "
+                             "are drawn projected onto it.")
+    vertical = m is not None and math.hypot(m.axis[0], m.axis[1]) < 1e-9
+    if vertical:
+        s_label = f"s towards +{'x (east)' if sec.direction == 'along' else 'y (north)'}, m"
+        notes.append("The axis is vertical: both planes contain it; they run east-west "
+                     "and north-south.")
+    else:
+        s_label = f"s {sec.direction} the magnet axis, m"
+    return windings, notes, s_label
+
+
+def _section_sheets(r: ReportResult, base: dict, site_mags: dict, taken: set[str],
+                    say) -> tuple[list, list]:
+    """Section sheets (with stems) and the force-product sheets (PDF only, after them)."""
+    from fringe.render import drawing as dr
+
+    exposure = dr.exposure_lines_from_registry(r.plan.settings.exposure_lines)
+    sheets: list[tuple[str | None, object]] = []
+    force_sheets: list[tuple[None, object]] = []  # PDF only, after the sections
+    for k, sec in enumerate(r.sections):
+        say(f"drawing the section {sec.direction} the axis of {sec.magnet!r}")
+        att = (r.attraction.sections[k] if r.attraction is not None
+               and k < len(r.attraction.sections) else None)
+        sec_overlays = []
+        sec_notes = []
+        if att is not None:
+            if not att[1].is_empty:
+                sec_overlays.append(dr.Overlay(ATTRACTION_ZONE_LABEL, att[1], "hazard"))
+            sec_notes.append(f"{r.attraction.criterion} (hatched).")
+        windings, notes, s_label = _section_windings_notes(sec, site_mags.get(sec.magnet),
+                                                           r.grid_step_m)
+        info = dr.SheetInfo(title=f"Section {sec.direction} the axis of {sec.magnet}",
+                            subtitle="|B| in the vertical plane through the magnet centre",
+                            **base)
+        fig = dr.section_sheet(sec.s_m, sec.z_m, sec.field_T, info,
+                               thresholds_mT=r.thresholds_mT, boundary_mT=r.boundary.value_mT,
+                               floors=list(r.plan.floors), windings=windings,
+                               notes=notes + sec_notes, s_label=s_label,
+                               exposure_lines=exposure, overlays=sec_overlays)
+        stem = sec.magnet if sec.direction == "along" else f"{sec.magnet}-{sec.direction}"
+        sheets.append((f"section-{slug(stem, taken)}", fig))
+        if sec.direction == "along" and att is not None:
+            force_sheets.append(_force_product_sheet(r, sec, att, windings, s_label, base))
+    return sheets, force_sheets
+
+
+def _tables(r: ReportResult) -> list[tuple[str, list[str], list[list]]]:
+    """The table sheets' content: rooms, equipment, extents, magnets, attraction, areas."""
+    room_rows = [[c.name, c.floor, c.access, c.max_field_T * 1e3,
+                  "-" if c.limit_T is None else c.limit_T * 1e3, c.verdict,
+                  next((a for t, a in c.area_above_m2
+                        if math.isclose(t, r.boundary.value_mT, rel_tol=1e-9)), 0.0)]
+                 for c in r.rooms]
+    tables = [("Rooms", ["room", "floor", "access", "largest field, mT", "limit, mT",
+                         "verdict", f"area above {r.boundary.value_mT:g} mT, m²"], room_rows)]
+    if r.equipment:
+        tables.append((
+            "Equipment", ["equipment", "floor", "x, m", "y, m", "z, m", "field, mT",
+                          "limit, mT", "verdict", "note"],
+            [[e.name, e.floor, *e.position_m, e.field_T * 1e3, e.limit_T * 1e3, e.verdict,
+              e.note] for e in r.equipment]))
+    tables.append((
+        "Field-line extents of each magnet alone (outermost crossing)",
+        ["magnet", "threshold, mT", "along the axis, m", "across the axis, m"],
+        [[m.name, t, a, rr] for m in r.magnets for t, a, rr in m.boundaries]))
+    tables.append((
+        "Magnets: stored energy and far-field zonal moments",
+        ["magnet", "centre field, T", "stored energy, MJ", "dipole, A·m²", "l = 3, A·m⁴",
+         "l = 5, A·m⁶", "model"],
+        [[m.name, m.center_field_T, m.stored_energy_J / 1e6, *m.zonal_moments,
+          "coils from the scenario" if m.origin == "coils" else m.origin] for m in r.magnets]))
+    if r.attraction is not None:
+        tables.append((
+            f"Attraction zone ({r.attraction.object_kind} object, {r.attraction.material})",
+            ["magnet or floor", "along the axis, m", "across the axis, m", "zone area, m²"],
+            [[n, a, rr, "-"] for n, a, rr in r.attraction.extents_m]
+            + [[f"{n} floor", "-", "-", fa.area_m2] for n, fa in r.attraction.floors.items()]))
+    tables.append((
+        "Footprint areas per floor",
+        ["floor", "threshold, mT", "area, m²", "area from sampled levels only, m²",
+         "reaches drawing edge"],
+        [[fp.floor, fp.threshold_mT, fp.area_m2, fp.sampled_area_m2,
+          "yes" if fp.clipped else "no"] for fps in r.footprints.values() for fp in fps]))
+    return tables
+
+
+def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None, object]]:
+    """Every sheet of the report in PDF order, as ``(file stem or None, Figure)``.
+
+    Plans (``plan-<floor>``) and sections (``section-<magnet>`` along the axis,
+    ``section-<magnet>-across``) have a stem and are also written as PNG and SVG; the
+    cover and the table sheets (stem None) go into report.pdf only.
+    """
+    from fringe.render import drawing as dr
+    from fringe.render.energy import energy_density_sheets
+    from fringe.render.quench import quench_sheets
+
+    say = say or (lambda msg: None)
+    base = _sheet_base(r)
+    site_mags = {m.name: m for m in r.site.magnets} if r.site is not None else {}
+    sheets: list[tuple[str | None, object]] = [(None, _cover_sheet(r, base))]
+    room_drawings = () if r.site is None else r.site.room_drawings
+    taken: set[str] = set()
+    for name, fm in r.floor_maps.items():
+        say(f"drawing the plan of floor {name!r}")
+        fig = _plan_sheet(r, name, fm, base, site_mags, room_drawings)
+        sheets.append((f"plan-{slug(name, taken)}", fig))
+    sections, force_sheets = _section_sheets(r, base, site_mags, taken, say)
+    sheets += sections + force_sheets
+    # energy density (fringe.physics.energy) and quench budgets (fringe.physics.quench)
+    if r.site is not None:
+        say("drawing the energy-density maps")
+        sheets.extend(energy_density_sheets(r.site))
+    for b in r.quench:
+        say(f"drawing the quench release budget of {b.magnet!r}")
+        sheets.extend((None, f) for f in quench_sheets(b, r.site_name,
+                                                      date_iso=r.created_utc[:10]))
+    info_t = dr.SheetInfo(title="Tables: rooms, equipment, field-line extents", **base)
+    return sheets + [(None, f) for f in dr.tables_sheets(_tables(r), info_t)]
+
+
+def _write_drawings(r: ReportResult, folder: Path, say) -> None:
+    """Plan and section sheets (PNG, SVG) and report.pdf through :mod:`fringe.render.drawing`.
+
+    report.pdf is written by a forked child (:mod:`fringe.io.forked`) while this process
+    writes the PNG and SVG files: the two halves take about as long, and rendering holds
+    the interpreter lock, so a second process is what uses the second core. The sheets
+    are numbered here first, so the PDF and the single files carry the same numbers.
+    """
+    from fringe.render import drawing as dr
+
+    sheets = build_sheets(r, say)
+    figures = dr.number_sheets([f for _, f in sheets])
+    say("writing report.pdf and the sheet files")
+    pdf = ForkedCall(dr.write_pdf, figures, folder / "report.pdf",
+                     title=f"{r.site_name}: stray-field report")
+    try:
+        for stem, fig in sheets:
+            if stem is None:
+                continue
+            dr.save_figure(fig, folder / f"{stem}.png")
+            if stem.startswith("energy-"):  # energy maps: PNG and PDF only
+                say(f"wrote {stem}.png")
+                continue
+            dr.save_figure(fig, folder / f"{stem}.svg")
+            say(f"wrote {stem}.png and .svg")
+    except BaseException:
+        with contextlib.suppress(BaseException):  # reap the child; the first error wins
+            pdf.result()
+        raise
+    pdf.result()
+    say("wrote report.pdf")
