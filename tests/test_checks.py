@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import tomllib
 
 import numpy as np
@@ -14,6 +15,7 @@ from fringe.field.evaluate import field_at
 from fringe.field.extents import threshold_extents_m
 from fringe.io.scenario import parse_site
 from fringe.model.building import Boundary, Room
+from fringe.model.verdict import Verdict
 
 # A compact solenoid at (0, 0, 1.2), axis east: its 0.5 mT line reaches ≈ 2.3 m along the
 # axis and ≈ 1.8 m across (point-dipole estimate; checked below with extents).
@@ -92,7 +94,12 @@ def test_verdict_rule():
     assert verdict(5e-4, 5e-4) == "exceeds"
     assert verdict(4.999e-4, 5e-4) == "within"
     assert verdict(1.0, None) == "controlled"
-    assert set(VERDICTS) == {"exceeds", "within", "controlled"}
+    # each word a check produces is a Verdict and prints as the bare word that users'
+    # scripts read in summary.json and rooms.csv
+    produced = (verdict(5e-4, 5e-4), verdict(4.999e-4, 5e-4), verdict(1.0, None))
+    assert all(isinstance(v, Verdict) for v in produced) and set(produced) == set(VERDICTS)
+    assert json.dumps(produced) == '["exceeds", "within", "controlled"]'
+    assert f"{produced[0]}" == "exceeds"
     b = Boundary(0.5, "src")
     sq = shapely.box(0, 0, 1, 1)
     assert room_limit(Room("a", "g", sq, "open"), b)[0] == pytest.approx(5e-4)
