@@ -12,6 +12,8 @@ from fringe.field.evaluate import (
     coordinate_range_problem,
     energy_density_J_per_m3,
     field_at,
+    field_gradient_at,
+    grad_abs_B_T_per_m,
     points_in_windings,
 )
 from fringe.io.atomic import atomic_file
@@ -32,13 +34,24 @@ def register(sub) -> None:
     p.set_defaults(func=run)
 
 
-def field_table_rows(points_m: np.ndarray, B_T: np.ndarray) -> list[dict]:
-    """Per-point records in the JSON form of ``fringe probe --json``."""
+def field_table_rows(points_m: np.ndarray, B_T: np.ndarray,
+                     grad_abs_B: np.ndarray | None = None) -> list[dict]:
+    """Per-point records in the JSON form of ``fringe probe --json``.
+
+    With ``grad_abs_B`` (N, 3) in T/m each record also gives ``grad_abs_B_T_per_m``
+    (|∇|B||) and ``force_product_T2_per_m`` (|B|·|∇|B||); null where |B| = 0.
+    """
     b_abs = np.linalg.norm(B_T, axis=1)
     u = energy_density_J_per_m3(B_T)
-    return [{"point_m": p.tolist(), "B_T": b.tolist(), "B_abs_T": float(a),
+    rows = [{"point_m": p.tolist(), "B_T": b.tolist(), "B_abs_T": float(a),
              "energy_density_J_per_m3": float(e)} for p, b, a, e in zip(points_m, B_T, b_abs, u,
                                                                         strict=True)]
+    if grad_abs_B is not None:
+        g = np.linalg.norm(grad_abs_B, axis=1)
+        for row, gi, a in zip(rows, g, b_abs, strict=True):
+            row["grad_abs_B_T_per_m"] = float(gi)
+            row["force_product_T2_per_m"] = float(a * gi)
+    return rows
 
 
 def format_table(points_m: np.ndarray, B_T: np.ndarray) -> str:
@@ -87,7 +100,8 @@ def run(args) -> int:
         sys.stderr.write(f"wrote {len(B)} field vectors (T) to {out}\n")
         return 0
     if args.json:
-        print_json({"points": field_table_rows(points, B)})
+        _, jac = field_gradient_at(site, points)  # analytic on the fast path (docs/implants.md)
+        print_json({"points": field_table_rows(points, B, grad_abs_B_T_per_m(B, jac))})
     else:
         print(f"site: {site.name}")
         print(format_table(points, B))

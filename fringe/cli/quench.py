@@ -52,6 +52,9 @@ def register(sub) -> None:
                    help="room temperature, °C (default 20)")
     p.add_argument("--room-pressure-kPa", dest="room_pressure_kPa", type=float, metavar="P",
                    help="room pressure, kPa (default 101.325)")
+    p.add_argument("--vent-diameter-mm", dest="vent_diameter_mm", type=float, metavar="D",
+                   help="inner diameter of the quench vent, mm: adds the mean gas velocity "
+                        "at the peak flow (needs --dump-ohm; a plausibility check only)")
     p.add_argument("--json", action="store_true", help="print JSON instead of text")
     p.add_argument("--pdf", metavar="FILE",
                    help="also write the budget sheets (and the decay curves) to a PDF")
@@ -162,8 +165,13 @@ def format_budget(b: QuenchBudget, site_name: str = "") -> str:
             f"  energy into the dump resistor   {d.energy_into_resistor_J / 1e6:10.4g} MJ",
             f"  energy into the magnet itself   {d.energy_into_magnet_J / 1e6:10.4g} MJ",
             "  (the boil-off above still assumes all of W reaches the helium: an upper bound)",
-            "",
+            f"  peak helium flow 2W/(τ·h_fg)    {b.peak_helium_flow_kg_per_s:10.4g} kg/s",
+            f"  as gas at {room:<22}{b.peak_gas_flow_m3_per_s:10.4g} m³/s",
         ]
+        if b.vent_gas_velocity_m_per_s is not None:
+            label = f"mean velocity in a {b.vent_diameter_m * 1e3:g} mm vent"
+            lines.append(f"  {label:<32}{b.vent_gas_velocity_m_per_s:10.4g} m/s (see cautions)")
+        lines.append("")
     elif b.dump_refused_reason:
         lines += [f"DUMP RESISTOR: not computed — {b.dump_refused_reason}", ""]
     lines += [
@@ -187,6 +195,14 @@ def run(args) -> int:
         raise ScenarioError("`magnet` must list at least one magnet; got none", args.scenario)
     q = resolve_inputs(args, site)
     budget = budget_for_site(site, q)
+    if args.vent_diameter_mm is not None:
+        vent_mm = args.vent_diameter_mm
+        if not (math.isfinite(vent_mm) and vent_mm > 0):
+            raise ScenarioError(must_be("--vent-diameter-mm", "a positive number of mm", vent_mm))
+        if budget.peak_gas_flow_m3_per_s is None:
+            raise ScenarioError(must_be("--vent-diameter-mm", "given with --dump-ohm (the peak "
+                                        "flow needs the decay time constant)", vent_mm))
+        budget = budget.with_vent(vent_mm * 1e-3)
     if args.pdf:
         from fringe.render.quench import write_quench_pdf
 

@@ -39,7 +39,7 @@ from __future__ import annotations
 import math
 import re
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from functools import lru_cache
 from importlib import resources
 
@@ -58,7 +58,8 @@ __all__ = [
     "oxygen_fraction_after_release", "oxygen_fraction_displacement",
     "room_volume_for_oxygen_m3", "dump_time_constant_s", "dump_current_A",
     "dump_peak_voltage_V", "time_to_current_fraction_s", "magnet_energy_left_J",
-    "dump_energy_J", "dump_energy_fraction", "DumpCircuit", "QuenchBudget",
+    "dump_energy_J", "dump_energy_fraction", "peak_helium_flow_kg_per_s",
+    "vent_gas_velocity_m_per_s", "VENT_CAUTION", "DumpCircuit", "QuenchBudget",
     "quench_budget", "dump_decay_curves", "budget_table_rows",
 ]
 
@@ -534,6 +535,60 @@ def dump_energy_J(time_s, initial_current_A, inductance_H, dump_ohm,
         -np.expm1(-2.0 * t / tau))
 
 
+def peak_helium_flow_kg_per_s(energy_J, time_constant_s, latent_heat_J_per_kg):
+    """Energy-limited peak helium boil-off rate for an exponential current decay, kg/s.
+
+    With I(t) = I0·exp(−t/τ) the stored energy falls as W(t) = W·exp(−2t/τ), so the power
+    released is largest at t = 0: P(0) = 2W/τ. If all of it boils saturated liquid
+    helium, the peak mass flow is
+
+    .. math:: \\dot m_{peak} = 2W / (τ · h_{fg})
+
+    An upper bound of the rate: heat that reaches the helium later (through the cold
+    mass) or energy taken by a resistor outside the cryostat only lowers it.
+
+    Parameters
+    ----------
+    energy_J : float or array_like
+        Stored energy W, J.
+    time_constant_s : float or array_like
+        Current decay time constant τ = L/(R_d + R_m), s.
+    latent_heat_J_per_kg : float
+        Latent heat of vaporisation h_fg of helium at the boiling pressure, J/kg.
+
+    References
+    ----------
+    .. [1] Iwasa, Y., *Case Studies in Superconducting Magnets*, 2nd ed., Springer
+       (2009), the chapter on protection (exponential discharge, W(t) = W·e^(−2t/τ));
+       chapter from memory. The bound itself follows from I(t) alone.
+
+    Examples
+    --------
+    >>> round(float(peak_helium_flow_kg_per_s(4.0e6, 20.0, 20.4e3)), 3)  # 8 MJ/(20 s·20.4 kJ/kg)
+    19.608
+    """
+    return (2.0 * np.asarray(energy_J, dtype=float)
+            / (np.asarray(time_constant_s, dtype=float) * float(latent_heat_J_per_kg)))
+
+
+def vent_gas_velocity_m_per_s(gas_flow_m3_per_s, vent_diameter_m):
+    """Mean gas velocity in a round vent, m/s: volume flow / (π·D²/4).
+
+    >>> round(float(vent_gas_velocity_m_per_s(0.5, 0.25)), 3)
+    10.186
+    """
+    d = np.asarray(vent_diameter_m, dtype=float)
+    return np.asarray(gas_flow_m3_per_s, dtype=float) / (math.pi * d * d / 4.0)
+
+
+#: Caution printed with a vent velocity (common practice, no source).
+VENT_CAUTION: str = (
+    "The quench vent is the magnet supplier's design and is sized by them; the vent "
+    "velocity here is of gas at room conditions at the energy-limited peak flow. Gas "
+    "leaving a quenching magnet is cold and several times denser, so its real volume "
+    "flow and velocity differ; use this figure only as a plausibility check.")
+
+
 # -- checked layer -------------------------------------------------------------------------
 
 #: Plausibility bounds of quench inputs (common practice, no source): far outside any
@@ -620,6 +675,13 @@ class QuenchBudget:
     room_temperature_C: float = 20.0
     room_pressure_kPa: float = 101.325
     cautions: tuple[str, ...] = field(default=QUENCH_CAUTIONS)
+    #: Energy-limited peak helium boil-off 2W/(τ·h_fg), kg/s (with a dump circuit only).
+    peak_helium_flow_kg_per_s: float | None = None
+    #: That flow as gas at the room conditions, m³/s.
+    peak_gas_flow_m3_per_s: float | None = None
+    #: Vent diameter given for a velocity check, m, and the mean velocity there, m/s.
+    vent_diameter_m: float | None = None
+    vent_gas_velocity_m_per_s: float | None = None
 
     @property
     def time_constant_s(self) -> float | None:
@@ -664,7 +726,31 @@ class QuenchBudget:
         }
         if self.dump_refused_reason:
             out["dump_circuit_refused"] = self.dump_refused_reason
+        if self.peak_helium_flow_kg_per_s is not None:
+            out["peak_helium_flow_kg_per_s"] = self.peak_helium_flow_kg_per_s
+            out["peak_gas_flow_m3_per_s"] = self.peak_gas_flow_m3_per_s
+        if self.vent_gas_velocity_m_per_s is not None:
+            out["vent_diameter_mm"] = self.vent_diameter_m * 1e3
+            out["vent_gas_velocity_m_per_s"] = self.vent_gas_velocity_m_per_s
         return out
+
+    def with_vent(self, vent_diameter_m: float) -> QuenchBudget:
+        """This budget with the mean gas velocity in a round vent of ``vent_diameter_m``
+        at the peak gas flow, and :data:`VENT_CAUTION` among the cautions.
+
+        Raises
+        ------
+        FringeInputError
+            Without a dump circuit (no peak flow) or for a non-positive diameter.
+        """
+        d = _positive("vent_diameter_m", vent_diameter_m)
+        if self.peak_gas_flow_m3_per_s is None:
+            raise FringeInputError(must_be("vent_diameter_m", "given together with a dump "
+                                           "circuit (the peak flow needs its time constant)",
+                                           vent_diameter_m))
+        v = float(vent_gas_velocity_m_per_s(self.peak_gas_flow_m3_per_s, d))
+        return replace(self, vent_diameter_m=d, vent_gas_velocity_m_per_s=v,
+                       cautions=(*self.cautions, VENT_CAUTION))
 
 
 def quench_budget(stored_energy_J: float, helium_L: float, room_volume_m3: float, *,
@@ -753,7 +839,12 @@ def quench_budget(stored_energy_J: float, helium_L: float, room_volume_m3: float
                                float(time_to_current_fraction_s(tau, 0.01)),
                                w_circuit * frac, w_circuit * (1.0 - frac))
             dump_refused_reason = ""
+    peak = None if dump is None else float(peak_helium_flow_kg_per_s(
+        w, dump.time_constant_s, he.latent_heat_J_per_kg))
     return QuenchBudget(
+        peak_helium_flow_kg_per_s=peak,
+        peak_gas_flow_m3_per_s=None if peak is None else float(
+            gas_volume_m3(peak, he.gas_density_kg_per_m3)),
         stored_energy_J=w, helium_L=vol_l, room_volume_m3=v_room, helium=he,
         inventory_kg=inv_kg, helium_boiled_uncapped_kg=boiled_uncapped,
         helium_boiled_kg=boiled,
