@@ -97,7 +97,8 @@ def test_probe_json_has_exact_schema(tmp_path, capsys):
     data = json.loads(capsys.readouterr().out)
     assert list(data) == ["points"] and len(data["points"]) == 2
     row = data["points"][1]
-    assert list(row) == ["point_m", "B_T", "B_abs_T", "energy_density_J_per_m3"]
+    assert list(row) == ["point_m", "B_T", "B_abs_T", "energy_density_J_per_m3",
+                         "grad_abs_B_T_per_m", "force_product_T2_per_m"]
     B = np.array(row["B_T"])
     assert row["B_abs_T"] == pytest.approx(np.linalg.norm(B))
     # u = B²/2μ0 (Jackson Eq. 5.148)

@@ -17,6 +17,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from fringe.analysis.attraction import SiteAttraction, site_attraction
+from fringe.analysis.implants import SiteImplants, site_implants
 from fringe.analysis.quench import budget_for_site
 from fringe.analysis.verdicts import (
     EquipmentCheck,
@@ -106,6 +107,9 @@ class ReportResult:
     quench: tuple = ()
     #: The attraction-hazard zone: extents, floor zones, section zones (fringe.analysis.attraction).
     attraction: SiteAttraction | None = field(default=None, compare=False, repr=False)
+    #: Implant figures: gradient maps, accessible maxima, implant conditions
+    #: (fringe.analysis.implants).
+    implants: SiteImplants | None = field(default=None, compare=False, repr=False)
 
     def floor_verdict(self, floor: str) -> Verdict:
         """``exceeds`` when the boundary footprint on ``floor`` reaches beyond its
@@ -231,6 +235,8 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
 
     attraction = site_attraction(site, fmaps, secs)
     say(f"attraction zone done ({attraction.object_kind} object, {attraction.material})")
+    implants = site_implants(site, s.gradient_lines_T_per_m)
+    say("implant figures done (gradient maps, accessible maxima)")
     quench = tuple(budget_for_site(site, q) for q in quench_inputs)
     if quench:
         say("quench release budget done")
@@ -239,7 +245,7 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     say("room and equipment verdicts done")
     return ReportResult(site.name, site.source_file, plan, s.boundary, thr_mT, step, extent,
                         tuple(mags), fmaps, fps, outside, tuple(secs), rooms, equip, _now_utc(),
-                        __version__, site, quench, attraction)
+                        __version__, site, quench, attraction, implants)
 
 
 #: Largest plan grid step as a fraction of the boundary line's smallest extent. Marching

@@ -78,7 +78,7 @@ def summary_dict(r: ReportResult) -> dict:
     for v in [x.verdict for x in r.rooms] + [e.verdict for e in r.equipment]:
         counts[v] = counts.get(v, 0) + 1
     att = r.attraction
-    return {
+    out = {
         "advisory": ADVISORY_NOTICE,
         "tool": {"name": "fringe", "version": r.version},
         "created_utc": r.created_utc,
@@ -134,6 +134,17 @@ def summary_dict(r: ReportResult) -> dict:
         "verdict_counts": counts,
         "exceeds": r.exceeds,
     }
+    _add_implant_figures(out, r)
+    return out
+
+
+def _add_implant_figures(out: dict, r: ReportResult) -> None:
+    """``magnets[].accessible_maxima`` and ``implant_conditions`` (docs/implants.md)."""
+    imp = r.implants
+    for m in out["magnets"]:
+        mx = None if imp is None else imp.maxima.get(m["name"])
+        m["accessible_maxima"] = None if mx is None else {k: v.to_dict() for k, v in mx.items()}
+    out["implant_conditions"] = [] if imp is None else [c.to_dict() for c in imp.conditions]
 
 
 def geojson_geometry(g) -> dict | None:

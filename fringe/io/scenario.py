@@ -27,6 +27,8 @@ from typing import Any
 from fringe.io.dxf import load_dxf_rooms
 from fringe.io.reader import Reader
 from fringe.io.scenario_datasheet import DATASHEET_KEY, parse_datasheet
+from fringe.io.scenario_implants import SECTION_KEY as IMPLANT_KEY
+from fringe.io.scenario_implants import parse_implant_conditions
 from fringe.io.scenario_plan import (
     load_geojson_rooms,
     parse_equipment,
@@ -46,7 +48,7 @@ __all__ = ["load_site", "parse_site", "TOP_LEVEL_KEYS", "MAGNET_BUILDERS", "ROOM
 #: Every top-level key of a scenario, in the order its section is parsed (``room_file``
 #: is read together with ``room``). Any other key is refused with a "did you mean".
 TOP_LEVEL_KEYS: tuple[str, ...] = ("site", "magnet", "plan", "floor", "room", "room_file",
-                                   "equipment", QUENCH_KEY)
+                                   "equipment", QUENCH_KEY, IMPLANT_KEY)
 
 #: Parsers for alternative magnet descriptions (e.g. data-sheet numbers), keyed by the
 #: sub-table name that selects them. Each takes the magnet Reader and the magnet's name
@@ -183,9 +185,11 @@ def parse_site(data: dict, file: str | Path = "<scenario>") -> Site:
     rooms, drawings = parse_rooms(root, Path(file), floors, ROOM_LOADERS)
     equipment = parse_equipment(root)
     quench = parse_quench_section(root, mags)
+    implants = parse_implant_conditions(root)
     root.finish()
     return Site(site_info.get("name", "unnamed site"), mags, file, plan=plan, floors=floors,
-                rooms=rooms, equipment=equipment, room_drawings=drawings, quench=quench)
+                rooms=rooms, equipment=equipment, room_drawings=drawings, quench=quench,
+                implant_conditions=implants)
 
 
 def load_site(path: str | Path) -> Site:

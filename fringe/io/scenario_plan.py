@@ -28,7 +28,7 @@ from fringe.model.building import (
     Floor,
     Room,
 )
-from fringe.model.constants import DEFAULT_THRESHOLDS_MT
+from fringe.model.constants import DEFAULT_GRADIENT_LINES_T_PER_M, DEFAULT_THRESHOLDS_MT
 from fringe.model.errors import FringeWarning, ScenarioError, must_be
 from fringe.model.site import (
     DEFAULT_BAND_M,
@@ -115,9 +115,21 @@ def parse_plan(root: Reader) -> PlanSettings:
                 r.fail(f"{r.key('exposure_lines')}[{i}]",
                        f"one of {', '.join(map(repr, EXPOSURE_LIMITS))}", x)
         exposure = tuple(dict.fromkeys(ex))
+    gradient_lines = _gradient_lines(r)
     r.finish()
     return PlanSettings(boundary, with_boundary(th, boundary.value_mT), step, band_step,
-                        band, extent, exposure)
+                        band, extent, exposure, gradient_lines_T_per_m=gradient_lines)
+
+
+def _gradient_lines(r: Reader) -> tuple[float, ...]:
+    """``[plan] gradient_lines_T_per_m``: positive numbers, T/m (sorted, repeats dropped)."""
+    v = r.raw("gradient_lines_T_per_m", list(DEFAULT_GRADIENT_LINES_T_PER_M))
+    if (not isinstance(v, list) or not v
+            or any(isinstance(x, bool) or not isinstance(x, (int, float)) for x in v)
+            or not all(finite_number(x) and x > 0 for x in v)):
+        r.fail(r.key("gradient_lines_T_per_m"), "a non-empty array of positive numbers (T/m)",
+               v)
+    return tuple(sorted({float(x) for x in v}))
 
 
 # -- [[floor]] ------------------------------------------------------------------------

@@ -25,6 +25,10 @@ STANDARD_ATMOSPHERE_PA: float = 101325.0
 #: 10, 40 and 200 mT: common practice, no source.
 DEFAULT_THRESHOLDS_MT: tuple[float, ...] = (0.5, 1.0, 3.0, 10.0, 40.0, 200.0)
 
+#: Lines of the spatial field gradient |∇|B|| drawn on the implant sheets, T/m: values
+#: implant labels commonly state (common practice, no source).
+DEFAULT_GRADIENT_LINES_T_PER_M: tuple[float, ...] = (1.0, 2.0, 3.0, 5.0, 10.0, 20.0)
+
 #: Largest |coordinate| in m accepted for a magnet centre or a field point: beyond any
 #: site or map grid (UTM northings stay below 1e7 m); far larger values overflow the
 #: field kernels (magpylib's elliptic-integral iteration then never ends).

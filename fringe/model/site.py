@@ -14,7 +14,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass, field
 
 from fringe.model.building import BOUNDARY_CHOICES, Boundary, Equipment, Floor, Room
-from fringe.model.constants import DEFAULT_THRESHOLDS_MT
+from fringe.model.constants import DEFAULT_GRADIENT_LINES_T_PER_M, DEFAULT_THRESHOLDS_MT
 from fringe.model.errors import ArgumentError, must_be
 from fringe.model.magnet import Magnet
 
@@ -53,6 +53,8 @@ class PlanSettings:
         Site-wide occupied band (bottom, top) above each floor, m.
     extent_m : tuple or None
         Plan window ((x_min, y_min), (x_max, y_max)) in m, or None to fit the site.
+    gradient_lines_T_per_m : tuple of float
+        Lines of |∇|B|| on the implant sheets, T/m (``[plan] gradient_lines_T_per_m``).
     exposure_lines : tuple of str or None
         Exposure limits drawn on section sheets (keys of
         ``fringe.physics.exposure.EXPOSURE_LIMITS``); None for all of them, ``()`` for none.
@@ -65,6 +67,7 @@ class PlanSettings:
     band_m: tuple[float, float] = DEFAULT_BAND_M
     extent_m: tuple[tuple[float, float], tuple[float, float]] | None = None
     exposure_lines: tuple[str, ...] | None = None
+    gradient_lines_T_per_m: tuple[float, ...] = DEFAULT_GRADIENT_LINES_T_PER_M
 
 
 def with_boundary(thresholds_mT: Iterable[float], boundary_mT: float) -> tuple[float, ...]:
@@ -100,6 +103,28 @@ class RoomDrawing:
     floors: tuple[str, ...]
     offset_m: tuple[float, float]
     walls: tuple = ()
+
+
+@dataclass(frozen=True)
+class ImplantCondition:
+    """The labelled static-field conditions of an implant or device.
+
+    Attributes
+    ----------
+    name : str
+        A label of the user's choice (e.g. the device's model line).
+    max_field_T : float
+        Largest static field |B| allowed, T.
+    max_grad_abs_B_T_per_m : float or None
+        Largest spatial field gradient |∇|B|| allowed, T/m (None: not labelled).
+    max_force_product_T2_per_m : float or None
+        Largest force product |B|·|∇|B|| allowed, T²/m (None: not labelled).
+    """
+
+    name: str
+    max_field_T: float
+    max_grad_abs_B_T_per_m: float | None = None
+    max_force_product_T2_per_m: float | None = None
 
 
 @dataclass(frozen=True)
@@ -146,6 +171,8 @@ class Site:
     room_drawings : tuple of RoomDrawing
         The CAD drawings rooms were read from (``[[room_file]] format = "dxf"``).
     quench : tuple of QuenchInputs
+    implant_conditions : tuple of ImplantCondition
+        ``[[implant_condition]]`` tables (docs/implants.md).
         ``[[quench]]`` tables, at most one per magnet.
     """
 
@@ -158,6 +185,7 @@ class Site:
     equipment: tuple[Equipment, ...] = ()
     room_drawings: tuple[RoomDrawing, ...] = ()
     quench: tuple[QuenchInputs, ...] = ()
+    implant_conditions: tuple[ImplantCondition, ...] = ()
 
     def magnet(self, name: str) -> Magnet:
         """The magnet called ``name``; :class:`ArgumentError` (argument ``magnet``) listing

@@ -29,6 +29,7 @@ from fringe.io.forked import ForkedCall
 from fringe.io.report_files import attraction_extents, slug, write_report_tables
 from fringe.model.verdict import Verdict
 from fringe.render.dxf import ATTRACTION_LAYER, write_zones_dxf, zone_layer_name
+from fringe.render.implants import implant_findings, implant_sheets
 
 __all__ = ["write_report", "write_zone_drawings", "build_sheets", "ATTRACTION_ZONE_LABEL",
            "FORCE_PRODUCT_LEVELS_T2_PER_M"]
@@ -189,8 +190,10 @@ def _cover_findings(r: ReportResult) -> list[str]:
     for e in r.equipment:
         findings.append(f"Equipment {e.name}: {dr.format_value(e.field_T * 1e3)} mT at its "
                         f"position (limit {e.limit_T * 1e3:g} mT): {e.verdict}")
+    findings = implant_findings(r.implants) + findings
     if len(findings) > 24:  # keep the cover to one sheet; the tables list everything
-        keep = [f for f in findings if Verdict.EXCEEDS in f or "outside the controlled" in f]
+        keep = [f for f in findings if Verdict.EXCEEDS in f or "outside the controlled" in f
+                or f.startswith("Implant condition")]
         findings = keep[:22] + [f"{len(findings) - len(keep[:22])} further finding(s) "
                                 "within limits or in controlled rooms: see the tables"]
     return findings
@@ -413,6 +416,10 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
         sheets.append((f"plan-{slug(name, taken)}", fig))
     sections, force_sheets = _section_sheets(r, base, site_mags, taken, say)
     sheets += sections + force_sheets
+    if r.implants is not None:
+        say("drawing the spatial field gradient (implant sheets)")
+        sheets += [(slug(f"implants {name}", taken), fig)
+                   for name, fig in implant_sheets(r.implants, site_mags, base)]
     # energy density (fringe.physics.energy) and quench budgets (fringe.physics.quench)
     if r.site is not None:
         say("drawing the energy-density maps")
