@@ -138,34 +138,72 @@ def _write_maps(site, magnets, out_dir: Path, levels) -> list[Path]:
             for stem, fig in energy_density_sheets(site, magnets, levels)]
 
 
-def run(args) -> int:
-    site = load_site(args.scenario)
-    if not site.magnets:
-        raise ScenarioError("`magnet` must list at least one magnet; got none", args.scenario)
-    magnets = [site.magnet(args.magnet)] if args.magnet else list(site.magnets)
+def _check_numbers(args) -> None:
+    """Reject a negative envelope margin or non-positive contour levels."""
     if not (math.isfinite(args.envelope_margin_m) and args.envelope_margin_m >= 0):
         raise ScenarioError(must_be("--envelope-margin-m", "a number >= 0",
                                     args.envelope_margin_m))
     if any(not (math.isfinite(v) and v > 0) for v in args.levels):
         raise ScenarioError(must_be("--levels", "positive numbers (J/m³)", args.levels))
-    box = None
-    if args.box:
-        b = np.asarray(args.box, dtype=float)
-        if not np.all(np.isfinite(b)) or not np.all(b[:3] < b[3:]):
-            raise ScenarioError(must_be("--box", "XMIN YMIN ZMIN XMAX YMAX ZMAX with each min "
-                                        "< max", args.box))
-        box = (b[:3], b[3:])
-        for m in magnets:
-            check_box(m, *box, key="--box")
+
+
+def _site_box(args, magnets) -> tuple[np.ndarray, np.ndarray] | None:
+    """The ``--box`` corners, checked to hold each magnet's windings (None without it)."""
+    if not args.box:
+        return None
+    b = np.asarray(args.box, dtype=float)
+    if not np.all(np.isfinite(b)) or not np.all(b[:3] < b[3:]):
+        raise ScenarioError(must_be("--box", "XMIN YMIN ZMIN XMAX YMAX ZMAX with each min "
+                                    "< max", args.box))
+    box = (b[:3], b[3:])
+    for m in magnets:
+        check_box(m, *box, key="--box")
+    return box
+
+
+def _outside_radius(args, magnets) -> dict[str, float]:
+    """Energy outside the ``--radius-m`` sphere of each magnet, by name (empty without it)."""
     outside_r: dict[str, float] = {}
-    if args.radius_m is not None:
-        rad = float(args.radius_m)
-        for m in magnets:
-            if not (math.isfinite(rad) and rad >= m.enclosing_radius_m):
-                raise ScenarioError(must_be(
-                    "--radius-m", f"a radius of at least {m.enclosing_radius_m:.4g} m (the "
-                    f"sphere enclosing the windings of {m.name!r})", args.radius_m))
-            outside_r[m.name] = energy_outside_sphere_J(m, rad)
+    if args.radius_m is None:
+        return outside_r
+    rad = float(args.radius_m)
+    for m in magnets:
+        if not (math.isfinite(rad) and rad >= m.enclosing_radius_m):
+            raise ScenarioError(must_be(
+                "--radius-m", f"a radius of at least {m.enclosing_radius_m:.4g} m (the "
+                f"sphere enclosing the windings of {m.name!r})", args.radius_m))
+        outside_r[m.name] = energy_outside_sphere_J(m, rad)
+    return outside_r
+
+
+def _print_text(site, results, mutual, total, maps, radius_m, outside_r) -> None:
+    """Print the plain text report of the site's energies."""
+    print(f"site: {site.name}")
+    for e in results:
+        print(format_magnet(e))
+        if e.name in outside_r:
+            w_out = outside_r[e.name]
+            print(f"  energy outside r = {radius_m:g} m  {w_out:14.6g} J  "
+                  f"({100 * w_out / e.stored_energy_J:.3g} % of W; sphere about the "
+                  "centre)")
+    for a, b, w in mutual:
+        print(f"interaction energy {a!r} ↔ {b!r}: {w:.6g} J  (flux of one magnet's field "
+              "linked by the other's windings)")
+    if len(results) > 1:
+        print(f"total energy of the site: {total:.6g} J ({total / 1e6:.4f} MJ)")
+    for p in maps:
+        print(f"wrote {p}")
+    print(ADVISORY_NOTICE)
+
+
+def run(args) -> int:
+    site = load_site(args.scenario)
+    if not site.magnets:
+        raise ScenarioError("`magnet` must list at least one magnet; got none", args.scenario)
+    magnets = [site.magnet(args.magnet)] if args.magnet else list(site.magnets)
+    _check_numbers(args)
+    box = _site_box(args, magnets)
+    outside_r = _outside_radius(args, magnets)
     results = [magnet_energy(m, envelope_margin_m=args.envelope_margin_m, verify=args.verify,
                              box_m=box) for m in magnets]
     mutual = site_mutual_energies(magnets) if len(magnets) > 1 else []
@@ -185,22 +223,7 @@ def run(args) -> int:
             "advisory_notice": ADVISORY_NOTICE,
         })
     else:
-        print(f"site: {site.name}")
-        for e in results:
-            print(format_magnet(e))
-            if e.name in outside_r:
-                w_out = outside_r[e.name]
-                print(f"  energy outside r = {args.radius_m:g} m  {w_out:14.6g} J  "
-                      f"({100 * w_out / e.stored_energy_J:.3g} % of W; sphere about the "
-                      "centre)")
-        for a, b, w in mutual:
-            print(f"interaction energy {a!r} ↔ {b!r}: {w:.6g} J  (flux of one magnet's field "
-                  "linked by the other's windings)")
-        if len(results) > 1:
-            print(f"total energy of the site: {total:.6g} J ({total / 1e6:.4f} MJ)")
-        for p in maps:
-            print(f"wrote {p}")
-        print(ADVISORY_NOTICE)
+        _print_text(site, results, mutual, total, maps, args.radius_m, outside_r)
     if bad:
         sys.stderr.write(f"fringe: the two energy routes differ by more than "
                          f"{VERIFY_TOLERANCE:.1%} for {', '.join(map(repr, bad))}\n")

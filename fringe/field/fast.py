@@ -367,22 +367,35 @@ def _mirror_symmetric(coils) -> bool:
     return bool(np.allclose(np.array(key), np.array(mirrored), rtol=1e-12, atol=1e-12))
 
 
-def _build_table(magnet: Magnet, d: np.ndarray, big_d: float, scale: float, order, panels):
+def _table_nodes():
+    """Node count and coordinates (units of R_enc) of the (ρ, z) table, ghost rows included."""
     h = 1.0 / TABLE_NODES_PER_RADIUS
     g = STENCIL                             # ghost/margin nodes for stencils and Δ⁶
     n_r = int(math.ceil(TABLE_RADIUS_FACTOR / h)) + 2 * g + 1
     n_z = 2 * (int(math.ceil(TABLE_RADIUS_FACTOR / h)) + g) + 1
     rho_nodes = (np.arange(n_r) - g) * h
     z_nodes = (np.arange(n_z) - (n_z - 1) / 2) * h
-    R, Z = np.meshgrid(np.abs(rho_nodes), z_nodes, indexing="ij")
-    r = np.hypot(R, Z)
-    # nodes far enough out: the L_BIG series is exact to ~1e-3 of the tolerance there
+    return h, g, n_r, n_z, rho_nodes, z_nodes
+
+
+def _series_radius(d: np.ndarray, big_d: float) -> float:
+    """Smallest scaled radius beyond which the L_BIG series is exact to ~1e-3 of tolerance."""
     l_big = len(d) - 1
     r_try = np.linspace(1.05, TABLE_RADIUS_FACTOR + 0.2, 60)
     tail = exterior_tail_bounds_scaled(d, big_d, r_try)[l_big]
     ok = tail <= 1e-3 * RELATIVE_TOLERANCE * _field_floor(d, r_try)
-    r_series = r_try[np.argmax(ok)] if ok.any() else np.inf
-    use_series = r >= r_series
+    return r_try[np.argmax(ok)] if ok.any() else np.inf
+
+
+def _node_field(magnet: Magnet, d: np.ndarray, big_d: float, rho_nodes, z_nodes,
+                scale: float, order, panels):
+    """B_ρ and B_z at the table nodes (series far out, direct sum near), and the mirror flag."""
+    n_z = len(z_nodes)
+    R, Z = np.meshgrid(np.abs(rho_nodes), z_nodes, indexing="ij")
+    r = np.hypot(R, Z)
+    # nodes far enough out: the L_BIG series is exact to ~1e-3 of the tolerance there
+    l_big = len(d) - 1
+    use_series = r >= _series_radius(d, big_d)
     br = np.zeros_like(r)
     bz = np.zeros_like(r)
     if use_series.any():
@@ -403,13 +416,21 @@ def _build_table(magnet: Magnet, d: np.ndarray, big_d: float, scale: float, orde
         ii, jj = np.nonzero(low)
         br[ii, jj] = -br[ii, n_z - 1 - jj]
         bz[ii, jj] = bz[ii, n_z - 1 - jj]
+    return br, bz, mirror
+
+
+def _fill_ghost_rows(br: np.ndarray, bz: np.ndarray, g: int) -> None:
+    """Set the axis row and the ρ < 0 ghost rows from ρ symmetry, in place."""
     br[g] = 0.0                              # on the axis B_rho = 0 by symmetry
     for i in range(g):                       # B_rho odd, B_z even in ρ
         br[i] = -br[2 * g - i]
         bz[i] = bz[2 * g - i]
-    # sixth differences along ρ and z (vector magnitude), at nodes 3..n-4
-    dr = np.full(r.shape, np.inf)
-    dz = np.full(r.shape, np.inf)
+
+
+def _sixth_differences(br: np.ndarray, bz: np.ndarray):
+    """Sixth differences of the field along ρ and z (vector magnitude), inf at the edges."""
+    dr = np.full(br.shape, np.inf)
+    dz = np.full(br.shape, np.inf)
     coeffs = (1.0, -6.0, 15.0, -20.0, 15.0, -6.0, 1.0)
     q = len(coeffs) - 1
 
@@ -422,17 +443,27 @@ def _build_table(magnet: Magnet, d: np.ndarray, big_d: float, scale: float, orde
 
     dr[q // 2:-(q // 2), :] = np.hypot(diff(br, 0), diff(bz, 0))
     dz[:, q // 2:-(q // 2)] = np.hypot(diff(br, 1), diff(bz, 1))
+    return dr, dz
+
+
+def _cell_error_estimate(dr: np.ndarray, dz: np.ndarray) -> np.ndarray:
+    """Interpolation error estimate of each cell from the largest differences in its stencil."""
     # cell (i, j) = [ρ_i, ρ_{i+1}] × [z_j, z_{j+1}]; stencil rows i-lo..i+hi (lo = P/2-1)
     from scipy.ndimage import maximum_filter
 
-    lo, hi = STENCIL // 2 - 1, STENCIL // 2
+    lo = STENCIL // 2 - 1
     foot = np.ones((STENCIL, STENCIL), bool)
     # window i-lo..i+hi: scipy centres a window of size P at P//2, so shift by lo-P//2
     org = (lo - STENCIL // 2, lo - STENCIL // 2)
     mr = maximum_filter(dr, footprint=foot, mode="constant", cval=np.inf, origin=org)
     mz = maximum_filter(dz, footprint=foot, mode="constant", cval=np.inf, origin=org)
-    err = _DIFF_COEFF * (mr + mz)
-    # cells whose stencil reaches into a winding are never used
+    return _DIFF_COEFF * (mr + mz)
+
+
+def _exclude_windings(err: np.ndarray, magnet: Magnet, rho_nodes, z_nodes, h: float,
+                      scale: float) -> np.ndarray:
+    """Mark cells whose stencil reaches into a winding unusable; return scaled windings."""
+    lo, hi = STENCIL // 2 - 1, STENCIL // 2
     windings = []
     for c in magnet.coils:
         wr = np.array([c.r_inner_m, c.r_outer_m, c.z_min_m, c.z_max_m]) / scale
@@ -440,13 +471,24 @@ def _build_table(magnet: Magnet, d: np.ndarray, big_d: float, scale: float, orde
         hit_r = ((rho_nodes + hi * h) >= wr[0]) & ((rho_nodes - lo * h) <= wr[1])
         hit_z = ((z_nodes + hi * h) >= wr[2]) & ((z_nodes - lo * h) <= wr[3])
         err[np.ix_(hit_r, hit_z)] = np.inf
+    return np.array(windings).reshape(-1, 4)
+
+
+def _build_table(magnet: Magnet, d: np.ndarray, big_d: float, scale: float, order, panels):
+    """Interpolation table of the field in units of R_enc, with per-cell error estimates."""
+    h, g, n_r, n_z, rho_nodes, z_nodes = _table_nodes()
+    br, bz, mirror = _node_field(magnet, d, big_d, rho_nodes, z_nodes, scale, order, panels)
+    _fill_ghost_rows(br, bz, g)
+    err = _cell_error_estimate(*_sixth_differences(br, bz))
+    # cells whose stencil reaches into a winding are never used
+    windings = _exclude_windings(err, magnet, rho_nodes, z_nodes, h, scale)
     err[~np.isfinite(err)] = np.inf
     vals = np.ascontiguousarray(np.stack([br.ravel(), bz.ravel()], axis=1))
     table = _Table(float(rho_nodes[0]), float(z_nodes[0]), 1.0 / h, n_r, n_z, vals,
                    err.ravel().copy())
     _measure_doubtful_cells(table, magnet, np.hypot(br, bz), rho_nodes, z_nodes, mirror,
                             scale, order, panels)
-    return table, np.array(windings).reshape(-1, 4)
+    return table, windings
 
 
 def _measure_doubtful_cells(tab: _Table, magnet: Magnet, b_abs: np.ndarray, rho_nodes,

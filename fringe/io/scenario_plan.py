@@ -235,7 +235,15 @@ def load_geojson_rooms(path: str | Path, options: dict, file_for_errors: str) ->
     ----------
     H. Butler et al., "The GeoJSON Format", RFC 7946, IETF, 2016.
     """
-    p = Path(path)
+    feats = _read_features(Path(path), file_for_errors)
+    rooms: list[Room] = []
+    for i, f in enumerate(feats):
+        rooms.append(_geojson_room(i, f, options, file_for_errors))
+    return rooms
+
+
+def _read_features(p: Path, file_for_errors: str) -> list:
+    """The ``features`` array of a GeoJSON FeatureCollection (a lone Feature is wrapped)."""
     try:
         data = json.loads(p.read_text(encoding="utf-8"))
     except OSError as e:
@@ -253,57 +261,70 @@ def load_geojson_rooms(path: str | Path, options: dict, file_for_errors: str) ->
     feats = data.get("features")
     if not isinstance(feats, list):
         raise ScenarioError(must_be("features", "an array of Features", feats), file_for_errors)
-    rooms: list[Room] = []
-    for i, f in enumerate(feats):
-        kp = f"features[{i}]"
-        if not isinstance(f, dict):
-            raise ScenarioError(must_be(kp, "a Feature object", f), file_for_errors)
-        props = f.get("properties") or {}
-        geom = f.get("geometry") or {}
-        if not isinstance(props, dict):
-            raise ScenarioError(must_be(f"{kp}.properties", "an object", props), file_for_errors)
-        if not isinstance(geom, dict) or geom.get("type") != "Polygon":
-            raise ScenarioError(must_be(f"{kp}.geometry.type", "'Polygon'",
-                                        geom.get("type") if isinstance(geom, dict) else geom),
-                                file_for_errors)
-        coords = geom.get("coordinates")
-        if not isinstance(coords, list) or not coords:
-            raise ScenarioError(must_be(f"{kp}.geometry.coordinates",
-                                        "an array of linear rings", coords), file_for_errors)
-        name = props.get("name")
-        if not isinstance(name, str) or not name.strip():
-            raise ScenarioError(must_be(f"{kp}.properties.name", "a non-empty string", name),
-                                file_for_errors)
-        # other tools' properties are kept quiet, but a near-miss of ours is a typo that
-        # would silently turn a controlled room open or drop its limit
-        for key in props:
-            if key in GEOJSON_ROOM_PROPERTIES:
-                continue
-            hint = difflib.get_close_matches(key, GEOJSON_ROOM_PROPERTIES, n=1, cutoff=0.75)
-            if hint:
-                warnings.warn(f"{file_for_errors}: `{kp}.properties.{key}` (room {name!r}) is "
-                              f"not read; did you mean `{hint[0]}`?", FringeWarning,
-                              stacklevel=2)
-        poly = outline_polygon(coords[0], coords[1:], f"{kp}.geometry.coordinates "
-                               f"(room {name!r})", file_for_errors)
-        floor = props.get("floor", options.get("floor"))
-        if not isinstance(floor, str) or not floor:
-            raise ScenarioError(must_be(f"{kp}.properties.floor", "a floor name (or give "
-                                        "`floor` in the [[room_file]] table)", floor),
-                                file_for_errors)
-        access = props.get("access", "open")
-        if access not in ACCESS_CLASSES:
-            raise ScenarioError(must_be(f"{kp}.properties.access",
-                                        f"one of {', '.join(map(repr, ACCESS_CLASSES))}",
-                                        access), file_for_errors)
-        limit = props.get("limit_mT")
-        if limit is not None and (isinstance(limit, bool) or not isinstance(limit, (int, float))
-                                  or not finite_number(limit) or limit <= 0):
-            raise ScenarioError(must_be(f"{kp}.properties.limit_mT", "a positive number",
-                                        limit), file_for_errors)
-        rooms.append(Room(name, floor, poly, access,
-                          None if limit is None else float(limit)))
-    return rooms
+    return feats
+
+
+def _geojson_room(i: int, f, options: dict, file_for_errors: str) -> Room:
+    """The room of feature ``i`` of a GeoJSON room file, checked."""
+    kp = f"features[{i}]"
+    if not isinstance(f, dict):
+        raise ScenarioError(must_be(kp, "a Feature object", f), file_for_errors)
+    props = f.get("properties") or {}
+    geom = f.get("geometry") or {}
+    if not isinstance(props, dict):
+        raise ScenarioError(must_be(f"{kp}.properties", "an object", props), file_for_errors)
+    if not isinstance(geom, dict) or geom.get("type") != "Polygon":
+        raise ScenarioError(must_be(f"{kp}.geometry.type", "'Polygon'",
+                                    geom.get("type") if isinstance(geom, dict) else geom),
+                            file_for_errors)
+    coords = geom.get("coordinates")
+    if not isinstance(coords, list) or not coords:
+        raise ScenarioError(must_be(f"{kp}.geometry.coordinates",
+                                    "an array of linear rings", coords), file_for_errors)
+    name = props.get("name")
+    if not isinstance(name, str) or not name.strip():
+        raise ScenarioError(must_be(f"{kp}.properties.name", "a non-empty string", name),
+                            file_for_errors)
+    _warn_near_miss_properties(props, kp, name, file_for_errors)
+    poly = outline_polygon(coords[0], coords[1:], f"{kp}.geometry.coordinates "
+                           f"(room {name!r})", file_for_errors)
+    floor, access, limit = _room_properties(props, kp, options, file_for_errors)
+    return Room(name, floor, poly, access, None if limit is None else float(limit))
+
+
+def _warn_near_miss_properties(props: dict, kp: str, name: str, file_for_errors: str) -> None:
+    """Warn of a feature property that looks like a misspelt room property."""
+    # other tools' properties are kept quiet, but a near-miss of ours is a typo that
+    # would silently turn a controlled room open or drop its limit
+    for key in props:
+        if key in GEOJSON_ROOM_PROPERTIES:
+            continue
+        hint = difflib.get_close_matches(key, GEOJSON_ROOM_PROPERTIES, n=1, cutoff=0.75)
+        if hint:
+            # stacklevel 4: the caller of load_geojson_rooms, as before the split
+            warnings.warn(f"{file_for_errors}: `{kp}.properties.{key}` (room {name!r}) is "
+                          f"not read; did you mean `{hint[0]}`?", FringeWarning,
+                          stacklevel=4)
+
+
+def _room_properties(props: dict, kp: str, options: dict, file_for_errors: str):
+    """Floor, access class and field limit (or None) of a feature, checked."""
+    floor = props.get("floor", options.get("floor"))
+    if not isinstance(floor, str) or not floor:
+        raise ScenarioError(must_be(f"{kp}.properties.floor", "a floor name (or give "
+                                    "`floor` in the [[room_file]] table)", floor),
+                            file_for_errors)
+    access = props.get("access", "open")
+    if access not in ACCESS_CLASSES:
+        raise ScenarioError(must_be(f"{kp}.properties.access",
+                                    f"one of {', '.join(map(repr, ACCESS_CLASSES))}",
+                                    access), file_for_errors)
+    limit = props.get("limit_mT")
+    if limit is not None and (isinstance(limit, bool) or not isinstance(limit, (int, float))
+                              or not finite_number(limit) or limit <= 0):
+        raise ScenarioError(must_be(f"{kp}.properties.limit_mT", "a positive number",
+                                    limit), file_for_errors)
+    return floor, access, limit
 
 
 def parse_rooms(root: Reader, file: Path, floors: tuple[Floor, ...],

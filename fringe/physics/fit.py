@@ -335,6 +335,31 @@ def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
     if not (math.isfinite(b0) and b0 > 0):
         raise FringeInputError(must_be("center_field_T", "a positive number of tesla",
                                        center_field_T))
+    lines_t = _parse_lines(lines)
+    if bore_m is not None and not (math.isfinite(bore_m) and bore_m > 0):
+        raise FringeInputError(must_be("bore_m", "a positive number of metres", bore_m))
+    candidates = _candidate_families(shielded, bore_m, family)
+    fam, a_min, sol, spec = _best_family_fit(candidates, b0, bore_m, lines_t)
+    magnet = _build(fam, sol.x, b0, a_min, whole_turns=True)
+    magnet = Magnet(name, magnet.center_m, magnet.axis, magnet.coils,
+                    "equivalent model fitted to data-sheet numbers", "fit")
+    achieved, residuals = [], []
+    for ln in lines_t:
+        ax, rad = threshold_extents_m(magnet, ln.threshold_T)
+        achieved.append(FieldLine(ln.threshold_T, ax, rad))
+        residuals.append((ax / ln.axial_m - 1.0, rad / ln.radial_m - 1.0))
+    warn = _fit_warnings(b0, lines_t, shielded, a_min, fam, residuals)
+    for w in warn:
+        warnings.warn(w, FringeWarning, stacklevel=2)
+    params = dict(zip(spec.names, (float(v) for v in sol.x), strict=True))
+    params["main_radius_m"] = float(min(c.r_inner_m for c in magnet.coils))
+    return FitResult(magnet, fam, params, lines_t, tuple(achieved), tuple(residuals),
+                     float(interior_coefficients_T(magnet, 0)[0]),
+                     zonal_moments_Am(magnet, 7), tuple(warn))
+
+
+def _parse_lines(lines) -> tuple[FieldLine, ...]:
+    """The data-sheet field lines as FieldLine, each number checked positive."""
     parsed = []
     for i, ln in enumerate(lines):
         fl = ln if isinstance(ln, FieldLine) else FieldLine(*(float(v) for v in ln))
@@ -345,19 +370,23 @@ def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
         parsed.append(fl)
     if not parsed:
         raise FringeInputError(must_be("lines", "at least one field line", []))
-    lines_t = tuple(parsed)
-    if bore_m is not None and not (math.isfinite(bore_m) and bore_m > 0):
-        raise FringeInputError(must_be("bore_m", "a positive number of metres", bore_m))
+    return tuple(parsed)
+
+
+def _candidate_families(shielded: bool, bore_m: float | None, family: str | None) -> list[str]:
+    """Families to try, in order: the forced one, or those matching shielding and bore."""
     # whole-body before lab, as FIT_FAMILIES lists them
     kinds = [n for n in FIT_FAMILIES if FAMILIES[n].shielded == bool(shielded)]
     if family is not None:
         _family_spec(family)
-        candidates = [family]
-    elif bore_m is None:
-        candidates = kinds
-    else:
-        candidates = [n for n in kinds if FAMILIES[n].lab == (bore_m < LAB_BORE_LIMIT_M)]
+        return [family]
+    if bore_m is None:
+        return kinds
+    return [n for n in kinds if FAMILIES[n].lab == (bore_m < LAB_BORE_LIMIT_M)]
 
+
+def _best_family_fit(candidates, b0: float, bore_m: float | None, lines_t):
+    """Fit each candidate family in turn; the best (family, a_min, solution, spec)."""
     best = None
     for fam in candidates:  # without a bore: whole-body first, lab only if that fails
         a_min = _a_min(fam, bore_m)
@@ -366,15 +395,12 @@ def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
             best = (fam, a_min, sol, spec)
         if np.max(np.abs(best[2].fun[:2 * len(lines_t)])) < _GOOD_ENOUGH:
             break
-    fam, a_min, sol, spec = best
-    magnet = _build(fam, sol.x, b0, a_min, whole_turns=True)
-    magnet = Magnet(name, magnet.center_m, magnet.axis, magnet.coils,
-                    "equivalent model fitted to data-sheet numbers", "fit")
-    achieved, residuals = [], []
-    for ln in lines_t:
-        ax, rad = threshold_extents_m(magnet, ln.threshold_T)
-        achieved.append(FieldLine(ln.threshold_T, ax, rad))
-        residuals.append((ax / ln.axial_m - 1.0, rad / ln.radial_m - 1.0))
+    return best
+
+
+def _fit_warnings(b0: float, lines_t, shielded: bool, a_min: float, fam: str,
+                  residuals) -> list[str]:
+    """Consistency warnings of a fit: request checks, implausible field, missed extents."""
     warn = check_request(b0, lines_t, shielded, a_min)
     lo, hi = FAMILIES[fam].field_range_T or (0.0, math.inf)
     if not lo <= b0 <= hi:
@@ -387,10 +413,4 @@ def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
                     f"{worst * 100:.1f} % (> {EXTENT_TOLERANCE * 100:g} %): the numbers are "
                     "inconsistent with each other or with this kind of magnet; the model is "
                     "only indicative")
-    for w in warn:
-        warnings.warn(w, FringeWarning, stacklevel=2)
-    params = dict(zip(spec.names, (float(v) for v in sol.x), strict=True))
-    params["main_radius_m"] = float(min(c.r_inner_m for c in magnet.coils))
-    return FitResult(magnet, fam, params, lines_t, tuple(achieved), tuple(residuals),
-                     float(interior_coefficients_T(magnet, 0)[0]),
-                     zonal_moments_Am(magnet, 7), tuple(warn))
+    return warn

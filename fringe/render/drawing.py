@@ -448,63 +448,96 @@ def _label_lines(ax, renderer, line_sets: Sequence[_LineSet], occupied: list[Bbo
     inner = Bbox.from_extents(axbb.x0 + 4, axbb.y0 + 4, axbb.x1 - 4, axbb.y1 - 4)
     out = []
     for ls in line_sets:
-        cs = ls.cs
-        paths = cs.get_paths()
-        fmt: dict[float, str] = {}
-        plan: list[tuple[float, float]] = []
-        for i, path in enumerate(paths):
-            if i >= len(ls.labels):
-                break
-            pieces = [np.asarray(p) for p in path.to_polygons(closed_only=False)
-                      if len(p) >= 2]
-            pieces.sort(key=lambda p: -len(p))
-            forms = [ls.labels[i], ls.short_labels[i]]
-            if ls.beside and len(ls.labels[i]) > 20:  # a long label may go on two lines
-                forms.insert(1, textwrap.fill(ls.labels[i], math.ceil(len(ls.labels[i]) / 2)))
-            for text in dict.fromkeys(forms):
-                w, h = _text_size_px(ax, renderer, text, ls.fontsize, ls.weight)
-                chosen = []
-                for piece in pieces:
-                    if len(chosen) >= max_per_level:
-                        break
-                    pt = _best_point_on_piece(ax, piece, w, h, inner, occupied + [
-                        c[2] for c in chosen], offset_px=(h / 2 + 3) if ls.beside else 0.0,
-                        walls=walls)
-                    if pt is not None:
-                        chosen.append(pt)
-                if chosen:
-                    fmt[float(cs.levels[i])] = text
-                    for p, ang, b in chosen:
-                        plan.append((p, ang, text))
-                        occupied.append(b)
-                    break
+        fmt, plan = _plan_line_set(ax, renderer, ls, inner, occupied, max_per_level, walls)
         if not plan:
             if ls.beside and ls.near_fallback:
                 out.extend(_label_near_pieces(ax, renderer, ls, inner, occupied, walls,
                                               max_per_level))
             continue
         if ls.beside:
-            to_data = ax.transData.inverted()
-            for p, ang, text in plan:
-                deg = math.degrees(ang)
-                deg = deg - 180 if deg > 90 else (deg + 180 if deg < -90 else deg)
-                xd, yd = to_data.transform(p)
-                out.append(ax.text(xd, yd, text, rotation=deg, rotation_mode="anchor",
-                                   ha="center", va="center", fontsize=ls.fontsize,
-                                   multialignment="center", linespacing=1.05,
-                                   fontweight=ls.weight, color=ls.color, zorder=8,
-                                   path_effects=_HALO, gid="contour-label"))
+            out.extend(_draw_beside_labels(ax, ls, plan))
             continue
-        cs.clabel(levels=list(fmt), fmt=fmt, fontsize=ls.fontsize, inline=True,
-                  inline_spacing=3, manual=[], colors=[ls.color] * len(fmt))
-        for (px, py), _ang, _text in plan:
-            cs.add_label_near(px, py, inline=True, inline_spacing=3, transform=False)
-        for t in cs.labelTexts:
-            t.set_gid("contour-label")
-            t.set_fontweight(ls.weight)
-            t.set_path_effects(_HALO)
-            t.set_zorder(8)
-            out.append(t)
+        out.extend(_draw_inline_labels(ls, fmt, plan))
+    return out
+
+
+def _label_forms(ls: _LineSet, i: int) -> list[str]:
+    """Label texts of level ``i`` to try, longest first (long, wrapped if beside, short)."""
+    forms = [ls.labels[i], ls.short_labels[i]]
+    if ls.beside and len(ls.labels[i]) > 20:  # a long label may go on two lines
+        forms.insert(1, textwrap.fill(ls.labels[i], math.ceil(len(ls.labels[i]) / 2)))
+    return forms
+
+
+def _plan_line_set(ax, renderer, ls: _LineSet, inner: Bbox, occupied: list[Bbox],
+                   max_per_level: int, walls):
+    """Label text by level and the label spots (px point, angle, text) of one line set."""
+    cs = ls.cs
+    fmt: dict[float, str] = {}
+    plan: list[tuple[float, float]] = []
+    for i, path in enumerate(cs.get_paths()):
+        if i >= len(ls.labels):
+            break
+        pieces = [np.asarray(p) for p in path.to_polygons(closed_only=False)
+                  if len(p) >= 2]
+        pieces.sort(key=lambda p: -len(p))
+        for text in dict.fromkeys(_label_forms(ls, i)):
+            w, h = _text_size_px(ax, renderer, text, ls.fontsize, ls.weight)
+            chosen = _spots_on_pieces(ax, pieces, w, h, inner, occupied, max_per_level,
+                                      (h / 2 + 3) if ls.beside else 0.0, walls)
+            if chosen:
+                fmt[float(cs.levels[i])] = text
+                for p, ang, b in chosen:
+                    plan.append((p, ang, text))
+                    occupied.append(b)
+                break
+    return fmt, plan
+
+
+def _spots_on_pieces(ax, pieces, w, h, inner: Bbox, occupied: list[Bbox],
+                     max_per_level: int, offset_px: float, walls) -> list:
+    """Up to ``max_per_level`` label spots, one per piece, clear of each other."""
+    chosen = []
+    for piece in pieces:
+        if len(chosen) >= max_per_level:
+            break
+        pt = _best_point_on_piece(ax, piece, w, h, inner, occupied + [
+            c[2] for c in chosen], offset_px=offset_px, walls=walls)
+        if pt is not None:
+            chosen.append(pt)
+    return chosen
+
+
+def _draw_beside_labels(ax, ls: _LineSet, plan) -> list:
+    """Draw the planned labels as upright-turned texts beside their line."""
+    out = []
+    to_data = ax.transData.inverted()
+    for p, ang, text in plan:
+        deg = math.degrees(ang)
+        deg = deg - 180 if deg > 90 else (deg + 180 if deg < -90 else deg)
+        xd, yd = to_data.transform(p)
+        out.append(ax.text(xd, yd, text, rotation=deg, rotation_mode="anchor",
+                           ha="center", va="center", fontsize=ls.fontsize,
+                           multialignment="center", linespacing=1.05,
+                           fontweight=ls.weight, color=ls.color, zorder=8,
+                           path_effects=_HALO, gid="contour-label"))
+    return out
+
+
+def _draw_inline_labels(ls: _LineSet, fmt: dict[float, str], plan) -> list:
+    """Draw the planned labels inline, breaking their contour lines."""
+    out = []
+    cs = ls.cs
+    cs.clabel(levels=list(fmt), fmt=fmt, fontsize=ls.fontsize, inline=True,
+              inline_spacing=3, manual=[], colors=[ls.color] * len(fmt))
+    for (px, py), _ang, _text in plan:
+        cs.add_label_near(px, py, inline=True, inline_spacing=3, transform=False)
+    for t in cs.labelTexts:
+        t.set_gid("contour-label")
+        t.set_fontweight(ls.weight)
+        t.set_path_effects(_HALO)
+        t.set_zorder(8)
+        out.append(t)
     return out
 
 
@@ -580,6 +613,21 @@ def _best_point_on_piece(ax, piece, w, h, inner: Bbox, occupied: list[Bbox],
     ts = np.arange(margin, length - margin + 1e-9, max(w / 4.0, 4.0))
     if ts.size == 0:
         return None
+    c = _piece_candidates(d, s, length, ts, w)
+    bad = np.zeros(ts.shape, dtype=bool)
+    side_cost = np.zeros(ts.shape)
+    if offset_px:
+        c, bad, side_cost = _offset_candidates(d, s, length, closed, c, offset_px)
+    ts, ta, tb, px, py, ang, nx, ny, sag = c
+    wall_px = np.zeros(ts.shape)
+    if walls is not None and not walls.is_empty:
+        wall_px = _wall_under_labels_px(ax, walls, px, py, ang, w, h)
+    return _best_candidate(px, py, ang, sag, w, h, inner, occupied, bad, side_cost, wall_px,
+                           offset_px)
+
+
+def _piece_candidates(d: np.ndarray, s: np.ndarray, length: float, ts: np.ndarray, w: float):
+    """Candidate label centres at arc lengths ``ts``, with direction, normal and sag."""
     px = np.interp(ts, s, d[:, 0])
     py = np.interp(ts, s, d[:, 1])
     # local direction over about one label width (the chord under the label)
@@ -590,51 +638,62 @@ def _best_point_on_piece(ax, piece, w, h, inner: Bbox, occupied: list[Bbox],
     ang = np.arctan2(by_ - ay_, bx_ - ax_)
     nx, ny = -np.sin(ang), np.cos(ang)
     sag = (px - (ax_ + bx_) / 2) * nx + (py - (ay_ + by_) / 2) * ny  # curvature under label
-    bad = np.zeros(ts.shape, dtype=bool)
-    side_cost = np.zeros(ts.shape)
-    if offset_px:
-        if closed:  # outward side of a closed loop, from its orientation (shoelace)
-            area2 = float(np.sum(d[:-1, 0] * d[1:, 1] - d[1:, 0] * d[:-1, 1]))
-            sign = np.full(ts.shape, -1.0 if area2 > 0 else 1.0)
-        else:
-            sign = np.where(sag >= 0, 1.0, -1.0)
-        # both sides are candidates; the outward (convex) side is preferred a little
-        n0 = ts.size
-        ts, ta, tb = (np.concatenate([v, v]) for v in (ts, ta, tb))
-        px, py, ang, nx, ny, sag = (np.concatenate([v, v]) for v in (px, py, ang, nx, ny,
-                                                                     sag))
-        sign = np.concatenate([sign, -sign])
-        side_cost = np.concatenate([np.zeros(n0), np.full(n0, 4.0)])
-        # a straight label beside the line must not be crossed by the line itself: no
-        # point of the line under the label may bulge towards it past the anchor point
-        u = np.linspace(0.0, 1.0, 9)
-        tu = np.clip(ta[:, None] + (tb - ta)[:, None] * u[None, :], 0, length)
-        qx = np.interp(tu, s, d[:, 0])
-        qy = np.interp(tu, s, d[:, 1])
-        dev = (qx - px[:, None]) * nx[:, None] + (qy - py[:, None]) * ny[:, None]
-        bad = (sign[:, None] * dev).max(axis=1) > 2.0
-        px = px + sign * offset_px * nx
-        py = py + sign * offset_px * ny
+    return ts, ta, tb, px, py, ang, nx, ny, sag
+
+
+def _offset_candidates(d: np.ndarray, s: np.ndarray, length: float, closed: bool, c,
+                       offset_px: float):
+    """Candidates moved off the line to both sides, with crossing flags and side costs."""
+    ts, ta, tb, px, py, ang, nx, ny, sag = c
+    if closed:  # outward side of a closed loop, from its orientation (shoelace)
+        area2 = float(np.sum(d[:-1, 0] * d[1:, 1] - d[1:, 0] * d[:-1, 1]))
+        sign = np.full(ts.shape, -1.0 if area2 > 0 else 1.0)
+    else:
+        sign = np.where(sag >= 0, 1.0, -1.0)
+    # both sides are candidates; the outward (convex) side is preferred a little
+    n0 = ts.size
+    ts, ta, tb = (np.concatenate([v, v]) for v in (ts, ta, tb))
+    px, py, ang, nx, ny, sag = (np.concatenate([v, v]) for v in (px, py, ang, nx, ny,
+                                                                 sag))
+    sign = np.concatenate([sign, -sign])
+    side_cost = np.concatenate([np.zeros(n0), np.full(n0, 4.0)])
+    # a straight label beside the line must not be crossed by the line itself: no
+    # point of the line under the label may bulge towards it past the anchor point
+    u = np.linspace(0.0, 1.0, 9)
+    tu = np.clip(ta[:, None] + (tb - ta)[:, None] * u[None, :], 0, length)
+    qx = np.interp(tu, s, d[:, 0])
+    qy = np.interp(tu, s, d[:, 1])
+    dev = (qx - px[:, None]) * nx[:, None] + (qy - py[:, None]) * ny[:, None]
+    bad = (sign[:, None] * dev).max(axis=1) > 2.0
+    px = px + sign * offset_px * nx
+    py = py + sign * offset_px * ny
+    return (ts, ta, tb, px, py, ang, nx, ny, sag), bad, side_cost
+
+
+def _wall_under_labels_px(ax, walls, px, py, ang, w, h) -> np.ndarray:
+    """Length of wall (display px) under each candidate's rotated label rectangle."""
+    # labels keep off walls (the label's own rotated rectangle, not its axis-aligned box)
+    inv = ax.transData.inverted()
+    tx, ty = np.cos(ang), np.sin(ang)
+    hw, hh = w / 2 + 3, h / 2 + 3
+    corners = np.stack([np.column_stack([px + a * hw * tx - b * hh * ty,
+                                         py + a * hw * ty + b * hh * tx])
+                        for a, b in ((-1, -1), (1, -1), (1, 1), (-1, 1), (-1, -1))],
+                       axis=1)
+    corners = inv.transform(corners.reshape(-1, 2)).reshape(corners.shape)
+    boxes = shapely.polygons(corners)
+    sx, _ = _display_per_metre(ax)
+    return shapely.length(shapely.intersection(walls, boxes)) * sx
+
+
+def _best_candidate(px, py, ang, sag, w, h, inner: Bbox, occupied: list[Bbox], bad,
+                    side_cost, wall_px, offset_px: float):
+    """Highest-scoring candidate inside the axes and clear of ``occupied``, or None."""
     ew = np.abs(w * np.cos(ang)) + np.abs(h * np.sin(ang)) + 6
     eh = np.abs(w * np.sin(ang)) + np.abs(h * np.cos(ang)) + 6
     cap = 1.5 * h
-    wall_px = np.zeros(ts.shape)
-    if walls is not None and not walls.is_empty:
-        # length of wall (display px) under each candidate's box: labels keep off walls
-        # (the label's own rotated rectangle, not its axis-aligned box)
-        inv = ax.transData.inverted()
-        tx, ty = np.cos(ang), np.sin(ang)
-        hw, hh = w / 2 + 3, h / 2 + 3
-        corners = np.stack([np.column_stack([px + a * hw * tx - b * hh * ty,
-                                             py + a * hw * ty + b * hh * tx])
-                            for a, b in ((-1, -1), (1, -1), (1, 1), (-1, 1), (-1, -1))],
-                           axis=1)
-        corners = inv.transform(corners.reshape(-1, 2)).reshape(corners.shape)
-        boxes = shapely.polygons(corners)
-        sx, _ = _display_per_metre(ax)
-        wall_px = shapely.length(shapely.intersection(walls, boxes)) * sx
     best = None
-    for k in range(ts.size):
+    for k in range(px.size):
         # a label set beside a line must not touch a wall (it would read as the wall's)
         if bad[k] or (offset_px and wall_px[k] > 0):
             continue
@@ -1292,18 +1351,7 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
     FringeInputError
         Mismatched shapes, empty thresholds, bad floors, windings or exposure values.
     """
-    lv = _check_levels("thresholds_mT", thresholds_mT, positive=True)
-    if boundary_mT is not None and not (math.isfinite(boundary_mT) and boundary_mT > 0):
-        raise FringeInputError(must_be("boundary_mT", "a positive number of mT or None",
-                                       boundary_mT))
-    s = _check_axis("s_m", s_m)
-    z = _check_axis("z_m", z_m)
-    v = np.asarray(field_T, float)
-    if v.shape != (z.size, s.size):
-        raise FringeInputError(must_be("field_T", f"an array of shape (len(z_m), len(s_m)) = "
-                                       f"({z.size}, {s.size})", f"shape {v.shape}"))
-    if boundary_mT is not None and not np.any(np.isclose(lv, boundary_mT, rtol=1e-9)):
-        lv = np.unique(np.append(lv, boundary_mT))
+    lv, s, z, v = _section_inputs(s_m, z_m, field_T, thresholds_mT, boundary_mT)
     label = boundary_label
     if boundary_mT is not None and label is None:
         label = f"{format_value(boundary_mT)} mT: controlled access area boundary"
@@ -1319,20 +1367,62 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
                                      palette=threshold_color if cmap is None else None)
     entries += _draw_overlays(ax, overlays)
     occupied: list[Bbox] = []
-    # floors: slab line, lightly shaded occupied band (under the bands), name
+    entries += _draw_floor_levels(ax, renderer, floors, s, z, occupied)
+    _texts, wentries = _draw_magnets(ax, windings, section=True)
+    for m in windings:
+        poly = m.polygon if isinstance(m, MagnetOutline) else m[1]
+        x0_, y0_, x1_, y1_ = poly.bounds
+        occupied.append(Bbox(ax.transData.transform([(x0_, y0_), (x1_, y1_)])))
+    entries += wentries
+    exposure_entries, exposure_sets, sources = _draw_exposure_lines(ax, s, z, vm,
+                                                                    exposure_lines)
+    entries += exposure_entries
+    occupied.append(_draw_scale_bar(ax, (s[0], s[-1]), (z[0], z[-1]), renderer))
+    _label_lines(ax, renderer, line_sets[:1] + exposure_sets + line_sets[1:], occupied)
+    src_notes = [f"Exposure lines: {src}." for src in sources]
+    _draw_key_column(fig, [h for h, _ in entries], [lb for _, lb in entries],
+                     "|B| in mT", list(info.notes) + list(notes) + src_notes)
+    return fig
+
+
+def _section_inputs(s_m, z_m, field_T, thresholds_mT, boundary_mT):
+    """Checked levels (boundary included), axes and field array of a section sheet."""
+    lv = _check_levels("thresholds_mT", thresholds_mT, positive=True)
+    if boundary_mT is not None and not (math.isfinite(boundary_mT) and boundary_mT > 0):
+        raise FringeInputError(must_be("boundary_mT", "a positive number of mT or None",
+                                       boundary_mT))
+    s = _check_axis("s_m", s_m)
+    z = _check_axis("z_m", z_m)
+    v = np.asarray(field_T, float)
+    if v.shape != (z.size, s.size):
+        raise FringeInputError(must_be("field_T", f"an array of shape (len(z_m), len(s_m)) = "
+                                       f"({z.size}, {s.size})", f"shape {v.shape}"))
+    if boundary_mT is not None and not np.any(np.isclose(lv, boundary_mT, rtol=1e-9)):
+        lv = np.unique(np.append(lv, boundary_mT))
+    return lv, s, z, v
+
+
+def _floor_band(i: int, f) -> tuple[str, float, float, float]:
+    """Name, elevation and occupied band (bottom, top above the floor) of ``floors[i]``."""
+    try:
+        name = str(f.name)
+        elev = float(f.elevation_m)
+        bb = float(getattr(f, "band_bottom_m", 0.0))
+        bt = float(getattr(f, "band_top_m", 2.0))
+    except (AttributeError, TypeError, ValueError):
+        raise FringeInputError(must_be(f"floors[{i}]", "an object with name and "
+                                       "elevation_m (e.g. FloorLevel)", f)) from None
+    if not (math.isfinite(elev) and bt > bb):
+        raise FringeInputError(must_be(f"floors[{i}] ({name})", "a finite elevation_m "
+                                       "and band_top_m > band_bottom_m", (elev, bb, bt)))
+    return name, elev, bb, bt
+
+
+def _draw_floor_levels(ax, renderer, floors: Sequence, s, z, occupied: list[Bbox]) -> list:
+    """Draw each floor's slab line, shaded occupied band and name; return key entries."""
     span = s[-1] - s[0]
     for i, f in enumerate(floors):
-        try:
-            name = str(f.name)
-            elev = float(f.elevation_m)
-            bb = float(getattr(f, "band_bottom_m", 0.0))
-            bt = float(getattr(f, "band_top_m", 2.0))
-        except (AttributeError, TypeError, ValueError):
-            raise FringeInputError(must_be(f"floors[{i}]", "an object with name and "
-                                           "elevation_m (e.g. FloorLevel)", f)) from None
-        if not (math.isfinite(elev) and bt > bb):
-            raise FringeInputError(must_be(f"floors[{i}] ({name})", "a finite elevation_m "
-                                           "and band_top_m > band_bottom_m", (elev, bb, bt)))
+        name, elev, bb, bt = _floor_band(i, f)
         ax.axhspan(elev + bb, elev + bt, facecolor="0.55", alpha=0.16, edgecolor="none",
                    zorder=0.5)
         ax.axhline(elev, color=_INK, linewidth=1.6, zorder=5)
@@ -1349,17 +1439,16 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
                             color=_INK, zorder=9, path_effects=_HALO,
                             annotation_clip=True)
             occupied.append(_text_box(t, renderer))
-    if floors:
-        entries.append((Line2D([], [], color=_INK, linewidth=1.6), "floor level"))
-        entries.append((Patch(facecolor="0.55", alpha=0.16, edgecolor="none"),
-                        "occupied band of a floor"))
-    _texts, wentries = _draw_magnets(ax, windings, section=True)
-    for m in windings:
-        poly = m.polygon if isinstance(m, MagnetOutline) else m[1]
-        x0_, y0_, x1_, y1_ = poly.bounds
-        occupied.append(Bbox(ax.transData.transform([(x0_, y0_), (x1_, y1_)])))
-    entries += wentries
-    # exposure lines
+    if not floors:
+        return []
+    return [(Line2D([], [], color=_INK, linewidth=1.6), "floor level"),
+            (Patch(facecolor="0.55", alpha=0.16, edgecolor="none"),
+             "occupied band of a floor")]
+
+
+def _draw_exposure_lines(ax, s, z, vm, exposure_lines: Sequence[ExposureLine]):
+    """Draw the exposure lines reached in view; key entries, line sets and sources."""
+    entries = []
     sources: list[str] = []
     logv = _log_or_linear(vm, True)
     finite = vm[np.isfinite(vm)]
@@ -1383,9 +1472,4 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
             text += " (not reached in this view)"
         entries.append((Line2D([], [], color=_EXPOSURE_COLOR, linewidth=1.6, linestyle=style),
                         text))
-    occupied.append(_draw_scale_bar(ax, (s[0], s[-1]), (z[0], z[-1]), renderer))
-    _label_lines(ax, renderer, line_sets[:1] + exposure_sets + line_sets[1:], occupied)
-    src_notes = [f"Exposure lines: {src}." for src in sources]
-    _draw_key_column(fig, [h for h, _ in entries], [lb for _, lb in entries],
-                     "|B| in mT", list(info.notes) + list(notes) + src_notes)
-    return fig
+    return entries, exposure_sets, sources

@@ -70,6 +70,7 @@ _KEY = (0.738, 0.285, 0.238, 0.675)
 _TITLE = (0.738, 0.03, 0.238, 0.235)
 _ADVISORY = (0.03, 0.03, 0.69, 0.085)
 _WIDE = (0.045, 0.16, 0.67, 0.79)  # table/curve area without map axis labels
+_TITLE_LINES = 2.2  # height of a table title, in table lines
 
 
 def _today_iso() -> str:
@@ -546,8 +547,25 @@ def _table_pages(tables: list[_Table], info: SheetInfo, notes: Sequence[str],
     left, bottom, width, height = _WIDE
     line_h_pt = font_size * 1.45
     area_lines = int(height * A3_LANDSCAPE_IN[1] * 72 / line_h_pt) - 1
-    title_lines = 2.2
-    # build pages as lists of (kind, table index, payload)
+    pages = _paginate_tables(tables, area_lines)
+    figs = []
+    lh = line_h_pt / (height * A3_LANDSCAPE_IN[1] * 72)
+    for page in pages:
+        fig = _new_figure()
+        _draw_frame(fig, info, kind="table")
+        ax = fig.add_axes((left, bottom, width, height), label="table")
+        ax.set_axis_off()
+        ax.set_xlim(0, 1)
+        ax.set_ylim(0, 1)
+        _draw_table_page(ax, page, tables, lh, font_size)
+        _draw_key_column(fig, [], [], "", list(info.notes) + list(notes))
+        figs.append(fig)
+    return figs
+
+
+def _paginate_tables(tables: list[_Table], area_lines: int) -> list[list[tuple[str, int, Any]]]:
+    """Pages as lists of (kind, table index, payload) entries, filled up to ``area_lines``."""
+    title_lines = _TITLE_LINES
     pages: list[list[tuple[str, int, Any]]] = [[]]
     used = 0.0
 
@@ -577,51 +595,51 @@ def _table_pages(tables: list[_Table], info: SheetInfo, notes: Sequence[str],
             used += n
         pages[-1].append(("end", ti, None))
         used += 1.5
-    figs = []
-    lh = line_h_pt / (height * A3_LANDSCAPE_IN[1] * 72)
-    for page in pages:
-        fig = _new_figure()
-        _draw_frame(fig, info, kind="table")
-        ax = fig.add_axes((left, bottom, width, height), label="table")
-        ax.set_axis_off()
-        ax.set_xlim(0, 1)
-        ax.set_ylim(0, 1)
-        y = 1.0
-        stripe = 0
-        for kind, ti, payload in page:
-            tb = tables[ti]
-            if kind == "title":
-                ax.text(0, y, tb.title + (" (continued)" if payload else ""), fontsize=12,
-                        fontweight="bold", va="top", ha="left", color=_INK)
-                y -= title_lines * lh
-                stripe = 0
-            elif kind == "header":
-                ax.plot([0, tb.width], [y + 0.004, y + 0.004], color=_INK, linewidth=1.2)
-                for j, hcell in enumerate(tb.header):
-                    _table_cell(ax, tb.xs, j, y, hcell, tb.numeric[j], font_size, bold=True)
-                y -= tb.header_lines * lh + 0.006
-                ax.plot([0, tb.width], [y + 0.003, y + 0.003], color=_INK, linewidth=0.8)
-            elif kind == "empty":
-                ax.text(0.005, y - 0.004, "(no rows)", fontsize=font_size, va="top",
-                        style="italic", color="0.3")
-                y -= lh
-            elif kind == "row":
-                row = tb.rows[payload]
-                n = _Table.row_lines(row)
-                if stripe % 2 == 1:
-                    ax.add_patch(Rectangle((0, y - n * lh - 0.001), tb.width, n * lh,
-                                           facecolor="0.93", edgecolor="none", zorder=0))
-                stripe += 1
-                for j, c in enumerate(row):
-                    _table_cell(ax, tb.xs, j, y - 0.002, c, tb.numeric[j], font_size,
-                                bold=tb.bold[payload])
-                y -= n * lh
-            elif kind == "end":
-                ax.plot([0, tb.width], [y - 0.002, y - 0.002], color=_INK, linewidth=1.2)
-                y -= 1.5 * lh
-        _draw_key_column(fig, [], [], "", list(info.notes) + list(notes))
-        figs.append(fig)
-    return figs
+    return pages
+
+
+def _draw_table_page(ax, page: list[tuple[str, int, Any]], tables: list[_Table], lh: float,
+                     font_size: float) -> None:
+    """Draw one page's titles, headers, rows and end rules top-down on ``ax``."""
+    y = 1.0
+    stripe = 0
+    for kind, ti, payload in page:
+        tb = tables[ti]
+        if kind == "title":
+            ax.text(0, y, tb.title + (" (continued)" if payload else ""), fontsize=12,
+                    fontweight="bold", va="top", ha="left", color=_INK)
+            y -= _TITLE_LINES * lh
+            stripe = 0
+        elif kind == "header":
+            ax.plot([0, tb.width], [y + 0.004, y + 0.004], color=_INK, linewidth=1.2)
+            for j, hcell in enumerate(tb.header):
+                _table_cell(ax, tb.xs, j, y, hcell, tb.numeric[j], font_size, bold=True)
+            y -= tb.header_lines * lh + 0.006
+            ax.plot([0, tb.width], [y + 0.003, y + 0.003], color=_INK, linewidth=0.8)
+        elif kind == "empty":
+            ax.text(0.005, y - 0.004, "(no rows)", fontsize=font_size, va="top",
+                    style="italic", color="0.3")
+            y -= lh
+        elif kind == "row":
+            y = _draw_table_row(ax, tb, payload, y, lh, stripe, font_size)
+            stripe += 1
+        elif kind == "end":
+            ax.plot([0, tb.width], [y - 0.002, y - 0.002], color=_INK, linewidth=1.2)
+            y -= 1.5 * lh
+
+
+def _draw_table_row(ax, tb: _Table, ri: int, y: float, lh: float, stripe: int,
+                    font_size: float) -> float:
+    """Draw row ``ri`` of a table at ``y`` (shaded on odd stripes); the y below it."""
+    row = tb.rows[ri]
+    n = _Table.row_lines(row)
+    if stripe % 2 == 1:
+        ax.add_patch(Rectangle((0, y - n * lh - 0.001), tb.width, n * lh,
+                               facecolor="0.93", edgecolor="none", zorder=0))
+    for j, c in enumerate(row):
+        _table_cell(ax, tb.xs, j, y - 0.002, c, tb.numeric[j], font_size,
+                    bold=tb.bold[ri])
+    return y - n * lh
 
 
 def _cell_text(c: Any) -> str:
