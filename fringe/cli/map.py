@@ -37,7 +37,7 @@ def register(sub) -> None:
     p.add_argument("--max-points", type=float, default=2e9, metavar="N",
                    help="refuse grids with more nodes than this (default 2e9)")
     p.add_argument("--quiet", action="store_true", help="no progress bar on stderr")
-    p.set_defaults(func=run)
+    p.set_defaults(func=run, flags={"scheduler": "--scheduler", "path": "--out"})
 
 
 def run(args) -> int:

@@ -50,7 +50,7 @@ from fringe.field.grid import (
 )
 from fringe.io.atomic import atomic_file
 from fringe.model.constants import ADVISORY_NOTICE
-from fringe.model.errors import FringeInputError, must_be
+from fringe.model.errors import ArgumentError, FringeInputError, must_be
 
 __all__ = ["scheduled_blocks", "write_map", "read_vti", "check_scheduler", "MAP_FORMATS"]
 
@@ -92,24 +92,37 @@ _LOCAL_SCHEDULERS = ("synchronous", "sync", "single-threaded", "threads", "threa
                      "processes")
 
 
+#: What a scheduler may be (the error text when it is none of these).
+_SCHEDULER_CHOICES = ("synchronous, threads, processes, or a dask scheduler address such as "
+                      "tcp://127.0.0.1:8786 (which needs the `distributed` package, extra "
+                      "`fringe[cluster]`)")
+
+#: How long to try reaching a scheduler address before giving up.
+CONNECT_TIMEOUT: str = "5s"
+
+
+def _scheduler_error(expectation: str, scheduler) -> ArgumentError:
+    """The one error for an unusable ``scheduler`` (the CLI names its option)."""
+    return ArgumentError(must_be("scheduler", expectation, scheduler), "scheduler")
+
+
 def check_scheduler(scheduler: str | None) -> None:
-    """Raise :class:`FringeInputError` now if ``scheduler`` cannot be used here."""
+    """Raise :class:`ArgumentError` (argument ``scheduler``) now if ``scheduler`` cannot be
+    used here."""
     if scheduler is None:
         return
     try:
         import dask  # noqa: F401
         import dask.array  # noqa: F401
     except ImportError:
-        raise FringeInputError(
-            "`--scheduler` needs dask: install the optional extra `fringe[cluster]`") from None
+        raise _scheduler_error("usable: dask is not installed (install the optional extra "
+                               "`fringe[cluster]`)", scheduler) from None
     if scheduler in _LOCAL_SCHEDULERS:
         return
     try:
         import dask.distributed  # noqa: F401
     except ImportError:
-        raise FringeInputError(must_be(
-            "--scheduler", "synchronous, threads, processes, or a scheduler address "
-            "(which needs the `distributed` package)", scheduler)) from None
+        raise _scheduler_error(_SCHEDULER_CHOICES, scheduler) from None
 
 
 def _dask_blocks(mags, grid, bounds, scheduler, dtype, parallel):
@@ -117,8 +130,8 @@ def _dask_blocks(mags, grid, bounds, scheduler, dtype, parallel):
         import dask
         import dask.array as da
     except ImportError:
-        raise FringeInputError(
-            "`--scheduler` needs dask: install the optional extra `fringe[cluster]`") from None
+        raise _scheduler_error("usable: dask is not installed (install the optional extra "
+                               "`fringe[cluster]`)", scheduler) from None
     chunks = tuple(b - a for a, b in bounds)
     idx = da.arange(grid.n_points, chunks=(chunks,), dtype=np.int64)
     arr = idx.map_blocks(block_field, magnets=mags, grid=grid, dtype=dtype,
@@ -130,13 +143,12 @@ def _dask_blocks(mags, grid, bounds, scheduler, dtype, parallel):
         try:
             from dask.distributed import Client
         except ImportError:
-            raise FringeInputError(must_be(
-                "--scheduler", "synchronous, threads, processes, or a scheduler address "
-                "(which needs the `distributed` package)", scheduler)) from None
+            raise _scheduler_error(_SCHEDULER_CHOICES, scheduler) from None
         try:
-            client = Client(scheduler, timeout="10s", set_as_default=False)
-        except OSError as e:
-            raise FringeInputError(f"`--scheduler` {scheduler!r}: cannot connect ({e})") from None
+            client = Client(scheduler, timeout=CONNECT_TIMEOUT, set_as_default=False)
+        except (OSError, ValueError, TypeError) as e:
+            raise _scheduler_error(f"the address of a running dask scheduler (cannot connect: "
+                                   f"{e})", scheduler) from None
         config = {"scheduler": client.get}
     try:
         with dask.config.set(**config):
@@ -204,8 +216,8 @@ def write_map(site, grid: Grid, path, *, block_points: int = DEFAULT_BLOCK_POINT
     path = Path(path)
     fmt = path.suffix.lower()
     if fmt not in MAP_FORMATS:
-        raise FringeInputError(must_be("--out", "a file name ending in " + " or ".join(MAP_FORMATS),
-                                       str(path)))
+        raise ArgumentError(must_be("path", "a file name ending in " + " or ".join(MAP_FORMATS),
+                                    str(path)), "path")
     dtype = np.dtype(dtype)
     if dtype not in (np.dtype(np.float32), np.dtype(np.float64)):
         raise FringeInputError(must_be("dtype", "float32 or float64", str(dtype)))
