@@ -157,7 +157,7 @@ def test_cli_exit_codes(tmp_path, capsys):
     out = tmp_path / "out"
     assert main(["report", ok, "--out", str(out), "--no-drawings", "--quiet"]) == 0
     text = capsys.readouterr().out
-    assert "no room or equipment exceeds" in text and ADVISORY_NOTICE in text
+    assert "verdict: nothing exceeds its limit (" in text and ADVISORY_NOTICE in text
     assert "reaches beyond the controlled rooms" not in text
     assert {"summary.json", "zones.geojson", "rooms.csv", "equipment.csv"} <= {
         p.name for p in out.iterdir()}
@@ -178,7 +178,8 @@ def test_boundary_spilling_into_unmapped_space_fails_the_floor(tmp_path, capsys)
     assert main(["report", spill, "--out", str(out), "--no-drawings", "--quiet"]) == 3
     text = capsys.readouterr().out
     assert "reaches beyond the controlled rooms on floor(s) ground" in text
-    assert "no room or equipment exceeds" in text
+    assert ("verdict: 1 item exceeds: 1 floor (ground: 0.5 mT line outside the controlled "
+            "rooms)") in text
     s = json.loads((out / "summary.json").read_text())
     fl = {f["name"]: f for f in s["floors"]}
     assert fl["ground"]["verdict"] == "exceeds" and fl["first"]["verdict"] == "within"

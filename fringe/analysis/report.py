@@ -17,6 +17,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from fringe.analysis.attraction import SiteAttraction, site_attraction
+from fringe.analysis.overall import OverallVerdict, overall_verdict
 from fringe.analysis.quench import budget_for_site
 from fringe.analysis.verdicts import (
     EquipmentCheck,
@@ -113,12 +114,14 @@ class ReportResult:
         spill = self.outside_controlled_m2.get(floor, 0.0)
         return Verdict.EXCEEDS if spill > SPILL_TOLERANCE_M2 else Verdict.WITHIN
 
+    def overall(self) -> OverallVerdict:
+        """Every verdict summed up (:func:`fringe.analysis.overall.overall_verdict`)."""
+        return overall_verdict(self)
+
     @property
     def exceeds(self) -> bool:
         """True when any room, equipment or floor verdict is ``exceeds``."""
-        return (any(r.verdict == Verdict.EXCEEDS for r in self.rooms)
-                or any(e.verdict == Verdict.EXCEEDS for e in self.equipment)
-                or any(self.floor_verdict(f) == Verdict.EXCEEDS for f in self.floor_maps))
+        return self.overall().exceeds
 
     def floor_footprint(self, floor: str, threshold_mT: float) -> Footprint | None:
         """The footprint of ``threshold_mT`` on ``floor`` (None if not computed)."""
