@@ -94,7 +94,8 @@ def test_summary_has_required_fields(result):
     assert d["tool"]["version"] and d["created_utc"].endswith("Z")
     m = d["magnets"][0]
     assert m["name"] == "m" and m["center_field_T"] > 0
-    assert [b["threshold_mT"] for b in m["boundaries"]] == [0.5, 1.0, 3.0]
+    # the equipment's 0.1 mT limit is drawn as a line too
+    assert [b["threshold_mT"] for b in m["boundaries"]] == [0.1, 0.5, 1.0, 3.0]
     b05 = m["boundaries"][0]
     assert b05["axial_extent_m"] > b05["radial_extent_m"] > 0
     fl = {f["name"]: f for f in d["floors"]}

@@ -238,7 +238,8 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     if quench:
         say("quench release budget done")
     rooms = check_rooms(site, plan.rooms, fmaps, fps, s.boundary)
-    equip = check_equipment(site, plan.equipment, plan.floor_of_point)
+    equip = check_equipment(site, plan.equipment, plan.floor_of_point, floors=plan.floors,
+                            step_m=step, band_step_m=s.band_step_m)
     say("room and equipment verdicts done")
     return ReportResult(site.name, site.source_file, plan, s.boundary, thr_mT, step, extent,
                         tuple(mags), fmaps, fps, outside, tuple(secs), rooms, equip, _now_utc(),

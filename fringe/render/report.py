@@ -215,7 +215,7 @@ def _plan_marks(r: ReportResult, name: str) -> tuple[list, list]:
                          c.access, c.verdict, c.max_field_T, c.limit_T)
              for c in r.rooms if c.floor == name]
     equip = [dr.EquipmentMark(e.name, (e.position_m[0], e.position_m[1]), e.field_T,
-                              e.limit_T, e.verdict)
+                              e.limit_T, e.verdict, e.outline)
              for e in r.equipment if e.floor == name]
     return rooms, equip
 
