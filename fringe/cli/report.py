@@ -88,7 +88,8 @@ def terminal_summary(result, out_dir: str | Path) -> str:
         lines.append("equipment:")
         for e in r.equipment:
             lines.append(f"  {e.name:<{w}}  {e.field_T * 1e3:10.4g} mT  limit "
-                         f"{e.limit_T * 1e3:g} mT  {e.verdict}")
+                         f"{e.limit_T * 1e3:g} mT  {e.verdict}"
+                         + ("  (largest over its volume)" if e.outline is not None else ""))
     for b in r.quench:
         below = [t["threshold"] for t in b.to_dict()["oxygen_thresholds"]
                  if t["worst_case"] == "falls below"]
