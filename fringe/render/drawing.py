@@ -981,7 +981,7 @@ def _draw_equipment(ax, renderer, equipment, occupied: list[Bbox], walls=None
                         "sensitive equipment: field there and its limit"))
     if any(getattr(e, "outline", None) is not None for e in equipment):
         entries.append((Line2D([], [], color=_INK, linewidth=1.2, linestyle="-."),
-                        "equipment volume: its outline; marker where its field is largest"))
+                        "equipment volume: its outline (the largest field over it is given)"))
     if any_exceeds:
         entries.append((Line2D([], [], marker="D", markerfacecolor=_INK,
                                 markeredgecolor=_INK, linestyle="none", markersize=7),
