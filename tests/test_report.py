@@ -94,7 +94,8 @@ def test_summary_has_required_fields(result):
     assert d["tool"]["version"] and d["created_utc"].endswith("Z")
     m = d["magnets"][0]
     assert m["name"] == "m" and m["center_field_T"] > 0
-    assert [b["threshold_mT"] for b in m["boundaries"]] == [0.5, 1.0, 3.0]
+    # the equipment's 0.1 mT limit is drawn as a line too
+    assert [b["threshold_mT"] for b in m["boundaries"]] == [0.1, 0.5, 1.0, 3.0]
     b05 = m["boundaries"][0]
     assert b05["axial_extent_m"] > b05["radial_extent_m"] > 0
     fl = {f["name"]: f for f in d["floors"]}
@@ -157,7 +158,7 @@ def test_cli_exit_codes(tmp_path, capsys):
     out = tmp_path / "out"
     assert main(["report", ok, "--out", str(out), "--no-drawings", "--quiet"]) == 0
     text = capsys.readouterr().out
-    assert "no room or equipment exceeds" in text and ADVISORY_NOTICE in text
+    assert "verdict: nothing exceeds its limit (" in text and ADVISORY_NOTICE in text
     assert "reaches beyond the controlled rooms" not in text
     assert {"summary.json", "zones.geojson", "rooms.csv", "equipment.csv"} <= {
         p.name for p in out.iterdir()}
@@ -178,7 +179,8 @@ def test_boundary_spilling_into_unmapped_space_fails_the_floor(tmp_path, capsys)
     assert main(["report", spill, "--out", str(out), "--no-drawings", "--quiet"]) == 3
     text = capsys.readouterr().out
     assert "reaches beyond the controlled rooms on floor(s) ground" in text
-    assert "no room or equipment exceeds" in text
+    assert ("verdict: 1 item exceeds: 1 floor (ground: 0.5 mT line outside the controlled "
+            "rooms)") in text
     s = json.loads((out / "summary.json").read_text())
     fl = {f["name"]: f for f in s["floors"]}
     assert fl["ground"]["verdict"] == "exceeds" and fl["first"]["verdict"] == "within"

@@ -69,7 +69,9 @@ limit_mT = 0.1
     assert plan.floor("ground").band_z_m == (0.0, 2.2)  # site-wide band
     assert plan.floor("first").band_z_m == (4.5, 5.8)  # per-floor band
     # the default boundary (0.5 mT) is always among the thresholds
-    assert plan.settings.thresholds_mT == (0.5, 1.0, 3.0)
+    assert site.plan.thresholds_mT == (0.5, 1.0, 3.0)
+    # ... and every equipment limit is drawn as a line (the CT gantry's 0.1 mT)
+    assert plan.settings.thresholds_mT == (0.1, 0.5, 1.0, 3.0)
     assert plan.settings.boundary.value_mT == BOUNDARY_CHOICES["icnirp-2009"][0]
     office = plan.rooms[1]
     assert office.access == "open" and office.limit_mT == 0.2

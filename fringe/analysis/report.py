@@ -18,6 +18,7 @@ import numpy as np
 
 from fringe.analysis.attraction import SiteAttraction, site_attraction
 from fringe.analysis.implants import SiteImplants, site_implants
+from fringe.analysis.overall import OverallVerdict, overall_verdict
 from fringe.analysis.quench import budget_for_site
 from fringe.analysis.verdicts import (
     EquipmentCheck,
@@ -117,12 +118,14 @@ class ReportResult:
         spill = self.outside_controlled_m2.get(floor, 0.0)
         return Verdict.EXCEEDS if spill > SPILL_TOLERANCE_M2 else Verdict.WITHIN
 
+    def overall(self) -> OverallVerdict:
+        """Every verdict summed up (:func:`fringe.analysis.overall.overall_verdict`)."""
+        return overall_verdict(self)
+
     @property
     def exceeds(self) -> bool:
         """True when any room, equipment or floor verdict is ``exceeds``."""
-        return (any(r.verdict == Verdict.EXCEEDS for r in self.rooms)
-                or any(e.verdict == Verdict.EXCEEDS for e in self.equipment)
-                or any(self.floor_verdict(f) == Verdict.EXCEEDS for f in self.floor_maps))
+        return self.overall().exceeds
 
     def floor_footprint(self, floor: str, threshold_mT: float) -> Footprint | None:
         """The footprint of ``threshold_mT`` on ``floor`` (None if not computed)."""
@@ -241,7 +244,8 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     if quench:
         say("quench release budget done")
     rooms = check_rooms(site, plan.rooms, fmaps, fps, s.boundary)
-    equip = check_equipment(site, plan.equipment, plan.floor_of_point)
+    equip = check_equipment(site, plan.equipment, plan.floor_of_point, floors=plan.floors,
+                            step_m=step, band_step_m=s.band_step_m)
     say("room and equipment verdicts done")
     return ReportResult(site.name, site.source_file, plan, s.boundary, thr_mT, step, extent,
                         tuple(mags), fmaps, fps, outside, tuple(secs), rooms, equip, _now_utc(),

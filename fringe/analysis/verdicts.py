@@ -8,7 +8,9 @@ Rules (``docs/zones.md``):
 * a ``controlled`` room may hold fields above the boundary: its verdict is
   ``controlled`` — unless it has its own ``limit_mT``, which is then checked as above;
 * an equipment point's verdict is ``exceeds`` when |B| at the point reaches its
-  ``limit_mT``, else ``within``.
+  ``limit_mT``, else ``within``; a volume of equipment (an outline on a floor, a
+  height) is checked with the largest |B| over the volume, sampled at the plan grid
+  step across the outline and its edge and at the band step up its height.
 
 "Reaches" means ≥: a field exactly at the limit is not within it.
 """
@@ -17,16 +19,24 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 import shapely
 
 from fringe.analysis.zones import FloorMap, Footprint, band_max_at_xy_T, field_magnitude_T
-from fringe.model.building import Boundary, Equipment, Room
+from fringe.model.building import Boundary, Equipment, Floor, Room
+from fringe.model.errors import ArgumentError, must_be
+from fringe.model.site import DEFAULT_BAND_STEP_M, DEFAULT_FLOOR, DEFAULT_GRID_STEP_M
 from fringe.model.verdict import Verdict
 
 __all__ = ["VERDICTS", "RoomCheck", "EquipmentCheck", "room_limit", "verdict",
-           "room_max_field", "check_rooms", "check_equipment", "boundary_outside_controlled_m2"]
+           "room_max_field", "check_rooms", "check_equipment", "boundary_outside_controlled_m2",
+           "volume_samples_m", "MAX_VOLUME_SAMPLES"]
+
+#: Most field points sampled in one equipment volume; a larger volume is sampled at a
+#: coarser plan step (keeps the check to a few seconds).
+MAX_VOLUME_SAMPLES: int = 400_000
 
 #: Every verdict, worst first.
 VERDICTS: tuple[Verdict, ...] = tuple(Verdict)
@@ -143,20 +153,27 @@ def check_rooms(site, rooms: Sequence[Room], floor_maps: Mapping[str, FloorMap],
 
 @dataclass(frozen=True)
 class EquipmentCheck:
-    """The verdict on one equipment point.
+    """The verdict on one piece of equipment (a point or a volume).
 
     Attributes
     ----------
     name : str
     position_m : (float, float, float)
+        The point; for a volume, where its largest |B| was found.
     floor : str
-        The floor it stands on (highest floor at or below it).
+        The floor it stands on (a point: the highest floor at or below it).
     field_T : float
-        |B| at the point, T.
+        |B| at the point, or the largest |B| over the volume, T.
     limit_T : float
     verdict : Verdict
         ``exceeds`` or ``within``.
     note : str
+    outline : shapely.Polygon or None
+        A volume's plan outline (None for a point).
+    height_m : float or None
+        A volume's height above its floor, m.
+    class_name : str or None
+        Its equipment class, if the scenario gave one.
     """
 
     name: str
@@ -166,24 +183,76 @@ class EquipmentCheck:
     limit_T: float
     verdict: Verdict
     note: str = ""
+    outline: Any = None
+    height_m: float | None = None
+    class_name: str | None = None
 
 
-def check_equipment(site, equipment: Sequence[Equipment], floor_of=None
-                    ) -> tuple[EquipmentCheck, ...]:
-    """|B| at each equipment point (direct evaluation) and its verdict.
+def volume_samples_m(outline, z_bottom_m: float, height_m: float, step_m: float,
+                     band_step_m: float) -> np.ndarray:
+    """Sample points (N, 3) of the prism ``outline`` × [z_bottom, z_bottom + height], m.
 
-    ``floor_of(z_m) -> Floor`` names the floor of each point (optional).
+    Plan points: the nodes of a grid of ``step_m`` inside the outline (aligned to its
+    bounds), points on its rings every ``step_m / 2`` and its vertices; heights: evenly
+    spaced levels at most ``band_step_m`` apart, both ends included. A step giving more
+    than :data:`MAX_VOLUME_SAMPLES` points is widened.
+    """
+    x0, y0, x1, y1 = outline.bounds
+    nz = max(2, int(np.ceil(height_m / band_step_m - 1e-9)) + 1)
+    area_nodes = (x1 - x0) * (y1 - y0) / step_m ** 2
+    if area_nodes * nz > MAX_VOLUME_SAMPLES:
+        step_m *= float(np.sqrt(area_nodes * nz / MAX_VOLUME_SAMPLES))
+    xs = np.arange(x0, x1 + 1e-9, step_m)
+    ys = np.arange(y0, y1 + 1e-9, step_m)
+    X, Y = np.meshgrid(xs, ys)
+    inside = shapely.contains_xy(outline, X, Y)
+    xy = np.concatenate([np.column_stack([X[inside], Y[inside]]),
+                         _ring_samples(outline, step_m / 2.0),
+                         shapely.get_coordinates(outline.exterior)])
+    z = np.linspace(z_bottom_m, z_bottom_m + height_m, nz)
+    return np.column_stack([np.tile(xy, (nz, 1)), np.repeat(z, len(xy))])
+
+
+def check_equipment(site, equipment: Sequence[Equipment], floor_of=None, *,
+                    floors: Sequence[Floor] = (), step_m: float = DEFAULT_GRID_STEP_M,
+                    band_step_m: float = DEFAULT_BAND_STEP_M) -> tuple[EquipmentCheck, ...]:
+    """|B| at each equipment point, or its largest over each volume, and the verdicts.
+
+    Parameters
+    ----------
+    site : Site, Magnet or magnets
+    equipment : sequence of Equipment
+    floor_of : callable, optional
+        ``floor_of(z_m) -> Floor`` names the floor of each point.
+    floors : sequence of Floor
+        The floors volumes stand on (empty: the default floor at level 0).
+    step_m, band_step_m : float
+        Plan and vertical sampling steps of volumes, m (the plan grid step and the band
+        step of the report).
     """
     if not equipment:
         return ()
-    pts = np.array([e.position_m for e in equipment], dtype=float)
-    b = field_magnitude_T(site, pts)
+    points = [e for e in equipment if e.outline is None]
+    b_pt = iter(field_magnitude_T(site, np.array([e.position_m for e in points], dtype=float))
+                if points else ())
+    by_name = {f.name: f for f in (floors or (DEFAULT_FLOOR,))}
     out = []
-    for e, bi in zip(equipment, b, strict=True):
+    for e in equipment:
         lim = e.limit_mT * 1e-3
-        fl = floor_of(e.position_m[2]).name if floor_of else ""
-        out.append(EquipmentCheck(e.name, tuple(e.position_m), fl, float(bi), lim,
-                                  verdict(float(bi), lim), e.note))
+        if e.outline is None:
+            bi, at = float(next(b_pt)), tuple(e.position_m)
+            fl = floor_of(e.position_m[2]).name if floor_of else ""
+        else:
+            if e.floor not in by_name:
+                raise ArgumentError(must_be("floors", f"to include floor {e.floor!r} of "
+                                            f"equipment {e.name!r}", tuple(by_name)), "floors")
+            pts = volume_samples_m(e.outline, by_name[e.floor].elevation_m, e.height_m,
+                                   step_m, band_step_m)
+            b = field_magnitude_T(site, pts)
+            k = int(np.nanargmax(b))
+            bi, at, fl = float(b[k]), tuple(float(v) for v in pts[k]), e.floor
+        out.append(EquipmentCheck(e.name, at, fl, bi, lim, verdict(bi, lim), e.note,
+                                  e.outline, e.height_m, e.class_name))
     return tuple(out)
 
 

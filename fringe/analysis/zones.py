@@ -103,8 +103,13 @@ def default_extent_m(magnets: Sequence[Magnet], rooms=(), equipment=(), threshol
         xs += [bx0, bx1]
         ys += [by0, by1]
     for e in equipment:
-        xs.append(e.position_m[0])
-        ys.append(e.position_m[1])
+        if getattr(e, "outline", None) is not None:  # a volume: its outline's corners
+            x0, y0, x1, y1 = e.outline.bounds
+            xs += [x0, x1]
+            ys += [y0, y1]
+        else:
+            xs.append(e.position_m[0])
+            ys.append(e.position_m[1])
     if not xs:
         raise FringeInputError("`site` must have a magnet, a room or equipment to size a plan")
     x0 = math.floor((min(xs) - margin_m) / step_m) * step_m

@@ -106,9 +106,11 @@ def equipment_effect(site, result) -> list[dict]:
     plan = site_plan(site)
     if not plan.equipment:
         return []
-    before = check_equipment(site, plan.equipment, plan.floor_of_point)
+    kw = {"floors": plan.floors, "step_m": plan.settings.grid_step_m,
+          "band_step_m": plan.settings.band_step_m}
+    before = check_equipment(site, plan.equipment, plan.floor_of_point, **kw)
     after = check_equipment(moved_site(site, result.magnet, result.best), plan.equipment,
-                            plan.floor_of_point)
+                            plan.floor_of_point, **kw)
     return [{"name": a.name, "floor": a.floor, "limit_mT": a.limit_T * 1e3,
              "before_mT": _r(a.field_T * 1e3, 5), "after_mT": _r(c.field_T * 1e3, 5),
              "before_verdict": a.verdict, "after_verdict": c.verdict}

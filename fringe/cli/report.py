@@ -7,7 +7,6 @@ from pathlib import Path
 from fringe.cli.progress import Progress
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
-from fringe.model.verdict import Verdict
 
 EXIT_OK, EXIT_EXCEEDS = 0, 3
 
@@ -33,6 +32,27 @@ def register(sub) -> None:
                    help="write only the JSON, GeoJSON and CSV outputs (faster)")
     p.add_argument("--quiet", action="store_true", help="no progress messages on stderr")
     p.set_defaults(func=run)
+
+
+def closing_verdict(result, *, fail: bool = True) -> tuple[str, int]:
+    """The closing verdict line and the exit code, both from one
+    :func:`fringe.analysis.overall.overall_verdict`.
+
+    Parameters
+    ----------
+    result : ReportResult
+    fail : bool
+        False for ``--no-fail``: exit 0 even when something exceeds.
+
+    Returns
+    -------
+    line : str
+        ``verdict: N items exceed: …`` or ``verdict: nothing exceeds its limit (…)``.
+    exit_code : int
+        :data:`EXIT_EXCEEDS` when anything exceeds and ``fail``, else :data:`EXIT_OK`.
+    """
+    v = result.overall()
+    return v.line(), (EXIT_EXCEEDS if v.exceeds and fail else EXIT_OK)
 
 
 def terminal_summary(result, out_dir: str | Path) -> str:
@@ -68,7 +88,8 @@ def terminal_summary(result, out_dir: str | Path) -> str:
         lines.append("equipment:")
         for e in r.equipment:
             lines.append(f"  {e.name:<{w}}  {e.field_T * 1e3:10.4g} mT  limit "
-                         f"{e.limit_T * 1e3:g} mT  {e.verdict}")
+                         f"{e.limit_T * 1e3:g} mT  {e.verdict}"
+                         + ("  (largest over its volume)" if e.outline is not None else ""))
     for b in r.quench:
         below = [t["threshold"] for t in b.to_dict()["oxygen_thresholds"]
                  if t["worst_case"] == "falls below"]
@@ -78,15 +99,12 @@ def terminal_summary(result, out_dir: str | Path) -> str:
                      + (f" — falls below {', '.join(below)} oxygen if the vent fails: the quench "
                         "vent and oxygen monitoring must be in place per local code and the "
                         "supplier" if below else ""))
-    n_ex = sum(c.verdict == Verdict.EXCEEDS for c in r.rooms) + sum(
-        e.verdict == Verdict.EXCEEDS for e in r.equipment)
-    spill = [f for f in r.floor_maps if r.floor_verdict(f) == Verdict.EXCEEDS]
+    spill = [i.name for i in r.overall().items if i.kind == "floor"]
     if spill:
         lines.append(f"the {r.boundary.value_mT:g} mT line reaches beyond the controlled rooms "
                      f"on floor(s) {', '.join(spill)}: extend the controlled access area or "
                      "change the layout")
-    lines.append(f"verdict: {n_ex} item(s) exceed their limit" if n_ex
-                 else "verdict: no room or equipment exceeds its limit")
+    lines.append(closing_verdict(r)[0])
     lines.append(f"outputs: {out_dir}")
     lines.append(ADVISORY_NOTICE)
     return "\n".join(lines)
@@ -119,6 +137,4 @@ def run(args) -> int:
     result = run_report(args.scenario, args.out, grid_step_m=args.grid_step_m,
                         drawings=not args.no_drawings, quiet=args.quiet)
     print(terminal_summary(result, args.out))
-    if result.exceeds and not args.no_fail:
-        return EXIT_EXCEEDS
-    return EXIT_OK
+    return closing_verdict(result, fail=not args.no_fail)[1]

@@ -125,7 +125,7 @@ def summary_dict(r: ReportResult) -> dict:
         "equipment": [{
             "name": e.name, "position_m": list(e.position_m), "floor": e.floor,
             "field_T": num(e.field_T), "limit_T": num(e.limit_T), "verdict": e.verdict,
-            "note": e.note,
+            "note": e.note, **_volume_keys(e),
         } for e in r.equipment],
         "quench": [b.to_dict() for b in r.quench],
         "attraction_criterion": None if att is None else {
@@ -192,15 +192,30 @@ def zones_geojson(r: ReportResult) -> dict:
                                      "access": c.access, "max_field_T": num(c.max_field_T),
                                      "limit_T": num(c.limit_T), "verdict": c.verdict}})
     for e in r.equipment:
-        feats.append({"type": "Feature",
-                      "geometry": {"type": "Point", "coordinates": list(e.position_m)},
-                      "properties": {"kind": "equipment", "name": e.name, "floor": e.floor,
-                                     "field_T": num(e.field_T), "limit_T": num(e.limit_T),
-                                     "verdict": e.verdict}})
+        geom = ({"type": "Point", "coordinates": list(e.position_m)} if e.outline is None
+                else geojson_geometry(e.outline))
+        props = {"kind": "equipment", "name": e.name, "floor": e.floor,
+                 "field_T": num(e.field_T), "limit_T": num(e.limit_T), "verdict": e.verdict}
+        if e.class_name is not None:
+            props["class"] = e.class_name
+        feats.append({"type": "Feature", "geometry": geom, "properties": props})
     return {"type": "FeatureCollection", "coordinate_frame": SITE_FRAME,
             "advisory": ADVISORY_NOTICE,
             "boundary": {"value_mT": r.boundary.value_mT, "source": r.boundary.source},
             "features": feats}
+
+
+def _volume_keys(e) -> dict:
+    """Extra keys of an equipment entry: ``class`` where given; for a volume its
+    ``outline_m`` ([x, y] points), ``height_m`` (``position_m`` is then where its
+    largest field is)."""
+    d: dict = {}
+    if e.class_name is not None:
+        d["class"] = e.class_name
+    if e.outline is not None:
+        d["outline_m"] = [[num(x, 6), num(y, 6)] for x, y in e.outline.exterior.coords]
+        d["height_m"] = e.height_m
+    return d
 
 
 def csv_text(rows: list[list]) -> str:
@@ -221,11 +236,13 @@ def rooms_csv(r: ReportResult) -> str:
 
 def equipment_csv(r: ReportResult) -> str:
     """The equipment verdict table as CSV (fields in mT)."""
+    classes = any(e.class_name is not None for e in r.equipment)
     rows = [["equipment", "floor", "x_m", "y_m", "z_m", "field_mT", "limit_mT", "verdict",
-             "note"]]
+             "note"] + (["class"] if classes else [])]
     for e in r.equipment:
         rows.append([e.name, e.floor, *(f"{v:g}" for v in e.position_m),
-                     f"{e.field_T * 1e3:.4g}", f"{e.limit_T * 1e3:g}", e.verdict, e.note])
+                     f"{e.field_T * 1e3:.4g}", f"{e.limit_T * 1e3:g}", e.verdict, e.note]
+                    + ([e.class_name or ""] if classes else []))
     return csv_text(rows)
 
 

@@ -183,7 +183,7 @@ def parse_site(data: dict, file: str | Path = "<scenario>") -> Site:
     plan = parse_plan(root)
     floors = parse_floors(root, plan)
     rooms, drawings = parse_rooms(root, Path(file), floors, ROOM_LOADERS)
-    equipment = parse_equipment(root)
+    equipment = parse_equipment(root, floors)
     quench = parse_quench_section(root, mags)
     implants = parse_implant_conditions(root)
     root.finish()

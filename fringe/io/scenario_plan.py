@@ -29,6 +29,7 @@ from fringe.model.building import (
     Room,
 )
 from fringe.model.constants import DEFAULT_GRADIENT_LINES_T_PER_M, DEFAULT_THRESHOLDS_MT
+from fringe.model.equipment_classes import EQUIPMENT_CLASSES
 from fringe.model.errors import FringeWarning, ScenarioError, must_be
 from fringe.model.site import (
     DEFAULT_BAND_M,
@@ -403,16 +404,46 @@ def parse_rooms(root: Reader, file: Path, floors: tuple[Floor, ...],
 
 # -- [[equipment]] --------------------------------------------------------------------
 
-def parse_equipment(root: Reader) -> tuple[Equipment, ...]:
-    """Parse ``[[equipment]]`` tables: ``name``, ``position_m``, ``limit_mT``, ``note``."""
+def parse_equipment(root: Reader, floors: tuple[Floor, ...] = ()) -> tuple[Equipment, ...]:
+    """Parse ``[[equipment]]`` tables (see docs/scenario.md).
+
+    Keys: ``name``; exactly one of ``position_m`` (a point) or ``outline_m`` (a volume,
+    with ``floor`` and ``height_m``); ``limit_mT`` and/or ``class`` (a key of
+    :data:`fringe.model.equipment_classes.EQUIPMENT_CLASSES`; an explicit ``limit_mT``
+    overrides the class's); optional ``note``. ``floors`` are the declared floors (empty:
+    only the implied :data:`DEFAULT_FLOOR`).
+    """
+    floor_names = tuple(f.name for f in floors) or (DEFAULT_FLOOR.name,)
     out: list[Equipment] = []
     for er in root.tables("equipment"):
         name = er.string("name")
         if any(e.name == name for e in out):
             er.fail(er.key("name"), "unique among equipment", name)
-        pos = er.vector("position_m", 3)
-        limit = er.number("limit_mT", low=0.0, low_open=True)
+        has_pos, has_outline = er.has("position_m"), er.has("outline_m")
+        if has_pos == has_outline:
+            er.fail(er.key("position_m"), f"given for equipment {name!r} exactly when "
+                    f"`{er.key('outline_m')}` is not (a point or a volume, one of the two)",
+                    er.raw("position_m", None))
+        pos = outline = floor = height = None
+        if has_pos:
+            pos = er.vector("position_m", 3)
+            for k in ("floor", "height_m"):
+                if er.has(k):
+                    er.fail(er.key(k), f"given only with `{er.key('outline_m')}` (equipment "
+                            f"{name!r} is a point at `{er.key('position_m')}`)", er.raw(k))
+        else:
+            outline = outline_polygon(er.raw("outline_m"), [], er.key("outline_m"), er.file)
+            floor = er.string("floor", floor_names[0] if not floors else ...)
+            if floor not in floor_names:
+                er.fail(er.key("floor"), f"one of the floors "
+                        f"{', '.join(map(repr, floor_names))}", floor)
+            height = er.number("height_m", low=0.0, low_open=True)
+        cls = er.string("class", None, choices=tuple(EQUIPMENT_CLASSES))
+        if cls is None or er.has("limit_mT"):
+            limit = er.number("limit_mT", low=0.0, low_open=True)
+        else:
+            limit = EQUIPMENT_CLASSES[cls].limit_mT
         note = er.string("note", "", nonempty=False)
         er.finish()
-        out.append(Equipment(name, pos, limit, note))
+        out.append(Equipment(name, pos, limit, note, outline, floor, height, cls))
     return tuple(out)

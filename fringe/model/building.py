@@ -57,16 +57,42 @@ class Room:
 
 @dataclass(frozen=True)
 class Equipment:
-    """A piece of field-sensitive equipment at a point.
+    """A piece of field-sensitive equipment: a point, or a volume (a prism on a floor).
 
-    ``limit_mT`` is the largest static field it tolerates; typical values are common
-    practice from supplier data, no single published source.
+    ``limit_mT`` is the largest static field it tolerates (from its ``class`` in
+    :data:`fringe.model.equipment_classes.EQUIPMENT_CLASSES` unless given); typical values
+    are common practice from supplier data.
+
+    Parameters
+    ----------
+    name : str
+    position_m : (float, float, float) or None
+        A point in the site frame, m; None for a volume.
+    limit_mT : float
+    note : str
+    outline : shapely.Polygon or None
+        Plan outline of a volume in site x-y metres (None for a point).
+    floor : str or None
+        The floor a volume stands on.
+    height_m : float or None
+        Height of a volume above its floor's level, m.
+    class_name : str or None
+        Its equipment class (a key of ``EQUIPMENT_CLASSES``), if given.
     """
 
     name: str
-    position_m: tuple[float, float, float]
+    position_m: tuple[float, float, float] | None
     limit_mT: float
     note: str = ""
+    outline: Any = None  # shapely.Polygon
+    floor: str | None = None
+    height_m: float | None = None
+    class_name: str | None = None
+
+    @property
+    def is_volume(self) -> bool:
+        """True for a volume (``outline`` given), False for a point."""
+        return self.outline is not None
 
 
 @dataclass(frozen=True)

@@ -20,10 +20,12 @@ STANDARD_GRAVITY_M_PER_S2: float = 9.80665
 STANDARD_ATMOSPHERE_PA: float = 101325.0
 
 #: Default field thresholds drawn on plans, in mT. 0.5 mT: controlled access area
-#: (ICNIRP 2009 static-field guidelines; IEC 60601-2-33). 1 and 3 mT: common
-#: practice for sensitive equipment and loose ferromagnetic objects, no source.
-#: 10, 40 and 200 mT: common practice, no source.
-DEFAULT_THRESHOLDS_MT: tuple[float, ...] = (0.5, 1.0, 3.0, 10.0, 40.0, 200.0)
+#: (ICNIRP 2009 static-field guidelines; IEC 60601-2-33). 0.1, 1 and 3 mT: common
+#: practice for sensitive equipment (gamma cameras, image intensifiers, electron
+#: microscopes at 0.1 mT) and loose ferromagnetic objects, no source.
+#: 10, 40 and 200 mT: common practice, no source. Every equipment limit of a scenario
+#: is drawn as a line too (:func:`fringe.model.site.site_plan`).
+DEFAULT_THRESHOLDS_MT: tuple[float, ...] = (0.1, 0.5, 1.0, 3.0, 10.0, 40.0, 200.0)
 
 #: Lines of the spatial field gradient |∇|B|| drawn on the implant sheets, T/m: values
 #: implant labels commonly state (common practice, no source).

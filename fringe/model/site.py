@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Iterable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 from fringe.model.building import BOUNDARY_CHOICES, Boundary, Equipment, Floor, Room
 from fringe.model.constants import DEFAULT_GRADIENT_LINES_T_PER_M, DEFAULT_THRESHOLDS_MT
@@ -235,8 +235,17 @@ class SitePlan:
 
 
 def site_plan(site: Site) -> SitePlan:
-    """Gather the building of ``site`` (the default floor when none is declared)."""
+    """Gather the building of ``site`` (the default floor when none is declared).
+
+    The plan's thresholds gain every equipment ``limit_mT`` not already among them.
+    """
     settings = site.plan
+    limits = [e.limit_mT for e in site.equipment]
+    if limits:  # every equipment limit is drawn as a line
+        th = settings.thresholds_mT
+        for v in limits:
+            th = with_boundary(th, v)
+        settings = replace(settings, thresholds_mT=th)
     floors = site.floors
     declared = bool(floors)
     if not floors:

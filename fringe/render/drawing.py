@@ -129,6 +129,9 @@ class EquipmentMark:
         Its tolerance, T (printed in mT).
     verdict : str or None
         Free text; ``"exceeds"`` is drawn with a filled marker and upper-case text.
+    outline : shapely.Polygon or None
+        The plan outline of a volume of equipment, drawn dash-dotted (hatched when it
+        exceeds); the marker stands at ``xy_m`` (e.g. where its largest field is).
     """
 
     name: str
@@ -136,6 +139,7 @@ class EquipmentMark:
     field_T: float | None = None
     limit_T: float | None = None
     verdict: str | None = None
+    outline: Any = None
 
 
 @dataclass(frozen=True)
@@ -960,6 +964,21 @@ _OFFSETS_PT = [(d * cx, d * cy) for d in (9, 18, 30, 44)
                               (0, 1.2), (0, -1.2))]
 
 
+def _equipment_label(e: EquipmentMark, exceeds: bool) -> str:
+    """Name, then field, limit and verdict of an equipment mark."""
+    parts = []
+    if e.field_T is not None:
+        parts.append(f"{format_value(e.field_T * 1e3)} mT")
+    if e.limit_T is not None:
+        parts.append(f"limit {format_value(e.limit_T * 1e3)} mT")
+    line2 = ", ".join(parts)
+    if exceeds:
+        line2 = (line2 + ": " if line2 else "") + "EXCEEDS"
+    elif e.verdict:
+        line2 = (line2 + ": " if line2 else "") + str(e.verdict)
+    return e.name + ("\n" + line2 if line2 else "")
+
+
 def _draw_equipment(ax, renderer, equipment, occupied: list[Bbox], walls=None
                     ) -> tuple[list, list]:
     """Equipment markers with labels placed by a greedy search over offsets.
@@ -983,20 +1002,15 @@ def _draw_equipment(ax, renderer, equipment, occupied: list[Bbox], walls=None
                                            "two finite coordinates in metres", e.xy_m))
         exceeds = (e.verdict or "").lower() == Verdict.EXCEEDS
         any_exceeds |= exceeds
+        if e.outline is not None:
+            ax.add_patch(PathPatch(_polygon_path(e.outline), facecolor="none",
+                                   edgecolor=_INK, linewidth=1.2, linestyle="-.",
+                                   hatch="////" if exceeds else None, zorder=8.5,
+                                   gid="equipment-outline"))
         ax.plot([xy[0]], [xy[1]], marker="D", markersize=7 if exceeds else 6,
                 markerfacecolor=_INK if exceeds else "white", markeredgecolor=_INK,
                 markeredgewidth=1.4, linestyle="none", zorder=9)
-        parts = []
-        if e.field_T is not None:
-            parts.append(f"{format_value(e.field_T * 1e3)} mT")
-        if e.limit_T is not None:
-            parts.append(f"limit {format_value(e.limit_T * 1e3)} mT")
-        line2 = ", ".join(parts)
-        if exceeds:
-            line2 = (line2 + ": " if line2 else "") + "EXCEEDS"
-        elif e.verdict:
-            line2 = (line2 + ": " if line2 else "") + str(e.verdict)
-        text = e.name + ("\n" + line2 if line2 else "")
+        text = _equipment_label(e, exceeds)
         best = None
         for dx, dy in _OFFSETS_PT:
             ha = "left" if dx > 0 else ("right" if dx < 0 else "center")
@@ -1031,6 +1045,9 @@ def _draw_equipment(ax, renderer, equipment, occupied: list[Bbox], walls=None
         entries.append((Line2D([], [], marker="D", markerfacecolor="white",
                                 markeredgecolor=_INK, linestyle="none", markersize=6),
                         "sensitive equipment: field there and its limit"))
+    if any(getattr(e, "outline", None) is not None for e in equipment):
+        entries.append((Line2D([], [], color=_INK, linewidth=1.2, linestyle="-."),
+                        "equipment volume: its outline (the largest field over it is given)"))
     if any_exceeds:
         entries.append((Line2D([], [], marker="D", markerfacecolor=_INK,
                                 markeredgecolor=_INK, linestyle="none", markersize=7),

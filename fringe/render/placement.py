@@ -97,10 +97,12 @@ def placement_sheet(site, result, equipment: list[dict]):
              for room in plan.rooms if room.floor == fl.name]
     eq = []
     for e, info in zip(plan.equipment, equipment, strict=False):
-        if plan.floor_of_point(e.position_m[2]).name == fl.name:
-            eq.append(dr.EquipmentMark(e.name, (e.position_m[0], e.position_m[1]),
-                                       info["after_mT"] * 1e-3, e.limit_mT * 1e-3,
-                                       info["after_verdict"]))
+        floor = e.floor if e.is_volume else plan.floor_of_point(e.position_m[2]).name
+        if floor == fl.name:
+            xy = ((e.outline.representative_point().x, e.outline.representative_point().y)
+                  if e.is_volume else (e.position_m[0], e.position_m[1]))
+            eq.append(dr.EquipmentMark(e.name, xy, info["after_mT"] * 1e-3,
+                                       e.limit_mT * 1e-3, info["after_verdict"], e.outline))
     overlays = []
     allowed = result.allowed.get(best.angle_deg)
     if allowed is not None and not allowed.is_empty:

@@ -178,7 +178,12 @@ def _cover_findings(r: ReportResult) -> list[str]:
     """The findings of the cover sheet (shortened to one sheet; the tables list all)."""
     from fringe.render import drawing as dr
 
-    findings = []
+    v = r.overall()
+    body = v.line().removeprefix("verdict: ")
+    # the cover sets lines with the word "exceeds" first and bold: only when something does
+    findings = [f"Overall verdict: exceeds — {body}" if v.exceeds else
+                "Overall verdict: within — " + body.replace("nothing exceeds its limit",
+                                                             "nothing reaches its limit")]
     for fl, area in r.outside_controlled_m2.items():
         if area > 0.005:
             findings.append(f"{fl} floor: {area:.2f} m² of the {r.boundary.value_mT:g} mT "
@@ -188,12 +193,13 @@ def _cover_findings(r: ReportResult) -> list[str]:
         findings.append(f"Room {c.name} ({c.floor} floor): largest field "
                         f"{dr.format_value(c.max_field_T * 1e3)} mT{lim}: {c.verdict}")
     for e in r.equipment:
+        where = "position" if e.outline is None else "volume, largest"
         findings.append(f"Equipment {e.name}: {dr.format_value(e.field_T * 1e3)} mT at its "
-                        f"position (limit {e.limit_T * 1e3:g} mT): {e.verdict}")
-    findings = implant_findings(r.implants) + findings
+                        f"{where} (limit {e.limit_T * 1e3:g} mT): {e.verdict}")
+    findings[1:1] = implant_findings(r.implants)  # after the overall verdict
     if len(findings) > 24:  # keep the cover to one sheet; the tables list everything
         keep = [f for f in findings if Verdict.EXCEEDS in f or "outside the controlled" in f
-                or f.startswith("Implant condition")]
+                or f.startswith(("Overall verdict:", "Implant condition"))]
         findings = keep[:22] + [f"{len(findings) - len(keep[:22])} further finding(s) "
                                 "within limits or in controlled rooms: see the tables"]
     return findings
@@ -218,7 +224,7 @@ def _plan_marks(r: ReportResult, name: str) -> tuple[list, list]:
                          c.access, c.verdict, c.max_field_T, c.limit_T)
              for c in r.rooms if c.floor == name]
     equip = [dr.EquipmentMark(e.name, (e.position_m[0], e.position_m[1]), e.field_T,
-                              e.limit_T, e.verdict)
+                              e.limit_T, e.verdict, e.outline)
              for e in r.equipment if e.floor == name]
     return rooms, equip
 
