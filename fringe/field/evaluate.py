@@ -31,7 +31,7 @@ from fringe.model.errors import FringeInputError
 from fringe.model.magnet import Magnet
 
 __all__ = ["field_at", "field_gradient_at", "field_at_magpylib",
-           "energy_density_J_per_m3", "points_in_windings", "as_magnets", "as_points",
+           "energy_density_J_per_m3", "points_in_windings", "points_in_envelopes", "as_magnets", "as_points",
            "coordinate_range_problem", "METHODS"]
 
 #: Evaluation methods accepted by :func:`field_at` (one list, checked everywhere).
@@ -269,3 +269,18 @@ def points_in_windings(site, points_m, margin_m: float = 0.0) -> np.ndarray:
     return mask
 
 
+
+
+def points_in_envelopes(site, points_m, margin_m: float = 0.0) -> np.ndarray:
+    """Boolean mask (N,) of points inside (or within margin of) any magnet's cryostat
+    envelope (:attr:`fringe.model.magnet.Magnet.envelope`): where nobody can be.
+
+    The bore and the space beyond the envelope's ends are outside. Room, floor and
+    equipment maxima and the attraction zone leave these points out; the field engine
+    keeps using :func:`points_in_windings` where it needs the windings themselves.
+    """
+    p = as_points(points_m)
+    mask = np.zeros(len(p), dtype=bool)
+    for m in as_magnets(site):
+        mask |= m.in_envelope(p, margin_m)
+    return mask
