@@ -19,7 +19,7 @@ import numpy as np
 from scipy.spatial.transform import Rotation
 
 __all__ = ["Coil", "Envelope", "Magnet", "default_envelope",
-           "ENVELOPE_MARGIN_OUTER_M", "ENVELOPE_MARGIN_INNER_M"]
+           "ENVELOPE_MARGIN_OUTER_M", "ENVELOPE_MARGIN_INNER_M", "ENVELOPE_INNER_FRACTION"]
 
 #: Margin in m by which the default cryostat envelope extends beyond the windings'
 #: outer radius and beyond both their axial ends (common practice, no source: the
@@ -27,10 +27,15 @@ __all__ = ["Coil", "Envelope", "Magnet", "default_envelope",
 #: take some centimetres to a few decimetres around the windings).
 ENVELOPE_MARGIN_OUTER_M: float = 0.10
 
-#: Margin in m by which the default envelope reaches inside the windings' inner radius
-#: (never below 0): the bore tube, shields and vacuum space between the windings and the
-#: warm bore (common practice, no source).
-ENVELOPE_MARGIN_INNER_M: float = 0.05
+#: Largest margin in m by which the default envelope reaches inside the windings' inner
+#: radius: the bore tube, shields and vacuum space between the windings and the warm
+#: bore of a whole-body magnet (common practice, no source; the families of
+#: :mod:`fringe.physics.families` assume 0.16 m whole-body, 0.025 m laboratory).
+ENVELOPE_MARGIN_INNER_M: float = 0.15
+
+#: The inner margin is at most this fraction of the windings' inner radius, so a small
+#: laboratory bore stays open (0.05 m windings: 0.025 m warm-bore radius).
+ENVELOPE_INNER_FRACTION: float = 0.5
 
 
 @dataclass(frozen=True)
@@ -147,10 +152,12 @@ class Envelope:
 
 def default_envelope(coils) -> Envelope:
     """The envelope assumed when none is given: the windings' bounding annulus grown by
-    :data:`ENVELOPE_MARGIN_OUTER_M` outward and axially, and by
-    :data:`ENVELOPE_MARGIN_INNER_M` into the bore (never below radius 0)."""
+    :data:`ENVELOPE_MARGIN_OUTER_M` outward and axially, and into the bore by the smaller
+    of :data:`ENVELOPE_MARGIN_INNER_M` and :data:`ENVELOPE_INNER_FRACTION` of the inner
+    radius (so never below radius 0; windings reaching the axis leave no bore)."""
     coils = tuple(coils)
-    return Envelope(max(0.0, min(c.r_inner_m for c in coils) - ENVELOPE_MARGIN_INNER_M),
+    ri = min(c.r_inner_m for c in coils)
+    return Envelope(ri - min(ENVELOPE_MARGIN_INNER_M, ENVELOPE_INNER_FRACTION * ri),
                     max(c.r_outer_m for c in coils) + ENVELOPE_MARGIN_OUTER_M,
                     min(c.z_min_m for c in coils) - ENVELOPE_MARGIN_OUTER_M,
                     max(c.z_max_m for c in coils) + ENVELOPE_MARGIN_OUTER_M)
