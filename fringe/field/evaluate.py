@@ -31,7 +31,8 @@ from fringe.model.errors import FringeInputError
 from fringe.model.magnet import Magnet
 
 __all__ = ["field_at", "field_gradient_at", "field_at_magpylib",
-           "energy_density_J_per_m3", "points_in_windings", "points_in_envelopes", "as_magnets", "as_points",
+           "energy_density_J_per_m3", "points_in_windings", "points_in_envelopes",
+           "as_magnets", "as_points",
            "coordinate_range_problem", "METHODS"]
 
 #: Evaluation methods accepted by :func:`field_at` (one list, checked everywhere).

@@ -38,8 +38,8 @@ from fringe.io.scenario_quench import SECTION_KEY as QUENCH_KEY
 from fringe.io.scenario_quench import parse_quench_section
 from fringe.model.constants import MAX_COORDINATE_M
 from fringe.model.errors import FringeWarning, ScenarioError
-from fringe.model.overlap import OVERLAP_TOLERANCE_M, intersecting_magnets, overlapping_coils
 from fringe.model.magnet import Coil, Envelope, Magnet
+from fringe.model.overlap import OVERLAP_TOLERANCE_M, intersecting_magnets, overlapping_coils
 from fringe.model.site import Site
 
 __all__ = ["load_site", "parse_site", "TOP_LEVEL_KEYS", "MAGNET_BUILDERS", "ROOM_LOADERS"]

@@ -842,6 +842,18 @@ def _draw_magnets(ax, magnets, *, section: bool = False) -> tuple[list, list]:
     return texts, entries
 
 
+def _magnet_boxes(ax, magnets) -> list[Bbox]:
+    """Display boxes of drawn magnets (their envelopes where given), for label avoidance."""
+    boxes = []
+    for m in magnets:
+        poly = m.polygon if isinstance(m, MagnetOutline) else m[1]
+        if isinstance(m, MagnetOutline) and m.envelope is not None and not m.envelope.is_empty:
+            poly = m.envelope  # it holds the windings
+        x0_, y0_, x1_, y1_ = poly.bounds
+        boxes.append(Bbox(ax.transData.transform([(x0_, y0_), (x1_, y1_)])))
+    return boxes
+
+
 def _draw_overlays(ax, overlays) -> list:
     entries = []
     for i, ov in enumerate(overlays):
@@ -1367,12 +1379,7 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
         entries.append((Patch(facecolor="0.55", alpha=0.16, edgecolor="none"),
                         "occupied band of a floor"))
     _texts, wentries = _draw_magnets(ax, windings, section=True)
-    for m in windings:
-        poly = m.polygon if isinstance(m, MagnetOutline) else m[1]
-        if isinstance(m, MagnetOutline) and m.envelope is not None and not m.envelope.is_empty:
-            poly = m.envelope  # it holds the windings
-        x0_, y0_, x1_, y1_ = poly.bounds
-        occupied.append(Bbox(ax.transData.transform([(x0_, y0_), (x1_, y1_)])))
+    occupied += _magnet_boxes(ax, windings)
     entries += wentries
     # exposure lines
     sources: list[str] = []
