@@ -38,6 +38,7 @@ from fringe.model.constants import VERSION as __version__
 #: Public names → the module that defines them (one list, read by ``__all__``).
 _PUBLIC: dict[str, str] = {
     "Coil": "fringe.model.magnet", "Magnet": "fringe.model.magnet",
+    "Envelope": "fringe.model.magnet",
     "Site": "fringe.model.site",
     "ADVISORY_NOTICE": "fringe.model.constants",
     "FringeError": "fringe.model.errors", "ScenarioError": "fringe.model.errors",

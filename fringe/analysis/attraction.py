@@ -14,7 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from fringe.analysis.zones import superlevel_polygons
-from fringe.field.evaluate import as_magnets
+from fringe.field.evaluate import as_magnets, points_in_envelopes
 from fringe.model.errors import FringeInputError
 from fringe.physics.attraction import (
     DEFAULT_MATERIAL,
@@ -41,7 +41,7 @@ class AttractionMap:
 
     ``ratio`` and ``force_product_T2_per_m`` are the largest values over the sampled
     levels (plan maps) or the values in the plane (section maps). ``ratio`` is NaN
-    inside windings and 0 beyond each magnet's
+    inside windings and cryostat envelopes and 0 beyond each magnet's
     :func:`fringe.physics.attraction.attraction_reach_m` (not evaluated there, where the
     other arrays are NaN). Contour ``ratio`` at 1 to get the
     zone outline (e.g. :func:`fringe.analysis.zones.superlevel_polygons`).
@@ -57,17 +57,23 @@ class AttractionMap:
 
 def _screened(site, pts: np.ndarray, obj, mat, step_m: float, screen: bool) -> AttractionSample:
     """:func:`fringe.physics.attraction.attraction_at` on points within reach of a magnet
-    (all points if not screen)."""
+    (all points if not screen); points inside a cryostat envelope are not evaluated (NaN:
+    nobody can hold an object there)."""
     shape = pts.shape[:-1]
     flat = pts.reshape(-1, 3)
-    if not screen:
-        return attraction_at(site, pts, obj, mat, step_m=step_m)
-    near = np.zeros(len(flat), dtype=bool)
-    for m in as_magnets(site):
-        r = attraction_reach_m(m, obj, mat)
-        near |= np.linalg.norm(flat - np.asarray(m.center_m), axis=1) <= r
+    mags = as_magnets(site)
+    enclosed = points_in_envelopes(mags, flat)
+    near = ~enclosed
+    if screen:
+        reach = np.zeros(len(flat), dtype=bool)
+        for m in mags:
+            r = attraction_reach_m(m, obj, mat)
+            reach |= np.linalg.norm(flat - np.asarray(m.center_m), axis=1) <= r
+        near &= reach
     out = [np.full(len(flat), np.nan) for _ in range(4)]
-    out[3][:] = 0.0
+    if screen:
+        out[3][:] = 0.0
+    out[3][enclosed] = np.nan
     if near.any():
         a = attraction_at(site, flat[near], obj, mat, step_m=step_m)
         for arr, val in zip(out, (a.field_T, a.gradient_T_per_m, a.force_product_T2_per_m,
@@ -163,8 +169,9 @@ def zone_geometry(amap: AttractionMap):
     """The zone (pull ≥ weight) of a map as a shapely (Multi)Polygon in the map's (u, v) m.
 
     Contoured at ratio 1 by :func:`fringe.analysis.zones.superlevel_polygons` (marching squares,
-    holes kept). Nodes inside windings (NaN) count as inside the zone, so the zone is
-    drawn across the cryostat rather than with holes at the coils (conservative).
+    holes kept). Nodes inside cryostat envelopes or windings (NaN) count as inside the
+    zone, so the zone is drawn across the cryostat rather than with holes at the coils
+    (conservative).
     """
     r = np.where(np.isnan(amap.ratio), np.inf, amap.ratio)
     return superlevel_polygons(amap.u_m, amap.v_m, np.minimum(r, 1e6), 1.0)

@@ -11,7 +11,8 @@ from collections.abc import Sequence
 import numpy as np
 from shapely.geometry import Polygon, box
 
-__all__ = ["footprint_rectangle", "magnet_plan_outline", "section_windings"]
+__all__ = ["footprint_rectangle", "magnet_plan_outline", "section_windings",
+           "envelope_plan_outline", "section_envelope"]
 
 
 def footprint_rectangle(center_xy_m: Sequence[float], axis_xy: Sequence[float],
@@ -54,6 +55,18 @@ def magnet_plan_outline(magnet) -> Polygon:
     z0 = min(c.z_min_m for c in magnet.coils)
     z1 = max(c.z_max_m for c in magnet.coils)
     ro = max(c.r_outer_m for c in magnet.coils)
+    return _cylinder_plan_outline(magnet, z0, z1, ro)
+
+
+def envelope_plan_outline(magnet) -> Polygon:
+    """Plan footprint (shapely Polygon, m) of a magnet's cryostat envelope
+    (:attr:`fringe.model.magnet.Magnet.envelope`), drawn like
+    :func:`magnet_plan_outline`: the rectangle of its plan projection."""
+    e = magnet.envelope
+    return _cylinder_plan_outline(magnet, e.z_min_m, e.z_max_m, e.r_outer_m)
+
+
+def _cylinder_plan_outline(magnet, z0: float, z1: float, ro: float) -> Polygon:
     a = np.asarray(magnet.axis)
     mid = np.asarray(magnet.center_m) + a * (z0 + z1) / 2.0
     horiz = float(np.hypot(a[0], a[1]))
@@ -90,3 +103,23 @@ def section_windings(magnet, sec, step_m: float = 0.01):
         inside = inside.reshape(S.shape)
         projected = True
     return superlevel_polygons(s, z, inside.astype(float), 0.5), projected
+
+
+def section_envelope(magnet, sec, step_m: float = 0.01):
+    """The cryostat envelope of ``magnet`` cut by the vertical plane of ``sec`` through
+    the magnet centre, in its (s, z) coordinates (shapely geometry, m; the bore open).
+
+    ``sec`` needs only ``unit`` (see :func:`section_windings`). Traced on a ``step_m``
+    grid; empty if the plane misses the envelope.
+    """
+    from fringe.analysis.zones import superlevel_polygons
+
+    r = magnet.envelope.enclosing_radius_m + 2 * step_m
+    s = np.arange(-r, r + step_m / 2, step_m)
+    z = magnet.center_m[2] + s
+    S, Z = np.meshgrid(s, z)
+    c = np.asarray(magnet.center_m)
+    pts = np.column_stack([c[0] + S.ravel() * sec.unit[0], c[1] + S.ravel() * sec.unit[1],
+                           Z.ravel()])
+    inside = magnet.in_envelope(pts).reshape(S.shape)
+    return superlevel_polygons(s, z, inside.astype(float), 0.5)

@@ -28,11 +28,6 @@ __all__ = ["DEFAULT_GRADIENT_LEVELS_T_PER_M", "ImplantMap", "AccessibleMaximum",
 #: gradient_lines_T_per_m`` overrides it).
 DEFAULT_GRADIENT_LEVELS_T_PER_M: tuple[float, ...] = DEFAULT_GRADIENT_LINES_T_PER_M
 
-#: Margin of the default cryostat envelope around the windings, m (common practice, no
-#: source: cryostat wall, vacuum space and thermal shields). Used only when the model
-#: gives no envelope.
-_DEFAULT_ENVELOPE_MARGIN_M = 0.10
-
 #: Grid cells per half-width of an implant map.
 _CELLS_PER_HALF_WIDTH = 120
 
@@ -42,20 +37,12 @@ _SURFACE_SAMPLES = 400
 
 
 def envelope_rz(magnet: Magnet) -> tuple[float, float, float, float]:
-    """The cryostat envelope ``(r_inner_m, r_outer_m, z_min_m, z_max_m)`` in the magnet frame.
-
-    The magnet's own envelope where the model has one; otherwise the windings' bounding
-    annulus grown by :data:`_DEFAULT_ENVELOPE_MARGIN_M` outward and axially, with the
-    inner radius shrunk by half that (the bore stays open).
-    """
-    env = getattr(magnet, "envelope", None)
-    if env is not None:
-        return (float(env.r_inner_m), float(env.r_outer_m), float(env.z_min_m),
-                float(env.z_max_m))
-    c = magnet.coils
-    g = _DEFAULT_ENVELOPE_MARGIN_M
-    return (max(min(x.r_inner_m for x in c) - g / 2, 0.0), max(x.r_outer_m for x in c) + g,
-            min(x.z_min_m for x in c) - g, max(x.z_max_m for x in c) + g)
+    """The cryostat envelope ``(r_inner_m, r_outer_m, z_min_m, z_max_m)`` in the magnet frame
+    (:attr:`fringe.model.magnet.Magnet.envelope`: the one given, or the default grown from
+    the windings)."""
+    env = magnet.envelope
+    return (float(env.r_inner_m), float(env.r_outer_m), float(env.z_min_m),
+            float(env.z_max_m))
 
 
 def _frame(magnet: Magnet) -> tuple[np.ndarray, np.ndarray]:

@@ -26,7 +26,7 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
-from fringe.field.evaluate import as_magnets, field_at, points_in_windings
+from fringe.field.evaluate import as_magnets, field_at, points_in_envelopes
 from fringe.model.building import Floor
 from fringe.model.errors import FringeInputError
 from fringe.model.magnet import Magnet
@@ -130,20 +130,23 @@ def field_magnitude_T(site, points_m) -> np.ndarray:
 
 
 def occupied_field_T(site, points_m) -> np.ndarray:
-    """|B| in T at site points, NaN at points inside a winding.
+    """|B| in T at site points, NaN at points inside a magnet's cryostat envelope.
 
-    Nobody occupies a winding, and the quadrature is least accurate there
-    (:func:`fringe.field.evaluate.points_in_windings`), so plan maps and room maxima leave those
-    points out; sections show the full field.
+    Nobody can stand inside a cryostat (:attr:`fringe.model.magnet.Magnet.envelope`;
+    :func:`fringe.field.evaluate.points_in_envelopes`), so plan maps, room and floor
+    maxima leave those points out and report what a person can meet (in the bore, at the
+    cryostat's surface); sections show the full field.
     """
     p = np.asarray(points_m, dtype=float).reshape(-1, 3)
-    b = field_magnitude_T(site, p)
-    b[points_in_windings(as_magnets(site), p)] = np.nan
+    out = points_in_envelopes(as_magnets(site), p)
+    b = np.full(len(p), np.nan)
+    if (~out).any():
+        b[~out] = field_magnitude_T(site, p[~out])
     return b
 
 
 def slice_map_T(site, x_m: np.ndarray, y_m: np.ndarray, z_m: float) -> np.ndarray:
-    """|B| in T on the horizontal grid (ny, nx) at height ``z_m`` (NaN inside windings,
+    """|B| in T on the horizontal grid (ny, nx) at height ``z_m`` (NaN inside envelopes,
     see :func:`occupied_field_T`)."""
     X, Y = np.meshgrid(x_m, y_m)
     pts = np.column_stack([X.ravel(), Y.ravel(), np.full(X.size, float(z_m))])
@@ -226,8 +229,8 @@ def band_max_T(site, xy_m: np.ndarray, z_levels_m: np.ndarray, *,
                ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Largest |B| over a vertical band at plan points, adaptively refined.
 
-    Points inside windings are left out (:func:`occupied_field_T`); no parabola is
-    fitted through them, and a point whose every sample lies in a winding gets 0.
+    Points inside cryostat envelopes are left out (:func:`occupied_field_T`); no parabola is
+    fitted through them, and a point whose every sample lies in an envelope gets 0.
 
     The band is sampled at ``z_levels_m``; where the parabolic correction of
     :func:`band_envelope` exceeds ``tol_rel`` (relative) and the value is at least
@@ -260,7 +263,7 @@ def band_max_T(site, xy_m: np.ndarray, z_levels_m: np.ndarray, *,
         pts = np.concatenate([np.column_stack([xy, np.full(len(xy), zi)]) for zi in z])
         values_T = occupied_field_T(site, pts).reshape(z.size, len(xy))
     v = np.asarray(values_T, dtype=float).reshape(z.size, len(xy))
-    v = np.where(np.isnan(v), -np.inf, v)  # windings: never the maximum, no parabola
+    v = np.where(np.isnan(v), -np.inf, v)  # envelopes: never the maximum, no parabola
     with np.errstate(divide="ignore", invalid="ignore"):
         sampled, env = band_envelope(v, z)
         err = np.where(env > 0, (env - sampled) / env, 0.0)

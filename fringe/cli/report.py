@@ -57,6 +57,8 @@ def closing_verdict(result, *, fail: bool = True) -> tuple[str, int]:
 
 def terminal_summary(result, out_dir: str | Path) -> str:
     """The short text printed after a report (verdicts first, then where files went)."""
+    from fringe.render.sheet import format_field  # matplotlib: not at command start-up
+
     r = result
     lines = [f"site: {r.site_name}",
              f"boundary: {r.boundary.value_mT:g} mT ({r.boundary.source})"]
@@ -82,12 +84,13 @@ def terminal_summary(result, out_dir: str | Path) -> str:
         for c in r.rooms:
             lim = "-" if c.limit_T is None else f"{c.limit_T * 1e3:g}"
             lines.append(f"  {c.name:<{w}}  {c.floor:<10} {c.access:<10} max "
-                         f"{c.max_field_T * 1e3:10.4g} mT  limit {lim:>6} mT  {c.verdict}")
+                         f"{format_field(c.max_field_T, 4):>13}  limit {lim:>6} mT  "
+                         f"{c.verdict}")
     if r.equipment:
         w = max(len(e.name) for e in r.equipment)
         lines.append("equipment:")
         for e in r.equipment:
-            lines.append(f"  {e.name:<{w}}  {e.field_T * 1e3:10.4g} mT  limit "
+            lines.append(f"  {e.name:<{w}}  {format_field(e.field_T, 4):>13}  limit "
                          f"{e.limit_T * 1e3:g} mT  {e.verdict}"
                          + ("  (largest over its volume)" if e.outline is not None else ""))
     for b in r.quench:

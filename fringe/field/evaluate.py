@@ -31,7 +31,8 @@ from fringe.model.errors import FringeInputError
 from fringe.model.magnet import Magnet
 
 __all__ = ["field_at", "field_gradient_at", "grad_abs_B_T_per_m", "field_at_magpylib",
-           "energy_density_J_per_m3", "points_in_windings", "as_magnets", "as_points",
+           "energy_density_J_per_m3", "points_in_windings", "points_in_envelopes",
+           "as_magnets", "as_points",
            "coordinate_range_problem", "METHODS"]
 
 #: Evaluation methods accepted by :func:`field_at` (one list, checked everywhere).
@@ -107,7 +108,10 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
         Points evaluated at once; peak memory is independent of N beyond the output.
     **options
         ``order``, ``panels`` (radial quadrature) and ``refine`` passed to
-        :func:`fringe.field.direct.magnet_field_local_T`.
+        :func:`fringe.field.direct.magnet_field_local_T`; ``fast_model`` (True/False)
+        fixes the choice of the fast path for every magnet (building its model if
+        needed) instead of the per-process demand above, so that several processes
+        computing parts of one job (a map's blocks on dask workers) agree bit for bit.
 
     Returns
     -------
@@ -121,7 +125,7 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
     if not isinstance(chunk_size, (int, np.integer)) or chunk_size < 1:
         raise FringeInputError(f"`chunk_size` must be a positive integer; got {chunk_size!r}")
     out = np.zeros_like(p)
-    fast = _fast_flags(mags, len(p), method, options)
+    fast = _fast_flags(mags, len(p), method, options, options.pop("fast_model", None))
     fallback: list[np.ndarray] = []
     for a in range(0, len(p), chunk_size):
         sl = slice(a, a + chunk_size)
@@ -143,10 +147,13 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
     return out
 
 
-def _fast_flags(mags, n_points: int, method: str, options: dict) -> list[bool]:
+def _fast_flags(mags, n_points: int, method: str, options: dict,
+                fast_model: bool | None = None) -> list[bool]:
     """Per magnet: use the fast path for this call? (see :func:`fringe.field.fast.model_wanted`)."""
     if method != "auto" or not options.get("refine", True) or n_points == 0:
         return [False] * len(mags)
+    if fast_model is not None:
+        return [bool(fast_model)] * len(mags)
     order = options.get("order", DEFAULT_RADIAL_ORDER)
     return [model_wanted(m.coils, n_points, order, options.get("panels")) for m in mags]
 
@@ -303,3 +310,18 @@ def points_in_windings(site, points_m, margin_m: float = 0.0) -> np.ndarray:
     return mask
 
 
+
+
+def points_in_envelopes(site, points_m, margin_m: float = 0.0) -> np.ndarray:
+    """Boolean mask (N,) of points inside (or within margin of) any magnet's cryostat
+    envelope (:attr:`fringe.model.magnet.Magnet.envelope`): where nobody can be.
+
+    The bore and the space beyond the envelope's ends are outside. Room, floor and
+    equipment maxima and the attraction zone leave these points out; the field engine
+    keeps using :func:`points_in_windings` where it needs the windings themselves.
+    """
+    p = as_points(points_m)
+    mask = np.zeros(len(p), dtype=bool)
+    for m in as_magnets(site):
+        mask |= m.in_envelope(p, margin_m)
+    return mask

@@ -18,9 +18,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from fringe.field.evaluate import as_magnets, field_at
+from fringe.field.fast import BUILD_AFTER_POINTS
 from fringe.model.errors import FringeInputError, must_be
 
-__all__ = ["Grid", "grid_from_box", "grid_points", "map_blocks", "block_field",
+__all__ = ["Grid", "grid_from_box", "grid_points", "map_blocks", "map_fast_model", "block_field",
            "block_bounds", "checked_block_points", "DEFAULT_BLOCK_POINTS"]
 
 #: Points per evaluated block (≈ 100 MB of temporaries in the field engine at most).
@@ -95,12 +96,16 @@ def grid_points(grid: Grid, start: int, stop: int) -> np.ndarray:
 
 
 def block_field(idx: np.ndarray, magnets=(), grid: Grid | None = None,
-                dtype=np.float32) -> np.ndarray:
-    """Field (M, 4): B_x, B_y, B_z, |B| in T at grid points numbered ``idx`` (contiguous)."""
+                dtype=np.float32, fast_model: bool | None = None) -> np.ndarray:
+    """Field (M, 4): B_x, B_y, B_z, |B| in T at grid points numbered ``idx`` (contiguous).
+
+    ``fast_model`` is passed to :func:`fringe.field.evaluate.field_at` (see
+    :func:`map_fast_model`).
+    """
     if idx.size == 0:
         return np.zeros((0, 4), dtype=dtype)
     pts = grid_points(grid, int(idx[0]), int(idx[-1]) + 1)
-    b = field_at(magnets, pts)
+    b = field_at(magnets, pts, fast_model=fast_model)
     out = np.empty((len(b), 4), dtype=dtype)
     out[:, :3] = b
     out[:, 3] = np.sqrt(np.einsum("ij,ij->i", b, b))
@@ -127,8 +132,17 @@ def map_blocks(site, grid: Grid, *, block_points: int = DEFAULT_BLOCK_POINTS,
     """
     mags = as_magnets(site)
     bounds = block_bounds(grid.n_points, checked_block_points(block_points))
+    fast = map_fast_model(grid)
     for a, b in bounds:
-        yield a, block_field(np.arange(a, b), magnets=mags, grid=grid, dtype=dtype)
+        yield a, block_field(np.arange(a, b), magnets=mags, grid=grid, dtype=dtype,
+                             fast_model=fast)
+
+
+def map_fast_model(grid: Grid) -> bool:
+    """Whether a map of ``grid`` uses the fast path: decided once for the whole map (by
+    its size, as :func:`fringe.field.fast.model_wanted` would), so that every block — in
+    this process or on any worker — is computed the same way."""
+    return grid.n_points >= BUILD_AFTER_POINTS
 
 
 def checked_block_points(block_points) -> int:

@@ -47,6 +47,7 @@ from fringe.field.grid import (
     block_field,
     checked_block_points,
     map_blocks,
+    map_fast_model,
 )
 from fringe.io.atomic import atomic_file
 from fringe.model.constants import ADVISORY_NOTICE
@@ -135,6 +136,7 @@ def _dask_blocks(mags, grid, bounds, scheduler, dtype, parallel):
     chunks = tuple(b - a for a, b in bounds)
     idx = da.arange(grid.n_points, chunks=(chunks,), dtype=np.int64)
     arr = idx.map_blocks(block_field, magnets=mags, grid=grid, dtype=dtype,
+                         fast_model=map_fast_model(grid),
                          new_axis=1, chunks=(chunks, (4,)), meta=np.empty((0, 4), dtype))
     client = None
     if scheduler in _LOCAL_SCHEDULERS:

@@ -40,7 +40,8 @@ from fringe.io.scenario_quench import SECTION_KEY as QUENCH_KEY
 from fringe.io.scenario_quench import parse_quench_section
 from fringe.model.constants import MAX_COORDINATE_M
 from fringe.model.errors import FringeWarning, ScenarioError
-from fringe.model.magnet import Coil, Magnet
+from fringe.model.magnet import Coil, Envelope, Magnet
+from fringe.model.overlap import OVERLAP_TOLERANCE_M, intersecting_magnets, overlapping_coils
 from fringe.model.site import Site
 
 __all__ = ["load_site", "parse_site", "TOP_LEVEL_KEYS", "MAGNET_BUILDERS", "ROOM_LOADERS"]
@@ -110,9 +111,38 @@ def parse_magnet(r: Reader) -> Magnet:
                 f"[[magnet.coil]]{alt}", r.file)
         coils = tuple(parse_coil(c) for c in crs)
         origin = "coils"
+    envelope = parse_envelope(r.table("envelope"), coils)
     r.finish()
     _check_centre_field(r, name, coils)
-    return Magnet(name, center, axis, coils, description, origin)
+    return Magnet(name, center, axis, coils, description, origin, envelope)
+
+
+def parse_envelope(r: Reader | None, coils: tuple[Coil, ...]) -> Envelope | None:
+    """Parse an optional ``[magnet.envelope]`` table (the cryostat envelope, magnet frame).
+
+    Exactly the keys ``r_inner_m``, ``r_outer_m``, ``z_min_m``, ``z_max_m``; it must hold
+    every winding. None when absent (the magnet then takes the default envelope,
+    :func:`fringe.model.magnet.default_envelope`).
+    """
+    if r is None:
+        return None
+    ri = r.number("r_inner_m", low=0.0)
+    ro = r.number("r_outer_m", low=0.0, low_open=True)
+    if ro <= ri:
+        r.fail(r.key("r_outer_m"), f"greater than r_inner_m ({ri:g})", ro)
+    z0 = r.number("z_min_m")
+    z1 = r.number("z_max_m")
+    if z1 <= z0:
+        r.fail(r.key("z_max_m"), f"greater than z_min_m ({z0:g})", z1)
+    r.finish()
+    checks = (("r_inner_m", ri, min(c.r_inner_m for c in coils), "at most"),
+              ("r_outer_m", ro, max(c.r_outer_m for c in coils), "at least"),
+              ("z_min_m", z0, min(c.z_min_m for c in coils), "at most"),
+              ("z_max_m", z1, max(c.z_max_m for c in coils), "at least"))
+    for key, v, w, rel in checks:
+        if (v > w) if rel == "at most" else (v < w):
+            r.fail(r.key(key), f"{rel} {w:g} so the envelope holds every winding", v)
+    return Envelope(ri, ro, z0, z1)
 
 
 #: Centre fields above this (T) draw a warning: the strongest superconducting magnets
@@ -140,6 +170,24 @@ def _check_centre_field(r: Reader, name: str, coils: tuple[Coil, ...]) -> None:
                       f"above the {PLAUSIBLE_CENTRE_FIELD_T:g} T that any built magnet reaches; "
                       "check `current_A` (amperes per turn) and `turns`",
                       FringeWarning, stacklevel=2)
+
+
+def _check_geometry(mags: tuple[Magnet, ...], file: str) -> None:
+    """Refuse magnets whose cryostat envelopes intersect; warn on overlapping coils."""
+    for i, m in enumerate(mags):
+        for a, b in overlapping_coils(m):
+            warnings.warn(f"{file}: magnet {m.name!r}: `magnet[{i}].coil[{a}]` and "
+                          f"`magnet[{i}].coil[{b}]` overlap (their (r, z) rectangles share "
+                          "an area); the field adds both currents there",
+                          FringeWarning, stacklevel=3)
+    pairs = intersecting_magnets(mags)
+    if pairs:
+        i, j = pairs[0]
+        raise ScenarioError(
+            f"magnets {mags[i].name!r} (`magnet[{i}]`) and {mags[j].name!r} (`magnet[{j}]`) "
+            "intersect: their windings or cryostat envelopes share space (or come within "
+            f"{OVERLAP_TOLERANCE_M * 1e3:g} mm); check `center_m`, `axis` and "
+            "`envelope`", file)
 
 
 def _parse_site_table(r: Reader | None) -> dict[str, Any]:
@@ -180,6 +228,7 @@ def parse_site(data: dict, file: str | Path = "<scenario>") -> Site:
         if m.name in seen:
             root.fail(f"magnet[{i}].name", "unique among magnets", m.name)
         seen.add(m.name)
+    _check_geometry(mags, file)
     plan = parse_plan(root)
     floors = parse_floors(root, plan)
     rooms, drawings = parse_rooms(root, Path(file), floors, ROOM_LOADERS)

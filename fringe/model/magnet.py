@@ -18,7 +18,24 @@ from functools import cached_property
 import numpy as np
 from scipy.spatial.transform import Rotation
 
-__all__ = ["Coil", "Magnet"]
+__all__ = ["Coil", "Envelope", "Magnet", "default_envelope",
+           "ENVELOPE_MARGIN_OUTER_M", "ENVELOPE_MARGIN_INNER_M", "ENVELOPE_INNER_FRACTION"]
+
+#: Margin in m by which the default cryostat envelope extends beyond the windings'
+#: outer radius and beyond both their axial ends (common practice, no source: the
+#: vacuum vessel wall, vacuum space and radiation shields of a superconducting magnet
+#: take some centimetres to a few decimetres around the windings).
+ENVELOPE_MARGIN_OUTER_M: float = 0.10
+
+#: Largest margin in m by which the default envelope reaches inside the windings' inner
+#: radius: the bore tube, shields and vacuum space between the windings and the warm
+#: bore of a whole-body magnet (common practice, no source; the families of
+#: :mod:`fringe.physics.families` assume 0.16 m whole-body, 0.025 m laboratory).
+ENVELOPE_MARGIN_INNER_M: float = 0.15
+
+#: The inner margin is at most this fraction of the windings' inner radius, so a small
+#: laboratory bore stays open (0.05 m windings: 0.025 m warm-bore radius).
+ENVELOPE_INNER_FRACTION: float = 0.5
 
 
 @dataclass(frozen=True)
@@ -81,6 +98,71 @@ class Coil:
                     self.turns, self.current_A * factor)
 
 
+@dataclass(frozen=True)
+class Envelope:
+    """The cryostat envelope of a magnet: an annular cylinder in its local frame.
+
+    Points with ``r_inner_m <= ρ <= r_outer_m`` and ``z_min_m <= z <= z_max_m`` (local
+    frame, ρ the distance from the bore axis) are inside the cryostat and not accessible;
+    the bore ``ρ < r_inner_m`` is open.
+
+    Parameters
+    ----------
+    r_inner_m, r_outer_m : float
+        Inner (warm-bore) and outer radius in m, ``0 <= r_inner_m < r_outer_m``.
+    z_min_m, z_max_m : float
+        Axial extent in m along the magnet axis, relative to the magnet centre,
+        ``z_min_m < z_max_m``.
+    """
+
+    r_inner_m: float
+    r_outer_m: float
+    z_min_m: float
+    z_max_m: float
+
+    def __post_init__(self) -> None:
+        vals = (self.r_inner_m, self.r_outer_m, self.z_min_m, self.z_max_m)
+        if not all(math.isfinite(v) for v in vals):
+            raise ValueError(f"`envelope` must have finite sizes; got {vals!r}")
+        if not 0.0 <= self.r_inner_m < self.r_outer_m:
+            raise ValueError("`envelope` must have 0 <= r_inner_m < r_outer_m; got "
+                             f"{self.r_inner_m!r}, {self.r_outer_m!r}")
+        if not self.z_min_m < self.z_max_m:
+            raise ValueError("`envelope` must have z_min_m < z_max_m; got "
+                             f"{self.z_min_m!r}, {self.z_max_m!r}")
+
+    @property
+    def enclosing_radius_m(self) -> float:
+        """Radius in m of the smallest centre-centred sphere holding the envelope."""
+        return math.hypot(self.r_outer_m, max(abs(self.z_min_m), abs(self.z_max_m)))
+
+    def contains_coil(self, coil: Coil) -> bool:
+        """Whether the winding ``coil`` lies wholly inside the envelope."""
+        return (self.r_inner_m <= coil.r_inner_m and coil.r_outer_m <= self.r_outer_m
+                and self.z_min_m <= coil.z_min_m and coil.z_max_m <= self.z_max_m)
+
+    def contains_local(self, rho_m: np.ndarray, z_m: np.ndarray,
+                       margin_m: float = 0.0) -> np.ndarray:
+        """Boolean mask of local points (ρ, z) inside the envelope grown by ``margin_m``."""
+        rho = np.asarray(rho_m, dtype=float)
+        z = np.asarray(z_m, dtype=float)
+        return ((rho >= self.r_inner_m - margin_m) & (rho <= self.r_outer_m + margin_m)
+                & (z >= self.z_min_m - margin_m) & (z <= self.z_max_m + margin_m))
+
+
+def default_envelope(coils) -> Envelope:
+    """The envelope assumed when none is given: the windings' bounding annulus grown by
+    :data:`ENVELOPE_MARGIN_OUTER_M` outward and axially, and into the bore by the smaller
+    of :data:`ENVELOPE_MARGIN_INNER_M` and :data:`ENVELOPE_INNER_FRACTION` of the inner
+    radius (so never below radius 0; windings reaching the axis leave no bore)."""
+    coils = tuple(coils)
+    ri = min(c.r_inner_m for c in coils)
+    return Envelope(ri - min(ENVELOPE_MARGIN_INNER_M, ENVELOPE_INNER_FRACTION * ri),
+                    max(c.r_outer_m for c in coils) + ENVELOPE_MARGIN_OUTER_M,
+                    min(c.z_min_m for c in coils) - ENVELOPE_MARGIN_OUTER_M,
+                    max(c.z_max_m for c in coils) + ENVELOPE_MARGIN_OUTER_M)
+
+
 def _rotation_to_axis(axis: tuple[float, float, float]) -> Rotation:
     """Rotation taking the local z axis onto ``axis`` (unit vector).
 
@@ -116,6 +198,11 @@ class Magnet:
     description : str
         Free text on where the model comes from (e.g. "equivalent model fitted to
         data-sheet numbers"); printed on reports.
+    origin : str
+        How the coils were obtained ("coils", or the builder that made them).
+    cryostat : Envelope or None
+        The cryostat envelope as given; None means the default around the windings
+        (:func:`default_envelope`). Use :attr:`envelope` for the one in effect.
     """
 
     name: str
@@ -124,6 +211,7 @@ class Magnet:
     coils: tuple[Coil, ...]
     description: str = ""
     origin: str = field(default="coils", compare=False)
+    cryostat: Envelope | None = None
 
     def __post_init__(self) -> None:
         a = np.asarray(self.axis, dtype=float)
@@ -136,6 +224,19 @@ class Magnet:
         object.__setattr__(self, "axis", tuple(float(x) for x in a / math.sqrt(a @ a)))
         object.__setattr__(self, "center_m", tuple(float(x) for x in self.center_m))
         object.__setattr__(self, "coils", tuple(self.coils))
+        if self.cryostat is not None:
+            if not isinstance(self.cryostat, Envelope):
+                raise ValueError(f"`cryostat` must be an Envelope; got {self.cryostat!r}")
+            for i, c in enumerate(self.coils):
+                if not self.cryostat.contains_coil(c):
+                    raise ValueError(f"`cryostat` must contain every winding; coil {i} "
+                                     f"({c.r_inner_m}..{c.r_outer_m} m, z {c.z_min_m}.."
+                                     f"{c.z_max_m} m) is not inside {self.cryostat}")
+
+    @cached_property
+    def envelope(self) -> Envelope:
+        """The cryostat envelope in effect: the one given, else :func:`default_envelope`."""
+        return self.cryostat if self.cryostat is not None else default_envelope(self.coils)
 
     @cached_property
     def rotation(self) -> Rotation:
@@ -180,13 +281,13 @@ class Magnet:
         """The same magnet with every current multiplied by ``factor``."""
         return Magnet(self.name, self.center_m, self.axis,
                       tuple(c.scaled(factor) for c in self.coils), self.description,
-                      self.origin)
+                      self.origin, self.cryostat)
 
     def moved(self, center_m=None, axis=None) -> Magnet:
         """The same magnet at another centre and/or with another axis."""
         return Magnet(self.name, self.center_m if center_m is None else tuple(center_m),
                       self.axis if axis is None else tuple(axis), self.coils,
-                      self.description, self.origin)
+                      self.description, self.origin, self.cryostat)
 
     def contains_points(self, points_m: np.ndarray, margin_m: float = 0.0) -> np.ndarray:
         """Boolean mask (N,) of site points lying inside any winding (grown by margin)."""
@@ -198,3 +299,13 @@ class Magnet:
                        & (loc[:, 2] >= c.z_min_m - margin_m)
                        & (loc[:, 2] <= c.z_max_m + margin_m))
         return inside
+
+    def in_envelope(self, points_m: np.ndarray, margin_m: float = 0.0) -> np.ndarray:
+        """Boolean mask (N,) of site points inside the cryostat envelope (grown by margin).
+
+        The bore (ρ below the envelope's inner radius) and everything beyond its ends is
+        outside.
+        """
+        loc = self.to_local(points_m)
+        return self.envelope.contains_local(np.hypot(loc[:, 0], loc[:, 1]), loc[:, 2],
+                                            margin_m)

@@ -61,6 +61,7 @@ from fringe.render.sheet import (
     _short,
     cover_sheet,
     curve_sheet,
+    format_field,
     format_value,
     number_sheets,
     save_figure,
@@ -77,6 +78,7 @@ __all__ = [
     "A3_LANDSCAPE_IN", "PNG_DPI", "map_sheet", "plan_sheet",
     "section_sheet", "curve_sheet", "table_sheet", "tables_sheets", "cover_sheet",
     "save_figure", "write_pdf", "number_sheets", "footprint_rectangle", "format_value",
+    "format_field",
     "scale_bar_length_m",
 ]
 
@@ -101,7 +103,7 @@ class RoomMark:
         Free text from the checks (e.g. "ok", "exceeds"); ``"exceeds"`` is drawn
         hatched with a bold outline and upper-case text.
     max_field_T : float or None
-        Largest |B| in the room's occupied band, T (printed in mT).
+        Largest |B| in the room's occupied band, T (printed in mT, in T from 1 T).
     limit_T : float or None
         The limit the verdict was made against, T (printed in mT).
     """
@@ -124,7 +126,7 @@ class EquipmentMark:
     xy_m : tuple of float
         Position in the drawing's coordinates, m (plan: site x, y).
     field_T : float or None
-        |B| there, T (printed in mT).
+        |B| there, T (printed in mT, in T from 1 T).
     limit_T : float or None
         Its tolerance, T (printed in mT).
     verdict : str or None
@@ -144,10 +146,13 @@ class EquipmentMark:
 
 @dataclass(frozen=True)
 class MagnetOutline:
-    """A magnet's cryostat footprint (plan) or a winding cross-section (section)."""
+    """A magnet's winding footprint (plan) or winding cross-section (section), and
+    optionally its cryostat envelope (plan outline or cut), drawn beneath as not
+    accessible."""
 
     name: str
     polygon: Any
+    envelope: Any = None
 
 
 #: Styles of extra line layers; the key is ``Overlay.kind``.
@@ -837,7 +842,7 @@ def _draw_rooms(ax, renderer, rooms: Sequence[RoomMark], avoid) -> tuple[list, l
         if controlled:
             detail.append("controlled")
         if r.max_field_T is not None:
-            detail.append(f"max {format_value(r.max_field_T * 1e3)} mT")
+            detail.append(f"max {format_field(r.max_field_T)}")
         if detail:
             lines.append(", ".join(detail))
         if exceeds:
@@ -865,10 +870,22 @@ def _draw_rooms(ax, renderer, rooms: Sequence[RoomMark], avoid) -> tuple[list, l
     return texts, list(zip(handles, labels, strict=True))
 
 
+#: How a cryostat envelope is drawn (plans and sections) and its legend entry.
+_ENVELOPE_STYLE: dict[str, Any] = {"facecolor": "0.93", "edgecolor": _INK, "linewidth": 1.0,
+                                   "linestyle": (0, (4, 2)), "hatch": "///", "zorder": 6.4}
+ENVELOPE_LEGEND = "cryostat envelope (not accessible)"
+
+
 def _draw_magnets(ax, magnets, *, section: bool = False) -> tuple[list, list]:
     texts = []
+    envelopes = False
     for i, m in enumerate(magnets):
-        name, poly = (m.name, m.polygon) if isinstance(m, MagnetOutline) else tuple(m)
+        name, poly = (m.name, m.polygon) if isinstance(m, MagnetOutline) else tuple(m)[:2]
+        env = m.envelope if isinstance(m, MagnetOutline) else None
+        if env is not None and not env.is_empty:
+            _check_geometry(f"magnets[{i}].envelope ({name})", env, area=True)
+            _add_polygon(ax, env, **_ENVELOPE_STYLE)
+            envelopes = True
         _check_geometry(f"magnets[{i}].polygon ({name})", poly, area=True)
         _add_polygon(ax, poly, facecolor="0.35" if section else "white",
                      edgecolor=_INK, linewidth=1.8, zorder=6.5)
@@ -882,6 +899,9 @@ def _draw_magnets(ax, magnets, *, section: bool = False) -> tuple[list, list]:
             t.set_clip_path(patch)
             texts.append(t)
     entries = []
+    if envelopes:
+        entries.append((Patch(facecolor="0.93", edgecolor=_INK, linewidth=1.0,
+                              linestyle=(0, (4, 2)), hatch="///"), ENVELOPE_LEGEND))
     if magnets:
         if section:
             entries.append((Patch(facecolor="0.35", edgecolor=_INK, linewidth=1.5),
@@ -890,6 +910,18 @@ def _draw_magnets(ax, magnets, *, section: bool = False) -> tuple[list, list]:
             entries.append((Patch(facecolor="white", edgecolor=_INK, linewidth=1.8),
                             "magnet footprint (windings projected on the plan)"))
     return texts, entries
+
+
+def _magnet_boxes(ax, magnets) -> list[Bbox]:
+    """Display boxes of drawn magnets (their envelopes where given), for label avoidance."""
+    boxes = []
+    for m in magnets:
+        poly = m.polygon if isinstance(m, MagnetOutline) else m[1]
+        if isinstance(m, MagnetOutline) and m.envelope is not None and not m.envelope.is_empty:
+            poly = m.envelope  # it holds the windings
+        x0_, y0_, x1_, y1_ = poly.bounds
+        boxes.append(Bbox(ax.transData.transform([(x0_, y0_), (x1_, y1_)])))
+    return boxes
 
 
 def _draw_overlays(ax, overlays) -> list:
@@ -968,7 +1000,7 @@ def _equipment_label(e: EquipmentMark, exceeds: bool) -> str:
     """Name, then field, limit and verdict of an equipment mark."""
     parts = []
     if e.field_T is not None:
-        parts.append(f"{format_value(e.field_T * 1e3)} mT")
+        parts.append(f"{format_field(e.field_T)}")
     if e.limit_T is not None:
         parts.append(f"limit {format_value(e.limit_T * 1e3)} mT")
     line2 = ", ".join(parts)
@@ -1386,10 +1418,7 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
     occupied: list[Bbox] = []
     entries += _draw_floor_levels(ax, renderer, floors, s, z, occupied)
     _texts, wentries = _draw_magnets(ax, windings, section=True)
-    for m in windings:
-        poly = m.polygon if isinstance(m, MagnetOutline) else m[1]
-        x0_, y0_, x1_, y1_ = poly.bounds
-        occupied.append(Bbox(ax.transData.transform([(x0_, y0_), (x1_, y1_)])))
+    occupied += _magnet_boxes(ax, windings)
     entries += wentries
     exposure_entries, exposure_sets, sources = _draw_exposure_lines(ax, s, z, vm,
                                                                     exposure_lines)

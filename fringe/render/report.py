@@ -22,7 +22,12 @@ from pathlib import Path
 import numpy as np
 import shapely
 
-from fringe.analysis.geometry import magnet_plan_outline, section_windings
+from fringe.analysis.geometry import (
+    envelope_plan_outline,
+    magnet_plan_outline,
+    section_envelope,
+    section_windings,
+)
 from fringe.analysis.report import ReportResult
 from fringe.io.atomic import atomic_directory, check_output_folder, set_usual_mode
 from fringe.io.forked import ForkedCall
@@ -191,10 +196,10 @@ def _cover_findings(r: ReportResult) -> list[str]:
     for c in r.rooms:
         lim = "" if c.limit_T is None else f" (limit {c.limit_T * 1e3:g} mT)"
         findings.append(f"Room {c.name} ({c.floor} floor): largest field "
-                        f"{dr.format_value(c.max_field_T * 1e3)} mT{lim}: {c.verdict}")
+                        f"{dr.format_field(c.max_field_T)}{lim}: {c.verdict}")
     for e in r.equipment:
         where = "position" if e.outline is None else "volume, largest"
-        findings.append(f"Equipment {e.name}: {dr.format_value(e.field_T * 1e3)} mT at its "
+        findings.append(f"Equipment {e.name}: {dr.format_field(e.field_T)} at its "
                         f"{where} (limit {e.limit_T * 1e3:g} mT): {e.verdict}")
     findings[1:1] = implant_findings(r.implants)  # after the overall verdict
     if len(findings) > 24:  # keep the cover to one sheet; the tables list everything
@@ -238,12 +243,13 @@ def _plan_magnets(r: ReportResult, name: str, site_mags: dict,
     mags, overlays = [], []
     for m in site_mags.values():
         poly = magnet_plan_outline(m)
+        env = envelope_plan_outline(m)
         home = r.plan.floor_of_point(m.center_m[2]).name
         if home == name:
-            mags.append(dr.MagnetOutline(m.name, poly))
+            mags.append(dr.MagnetOutline(m.name, poly, env))
         else:
-            overlays.append(dr.Overlay(f"{m.name} on the {home} floor (outline)",
-                                       poly.exterior, "outline"))
+            overlays.append(dr.Overlay(f"{m.name} on the {home} floor (cryostat outline)",
+                                       env.exterior, "outline"))
     walls = [w for d in room_drawings if name in d.floors for w in d.walls]
     if walls:
         lines = [w.boundary if w.geom_type.endswith("Polygon") else w for w in walls]
@@ -310,7 +316,7 @@ def _section_windings_notes(sec, m, grid_step_m: float) -> tuple[list, list[str]
     if m is not None:
         poly, projected = section_windings(m, sec)
         if not poly.is_empty:
-            windings.append(dr.MagnetOutline(m.name, poly))
+            windings.append(dr.MagnetOutline(m.name, poly, section_envelope(m, sec)))
             if projected:
                 notes.append("The section plane passes between the coils; the windings "
                              "are drawn projected onto it.")
@@ -361,19 +367,20 @@ def _section_sheets(r: ReportResult, base: dict, site_mags: dict, taken: set[str
 
 def _tables(r: ReportResult) -> list[tuple[str, list[str], list[list]]]:
     """The table sheets' content: rooms, equipment, extents, magnets, attraction, areas."""
-    room_rows = [[c.name, c.floor, c.access, c.max_field_T * 1e3,
+    from fringe.render.sheet import format_field
+    room_rows = [[c.name, c.floor, c.access, format_field(c.max_field_T),
                   "-" if c.limit_T is None else c.limit_T * 1e3, c.verdict,
                   next((a for t, a in c.area_above_m2
                         if math.isclose(t, r.boundary.value_mT, rel_tol=1e-9)), 0.0)]
                  for c in r.rooms]
-    tables = [("Rooms", ["room", "floor", "access", "largest field, mT", "limit, mT",
+    tables = [("Rooms", ["room", "floor", "access", "largest field", "limit, mT",
                          "verdict", f"area above {r.boundary.value_mT:g} mT, m²"], room_rows)]
     if r.equipment:
         tables.append((
-            "Equipment", ["equipment", "floor", "x, m", "y, m", "z, m", "field, mT",
+            "Equipment", ["equipment", "floor", "x, m", "y, m", "z, m", "field",
                           "limit, mT", "verdict", "note"],
-            [[e.name, e.floor, *e.position_m, e.field_T * 1e3, e.limit_T * 1e3, e.verdict,
-              e.note] for e in r.equipment]))
+            [[e.name, e.floor, *e.position_m, format_field(e.field_T), e.limit_T * 1e3,
+              e.verdict, e.note] for e in r.equipment]))
     tables.append((
         "Field-line extents of each magnet alone (outermost crossing)",
         ["magnet", "threshold, mT", "along the axis, m", "across the axis, m"],

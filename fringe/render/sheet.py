@@ -52,7 +52,7 @@ from fringe.render.style import INK_COLOR
 __all__ = [
     "SheetInfo", "Curve", "CurvePanel", "A3_LANDSCAPE_IN", "PNG_DPI",
     "curve_sheet", "table_sheet", "tables_sheets", "cover_sheet", "save_figure",
-    "write_pdf", "number_sheets", "format_value",
+    "write_pdf", "number_sheets", "format_value", "format_field",
 ]
 
 
@@ -187,6 +187,24 @@ def format_value(v: float) -> str:
             s = f"{v:.4f}".rstrip("0").rstrip(".")
         return s
     return f"{v:.2g}"
+
+
+def format_field(field_T: float, digits: int | None = None) -> str:
+    """A flux density with its unit: in T from 1 T up, in mT below.
+
+    ``digits`` significant digits (``:g``) if given, else :func:`format_value`.
+
+    >>> [format_field(v) for v in (1.86, 0.0005, 0.2296, 9.4)]
+    ['1.86 T', '0.5 mT', '230 mT', '9.4 T']
+    """
+    b = float(field_T)
+
+    def num(v: float) -> str:
+        return format_value(v) if digits is None else f"{v:.{digits}g}"
+
+    if math.isfinite(b) and abs(b) >= 1.0:
+        return f"{num(b)} T"
+    return f"{num(b * 1e3)} mT"
 
 
 def _new_figure() -> Figure:
