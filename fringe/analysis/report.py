@@ -39,6 +39,7 @@ from fringe.analysis.zones import (
 )
 from fringe.field.extents import threshold_extents_m
 from fringe.field.multipole import zonal_moments_Am
+from fringe.field.reach import threshold_reach_m
 from fringe.model.building import Boundary
 from fringe.model.constants import VERSION as __version__
 from fringe.model.errors import FringeInputError, ScenarioError
@@ -67,7 +68,8 @@ class MagnetSummary:
     axis: tuple[float, float, float]
     description: str
     center_field_T: float
-    #: (threshold_mT, axial_extent_m, radial_extent_m) per threshold, ascending.
+    #: (threshold_mT, axial_extent_m, radial_extent_m) per threshold, ascending: on the
+    #: axis and in the centre plane (fringe.field.extents.threshold_extents_m).
     boundaries: tuple[tuple[float, float, float], ...]
     #: Where the coil model comes from ("coils", or a data-sheet fit;
     #: see fringe.io.scenario_datasheet).
@@ -79,6 +81,17 @@ class MagnetSummary:
     #: Zonal moments of the far field: dipole (A·m²), l = 3 (A·m⁴), l = 5 (A·m⁶)
     #: (fringe.field.multipole.zonal_moments_Am, l = 1, 3, 5).
     zonal_moments: tuple[float, float, float] = (float("nan"),) * 3
+    #: (threshold_mT, max_reach_m, max_reach_axial_m) per threshold, as ``boundaries``:
+    #: the line's largest distance from the axis and along it anywhere
+    #: (fringe.field.reach.threshold_reach_m).
+    reaches: tuple[tuple[float, float, float], ...] = ()
+
+    def reach(self, threshold_mT: float) -> tuple[float, float] | None:
+        """(max_reach_m, max_reach_axial_m) of ``threshold_mT`` (None if not computed)."""
+        for t, rho, z in self.reaches:
+            if math.isclose(t, threshold_mT, rel_tol=1e-9):
+                return rho, z
+        return None
 
 
 @dataclass(frozen=True)
@@ -194,11 +207,13 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     for m in site.magnets:
         b0 = float(field_magnitude_T(m, np.asarray([m.center_m]))[0])
         bounds = tuple((t, *threshold_extents_m(m, t * 1e-3)) for t in thr_mT)
+        reaches = tuple((t, *threshold_reach_m(m, t * 1e-3, extents_m=(a, rr)))
+                        for t, a, rr in bounds)
         q = zonal_moments_Am(m, 5)
         mags.append(MagnetSummary(m.name, m.center_m, m.axis, m.description, b0, bounds,
                                   m.origin, stored_energy_J(m), m.dipole_moment_Am2,
-                                  (float(q[1]), float(q[3]), float(q[5]))))
-    say("extents of each threshold line done")
+                                  (float(q[1]), float(q[3]), float(q[5])), reaches))
+    say("extents and reach of each threshold line done")
     _warn_if_grid_too_coarse(mags, s.boundary.value_mT, step, site.source_file)
 
     extent = s.extent_m or default_extent_m(site.magnets, plan.rooms, plan.equipment,

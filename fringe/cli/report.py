@@ -43,9 +43,13 @@ def terminal_summary(result, out_dir: str | Path) -> str:
     for m in r.magnets:
         for t, a, rr in m.boundaries:
             if abs(t - r.boundary.value_mT) < 1e-9 * t:
-                lines.append(f"magnet {m.name}: centre {m.center_field_T:.3g} T; {t:g} mT line "
-                             f"{a:.2f} m along, {rr:.2f} m across the axis; stored energy "
-                             f"{m.stored_energy_J / 1e6:.3g} MJ")
+                reach = m.reach(t)
+                line = (f"{t:g} mT line {a:.2f} m along, {rr:.2f} m across the axis"
+                        if reach is None else
+                        f"{t:g} mT line reaches {reach[0]:.2f} m from the axis ({rr:.2f} m "
+                        f"in the centre plane), {reach[1]:.2f} m along it")
+                lines.append(f"magnet {m.name}: centre {m.center_field_T:.3g} T; {line}; "
+                             f"stored energy {m.stored_energy_J / 1e6:.3g} MJ")
         if m.origin != "coils" and m.description:
             lines.append(f"  model: {m.description}")
     for name, fps in r.footprints.items():

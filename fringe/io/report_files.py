@@ -67,6 +67,17 @@ def _attraction_area(r: ReportResult, floor: str) -> dict | None:
     return {"area_m2": num(fa.area_m2, 5), "max_force_product_T2_per_m": num(peak, 5)}
 
 
+def _boundary_entry(m, t: float, axial: float, radial: float) -> dict:
+    """One threshold line of a magnet in summary.json: centre-plane and on-axis extents,
+    and its reach anywhere (largest distance from the axis and along it)."""
+    out = {"threshold_mT": t, "axial_extent_m": num(axial, 5), "radial_extent_m": num(radial, 5)}
+    reach = m.reach(t)
+    if reach is not None:
+        out["max_reach_m"] = num(reach[0], 5)
+        out["max_reach_axial_m"] = num(reach[1], 5)
+    return out
+
+
 def _exposure_rows(r: ReportResult) -> list[dict]:
     return [{"name": e.name, "field_T": e.field_T, "applies_to": e.applies_to,
              "source": e.source} for e in exposure_limits(r.plan.settings.exposure_lines)]
@@ -97,8 +108,7 @@ def summary_dict(r: ReportResult) -> dict:
             "zonal_moments": {"dipole_Am2": num(m.zonal_moments[0]),
                               "l3_Am4": num(m.zonal_moments[1]),
                               "l5_Am6": num(m.zonal_moments[2])},
-            "boundaries": [{"threshold_mT": t, "axial_extent_m": num(a, 5),
-                            "radial_extent_m": num(rr, 5)} for t, a, rr in m.boundaries],
+            "boundaries": [_boundary_entry(m, t, a, rr) for t, a, rr in m.boundaries],
             "attraction": attraction_extents(r, m.name),
         } for m in r.magnets],
         "floors": [{

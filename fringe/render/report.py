@@ -157,8 +157,12 @@ def _cover_facts(r: ReportResult) -> list[tuple[str, str]]:
     for m in r.magnets:
         b = next((x for x in m.boundaries
                   if math.isclose(x[0], r.boundary.value_mT, rel_tol=1e-9)), None)
-        ext = (f"; {b[0]:g} mT line {b[1]:.2f} m along, {b[2]:.2f} m across the axis"
-               if b else "")
+        reach = m.reach(b[0]) if b else None
+        ext = ("" if not b else
+               f"; {b[0]:g} mT line {b[1]:.2f} m along, {b[2]:.2f} m across the axis"
+               if reach is None else
+               f"; {b[0]:g} mT line reaches {reach[0]:.2f} m from the axis ({b[2]:.2f} m in "
+               f"the centre plane), {reach[1]:.2f} m along it")
         facts.append((f"Magnet {m.name}", f"centre field {m.center_field_T:.3g} T{ext}; "
                       f"stored energy {m.stored_energy_J / 1e6:.3g} MJ"))
         if m.description:
@@ -366,9 +370,11 @@ def _tables(r: ReportResult) -> list[tuple[str, list[str], list[list]]]:
             [[e.name, e.floor, *e.position_m, e.field_T * 1e3, e.limit_T * 1e3, e.verdict,
               e.note] for e in r.equipment]))
     tables.append((
-        "Field-line extents of each magnet alone (outermost crossing)",
-        ["magnet", "threshold, mT", "along the axis, m", "across the axis, m"],
-        [[m.name, t, a, rr] for m in r.magnets for t, a, rr in m.boundaries]))
+        "Field-line extents of each magnet alone (outermost crossing; reach: anywhere)",
+        ["magnet", "threshold, mT", "on the axis, m", "centre plane, m",
+         "reach from the axis, m", "reach along the axis, m"],
+        [[m.name, t, a, rr, *(m.reach(t) or ("-", "-"))]
+         for m in r.magnets for t, a, rr in m.boundaries]))
     tables.append((
         "Magnets: stored energy and far-field zonal moments",
         ["magnet", "centre field, T", "stored energy, MJ", "dipole, A·m²", "l = 3, A·m⁴",
