@@ -18,6 +18,7 @@ import numpy as np
 
 from fringe.analysis.attraction import SiteAttraction, site_attraction
 from fringe.analysis.quench import budget_for_site
+from fringe.analysis.storey import FullHeight, RoomCeiling, full_height, room_ceilings
 from fringe.analysis.verdicts import (
     EquipmentCheck,
     RoomCheck,
@@ -119,6 +120,11 @@ class ReportResult:
     quench: tuple = ()
     #: The attraction-hazard zone: extents, floor zones, section zones (fringe.analysis.attraction).
     attraction: SiteAttraction | None = field(default=None, compare=False, repr=False)
+    #: Each floor's whole storey, floor level to ceiling, by floor name
+    #: (fringe.analysis.storey.FullHeight); informs, does not change a verdict.
+    full_height: dict[str, FullHeight] = field(default_factory=dict, compare=False, repr=False)
+    #: Each room over its whole storey, by room name (fringe.analysis.storey.RoomCeiling).
+    ceilings: dict[str, RoomCeiling] = field(default_factory=dict, compare=False, repr=False)
 
     def floor_verdict(self, floor: str) -> Verdict:
         """``exceeds`` when the boundary footprint on ``floor`` reaches beyond its
@@ -252,9 +258,17 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     rooms = check_rooms(site, plan.rooms, fmaps, fps, s.boundary)
     equip = check_equipment(site, plan.equipment, plan.floor_of_point)
     say("room and equipment verdicts done")
+    whole = {name: full_height(site, fm, s.band_step_m, s.boundary.value_mT * 1e-3, thr_T,
+                               attraction=attraction.floors.get(name),
+                               object_kind=attraction.object_kind,
+                               material=attraction.material, progress=progress)
+             for name, fm in fmaps.items()}
+    ceilings = room_ceilings(site, plan.rooms, rooms, fmaps,
+                             {name: w.map for name, w in whole.items()})
+    say("whole storeys up to each ceiling done")
     return ReportResult(site.name, site.source_file, plan, s.boundary, thr_mT, step, extent,
                         tuple(mags), fmaps, fps, outside, tuple(secs), rooms, equip, _now_utc(),
-                        __version__, site, quench, attraction)
+                        __version__, site, quench, attraction, whole, ceilings)
 
 
 #: Largest plan grid step as a fraction of the boundary line's smallest extent. Marching
