@@ -67,6 +67,12 @@ def terminal_summary(result, out_dir: str | Path) -> str:
             lim = "-" if c.limit_T is None else f"{c.limit_T * 1e3:g}"
             lines.append(f"  {c.name:<{w}}  {c.floor:<10} {c.access:<10} max "
                          f"{c.max_field_T * 1e3:10.4g} mT  limit {lim:>6} mT  {c.verdict}")
+    ceiling = [c for c in r.rooms
+               if c.name in r.ceilings and r.ceilings[c.name].ceiling_exceeds]
+    if ceiling:
+        lines.append("above the occupied band, up to the ceiling: " + "; ".join(
+            f"{c.name} ({c.floor}) reaches {r.ceilings[c.name].max_field_T * 1e3:.3g} mT "
+            f"(limit {c.limit_T * 1e3:g} mT)" for c in ceiling))
     if r.equipment:
         w = max(len(e.name) for e in r.equipment)
         lines.append("equipment:")

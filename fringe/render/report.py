@@ -211,12 +211,22 @@ def _cover_sheet(r: ReportResult, base: dict):
         _cover_facts(r), _cover_findings(r))
 
 
+def _ceiling_note(r: ReportResult, room: str) -> str:
+    """The plan-label note of a room whose limit is passed above its occupied band."""
+    from fringe.render import drawing as dr
+
+    c = r.ceilings.get(room)
+    if c is None or not c.ceiling_exceeds:
+        return ""
+    return f"above band: exceeds at ceiling ({dr.format_value(c.max_field_T * 1e3)} mT)"
+
+
 def _plan_marks(r: ReportResult, name: str) -> tuple[list, list]:
     """Room and equipment marks of floor ``name``."""
     from fringe.render import drawing as dr
 
     rooms = [dr.RoomMark(c.name, next(x.outline for x in r.plan.rooms if x.name == c.name),
-                         c.access, c.verdict, c.max_field_T, c.limit_T)
+                         c.access, c.verdict, c.max_field_T, c.limit_T, _ceiling_note(r, c.name))
              for c in r.rooms if c.floor == name]
     equip = [dr.EquipmentMark(e.name, (e.position_m[0], e.position_m[1]), e.field_T,
                               e.limit_T, e.verdict)
@@ -252,6 +262,8 @@ def _plan_magnets(r: ReportResult, name: str, site_mags: dict,
 
 def _plan_notes(r: ReportResult, name: str, fm) -> list[str]:
     """The notes of the plan sheet of floor ``name``."""
+    from fringe.render import drawing as dr
+
     fl = fm.floor
     fa = None if r.attraction is None else r.attraction.floors.get(name)
     clipped = [f"{fp.threshold_mT:g}" for fp in r.footprints[name] if fp.clipped]
@@ -267,6 +279,15 @@ def _plan_notes(r: ReportResult, name: str, fm) -> list[str]:
     if fa is not None:
         notes.append(f"{fa.criterion}. Hatched: largest pull over the band levels; "
                      f"zone area {fa.area_m2:.2f} m².")
+    whole = r.full_height.get(name)
+    if whole is not None and whole.map is not fm:
+        z0, z1 = whole.z_m
+        att = ("" if whole.attraction_area_m2 is None else
+               f", attraction zone {whole.attraction_area_m2:.2f} m²")
+        notes.append(f"Whole storey, floor level to ceiling ({z1 - z0:g} m above the floor; "
+                     f"not used for verdicts): largest |B| "
+                     f"{dr.format_value(whole.max_field_T * 1e3)} mT, "
+                     f"{r.boundary.value_mT:g} mT area {whole.boundary_area_m2:.2f} m²{att}.")
     if clipped:
         notes.append(f"The {', '.join(clipped)} mT footprint(s) reach the edge of the "
                      "drawing: enlarge plan.extent_m to see them whole.")
