@@ -98,22 +98,28 @@ def _outermost(f, t: np.ndarray, start: float, step: float, stop: float = 0.0) -
     return a
 
 
-def _refine(cross, centre: float, h: float, lo_bound: float, hi_bound: float) -> float:
-    """max of cross(t) over t within ±2h of ``centre`` (and the bounds): 33 values at a
-    time, zooming 8-fold per round around the best until the spacing is below
-    :data:`REACH_TOL_M` (near the farthest point the reach is stationary in t)."""
-    best = 0.0
-    span = 2.0 * h
-    while True:
+def _refine(cross, candidates: np.ndarray, h: float, lo_bound: float,
+            hi_bound: float) -> float:
+    """max of cross(t) near the coarse ``candidates`` (every row or column whose coarse
+    crossing is within one node of the best): cross at each candidate, then 33 values
+    within ±h of the best, zooming 8-fold per round around the best until the spacing is
+    below :data:`REACH_TOL_M` (near the farthest point the reach is stationary in t)."""
+    t = np.asarray(candidates, dtype=float)
+    v = cross(t)
+    if not np.any(np.isfinite(v)):
+        return 0.0
+    k = int(np.nanargmax(v))
+    best, centre = float(v[k]), float(t[k])
+    span = h
+    while span / 16 >= REACH_TOL_M:
         t = np.clip(centre + np.linspace(-span, span, 33), lo_bound, hi_bound)
         v = cross(t)
-        if not np.any(np.isfinite(v)):
-            return best
-        k = int(np.nanargmax(v))
-        best, centre = max(best, float(v[k])), float(t[k])
-        if span / 16 < REACH_TOL_M:
-            return best
+        if np.any(np.isfinite(v)):
+            k = int(np.nanargmax(v))
+            if v[k] > best:
+                best, centre = float(v[k]), float(t[k])
         span /= 8.0
+    return best
 
 
 def threshold_reach_m(magnet: Magnet, threshold_T: float, *,
@@ -165,14 +171,14 @@ def threshold_reach_m(magnet: Magnet, threshold_T: float, *,
 
     # largest rho: per row, the outermost node above threshold
     idx_r = np.where(above, np.arange(rho.size)[None, :], -1).max(axis=1)  # (nz,)
-    j = int(np.argmax(idx_r))
-    rho_c = rho[idx_r[j]]
+    rho_c = rho[idx_r.max()]
+    rows = z[idx_r >= idx_r.max() - 1]
 
     def cross_rho(zz: np.ndarray) -> np.ndarray:
         start = min(rho_c + 3 * h, big_r)
         return _outermost(lambda S, T: _abs_B_local(magnet, S, T) - thr, zz, start, h / 8)
 
-    reach = _refine(cross_rho, float(z[j]), h, -big_r, big_r)
+    reach = _refine(cross_rho, rows, h, -big_r, big_r)
 
     # largest |z|: per column, the outermost node above threshold on either side
     axial = 0.0
@@ -181,14 +187,14 @@ def threshold_reach_m(magnet: Magnet, threshold_T: float, *,
         idx_z = np.where(above & (zs[:, None] >= 0), zs[:, None], -np.inf).max(axis=0)
         if not np.isfinite(idx_z).any():
             continue
-        i = int(np.argmax(idx_z))
-        z_c = float(idx_z[i])
+        z_c = float(idx_z.max())
+        cols = rho[idx_z >= z_c - 1.5 * h]
 
         def cross_z(rr: np.ndarray, sign=sign, z_c=z_c) -> np.ndarray:
             start = min(z_c + 3 * h, big_r)
             return _outermost(lambda S, T: _abs_B_local(magnet, T, sign * S) - thr, rr,
                               start, h / 8)
 
-        axial = max(axial, _refine(cross_z, float(rho[i]), h, 0.0, big_r))
+        axial = max(axial, _refine(cross_z, cols, h, 0.0, big_r))
         axial = max(axial, z_c)
     return max(reach, radial0, float(rho_c)), max(axial, axial0)
