@@ -7,9 +7,12 @@ distance of *any* of its points from the axis. :func:`threshold_reach_m` finds i
 2-D search in the magnet's own (ρ, z) half-plane, where the field is axisymmetric:
 
 1. **Coarse grid.** |B| on a uniform (ρ, z) grid of step h = R / ``REACH_GRID_NODES``
-   over 0 ≤ ρ ≤ R, −R ≤ z ≤ R, with R the distance beyond which |B| < threshold is
-   guaranteed (:func:`fringe.field.extents.field_bound_radius_m`), evaluated by the fast
-   field (:func:`fringe.field.evaluate.field_at`, within 1e-4 of the direct sum).
+   over 0 ≤ ρ ≤ R, −R ≤ z ≤ R, evaluated by the fast field
+   (:func:`fringe.field.evaluate.field_at`, within 1e-4 of the direct sum; points inside
+   windings are left out, as in plan maps). R starts at ``REACH_WINDOW_FACTOR`` × the
+   larger 1-D extent and grows 1.5-fold while any node on the window's outer edge is
+   above the threshold, up to the distance beyond which |B| < threshold is guaranteed
+   (:func:`fringe.field.extents.field_bound_radius_m`).
    For each row (z) the outermost node with |B| ≥ threshold, and for each column (ρ) the
    outermost node above and below the centre plane.
 2. **Refinement.** Around the best row (and column), the outermost crossing
@@ -33,15 +36,20 @@ import math
 
 import numpy as np
 
-from fringe.field.evaluate import field_at
+from fringe.field.evaluate import field_at, points_in_windings
 from fringe.field.extents import field_bound_radius_m, threshold_extents_m
 from fringe.model.errors import FringeInputError
 from fringe.model.magnet import Magnet
 
-__all__ = ["threshold_reach_m", "REACH_GRID_NODES", "REACH_TOL_M"]
+__all__ = ["threshold_reach_m", "REACH_GRID_NODES", "REACH_WINDOW_FACTOR", "REACH_TOL_M"]
 
 #: Coarse-grid nodes along ρ (2× along z); the grid step is R / this.
-REACH_GRID_NODES: int = 240
+REACH_GRID_NODES: int = 160
+
+#: The coarse window's half-size R starts at this multiple of the larger of the on-axis
+#: and centre-plane extents and grows 1.5-fold while the line touches its edge (never
+#: beyond the rigorous bound :func:`fringe.field.extents.field_bound_radius_m`).
+REACH_WINDOW_FACTOR: float = 1.6
 
 #: Tolerance of the position of the farthest point along the other coordinate, m (the
 #: reach itself is stationary there, so its error is far smaller).
@@ -147,7 +155,7 @@ def threshold_reach_m(magnet: Magnet, threshold_T: float, *,
     Notes
     -----
     Method and tolerance in the module notes (about 0.1 mm once the coarse grid of
-    step R/240 has found the outermost part of the line).
+    step R/160 has found the outermost part of the line).
     """
     thr = float(threshold_T)
     if not (math.isfinite(thr) and thr > 0):
@@ -157,15 +165,23 @@ def threshold_reach_m(magnet: Magnet, threshold_T: float, *,
                        else (float(extents_m[0]), float(extents_m[1])))
     if not magnet.coils:
         return 0.0, 0.0
-    big_r = field_bound_radius_m(magnet, thr)
+    bound = field_bound_radius_m(magnet, thr)
+    big_r = min(bound, max(REACH_WINDOW_FACTOR * max(axial0, radial0),
+                           1.5 * magnet.enclosing_radius_m))
     n = REACH_GRID_NODES
-    h = big_r / n
-    rho = h * np.arange(n + 1)
-    z = h * np.arange(-n, n + 1)
-    R, Z = np.meshgrid(rho, z)  # (nz, nrho)
-    local = np.column_stack([R.ravel(), np.zeros(R.size), Z.ravel()])
-    b = np.linalg.norm(field_at(magnet, magnet.to_site(local)), axis=1).reshape(R.shape)
-    above = b >= thr
+    while True:
+        h = big_r / n
+        rho = h * np.arange(n + 1)
+        z = h * np.arange(-n, n + 1)
+        R, Z = np.meshgrid(rho, z)  # (nz, nrho)
+        site_pts = magnet.to_site(np.column_stack([R.ravel(), np.zeros(R.size), Z.ravel()]))
+        inside = points_in_windings(magnet, site_pts)
+        b = np.zeros(R.size)
+        b[~inside] = np.linalg.norm(field_at(magnet, site_pts[~inside]), axis=1)
+        above = (b >= thr).reshape(R.shape)  # windings: not part of the line's space
+        if big_r >= bound or not (above[0].any() or above[-1].any() or above[:, -1].any()):
+            break
+        big_r = min(bound, 1.5 * big_r)  # the line touches the window's edge: widen
     if not above.any():
         return max(0.0, radial0), max(0.0, axial0)
 
