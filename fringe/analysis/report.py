@@ -20,6 +20,7 @@ from fringe.analysis.attraction import SiteAttraction, site_attraction
 from fringe.analysis.implants import SiteImplants, site_implants
 from fringe.analysis.overall import OverallVerdict, overall_verdict
 from fringe.analysis.quench import budget_for_site
+from fringe.analysis.storey import FullHeight, RoomCeiling, full_height, room_ceilings
 from fringe.analysis.verdicts import (
     EquipmentCheck,
     RoomCheck,
@@ -41,6 +42,7 @@ from fringe.analysis.zones import (
 )
 from fringe.field.extents import threshold_extents_m
 from fringe.field.multipole import zonal_moments_Am
+from fringe.field.reach import threshold_reach_m
 from fringe.model.building import Boundary
 from fringe.model.constants import VERSION as __version__
 from fringe.model.errors import FringeInputError, ScenarioError
@@ -69,7 +71,8 @@ class MagnetSummary:
     axis: tuple[float, float, float]
     description: str
     center_field_T: float
-    #: (threshold_mT, axial_extent_m, radial_extent_m) per threshold, ascending.
+    #: (threshold_mT, axial_extent_m, radial_extent_m) per threshold, ascending: on the
+    #: axis and in the centre plane (fringe.field.extents.threshold_extents_m).
     boundaries: tuple[tuple[float, float, float], ...]
     #: Where the coil model comes from ("coils", or a data-sheet fit;
     #: see fringe.io.scenario_datasheet).
@@ -81,6 +84,17 @@ class MagnetSummary:
     #: Zonal moments of the far field: dipole (A·m²), l = 3 (A·m⁴), l = 5 (A·m⁶)
     #: (fringe.field.multipole.zonal_moments_Am, l = 1, 3, 5).
     zonal_moments: tuple[float, float, float] = (float("nan"),) * 3
+    #: (threshold_mT, max_reach_m, max_reach_axial_m) per threshold, as ``boundaries``:
+    #: the line's largest distance from the axis and along it anywhere
+    #: (fringe.field.reach.threshold_reach_m).
+    reaches: tuple[tuple[float, float, float], ...] = ()
+
+    def reach(self, threshold_mT: float) -> tuple[float, float] | None:
+        """(max_reach_m, max_reach_axial_m) of ``threshold_mT`` (None if not computed)."""
+        for t, rho, z in self.reaches:
+            if math.isclose(t, threshold_mT, rel_tol=1e-9):
+                return rho, z
+        return None
 
 
 @dataclass(frozen=True)
@@ -111,6 +125,11 @@ class ReportResult:
     #: Implant figures: gradient maps, accessible maxima, implant conditions
     #: (fringe.analysis.implants).
     implants: SiteImplants | None = field(default=None, compare=False, repr=False)
+    #: Each floor's whole storey, floor level to ceiling, by floor name
+    #: (fringe.analysis.storey.FullHeight); informs, does not change a verdict.
+    full_height: dict[str, FullHeight] = field(default_factory=dict, compare=False, repr=False)
+    #: Each room over its whole storey, by room name (fringe.analysis.storey.RoomCeiling).
+    ceilings: dict[str, RoomCeiling] = field(default_factory=dict, compare=False, repr=False)
 
     def floor_verdict(self, floor: str) -> Verdict:
         """``exceeds`` when the boundary footprint on ``floor`` reaches beyond its
@@ -201,11 +220,13 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     for m in site.magnets:
         b0 = float(field_magnitude_T(m, np.asarray([m.center_m]))[0])
         bounds = tuple((t, *threshold_extents_m(m, t * 1e-3)) for t in thr_mT)
+        reaches = tuple((t, *threshold_reach_m(m, t * 1e-3, extents_m=(a, rr)))
+                        for t, a, rr in bounds)
         q = zonal_moments_Am(m, 5)
         mags.append(MagnetSummary(m.name, m.center_m, m.axis, m.description, b0, bounds,
                                   m.origin, stored_energy_J(m), m.dipole_moment_Am2,
-                                  (float(q[1]), float(q[3]), float(q[5]))))
-    say("extents of each threshold line done")
+                                  (float(q[1]), float(q[3]), float(q[5])), reaches))
+    say("extents and reach of each threshold line done")
     _warn_if_grid_too_coarse(mags, s.boundary.value_mT, step, site.source_file)
 
     extent = s.extent_m or default_extent_m(site.magnets, plan.rooms, plan.equipment,
@@ -247,9 +268,17 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     equip = check_equipment(site, plan.equipment, plan.floor_of_point, floors=plan.floors,
                             step_m=step, band_step_m=s.band_step_m)
     say("room and equipment verdicts done")
+    whole = {name: full_height(site, fm, s.band_step_m, s.boundary.value_mT * 1e-3, thr_T,
+                               attraction=attraction.floors.get(name),
+                               object_kind=attraction.object_kind,
+                               material=attraction.material, progress=progress)
+             for name, fm in fmaps.items()}
+    ceilings = room_ceilings(site, plan.rooms, rooms, fmaps,
+                             {name: w.map for name, w in whole.items()})
+    say("whole storeys up to each ceiling done")
     return ReportResult(site.name, site.source_file, plan, s.boundary, thr_mT, step, extent,
                         tuple(mags), fmaps, fps, outside, tuple(secs), rooms, equip, _now_utc(),
-                        __version__, site, quench, attraction, implants)
+                        __version__, site, quench, attraction, implants, whole, ceilings)
 
 
 #: Largest plan grid step as a fraction of the boundary line's smallest extent. Marching

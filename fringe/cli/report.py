@@ -65,9 +65,13 @@ def terminal_summary(result, out_dir: str | Path) -> str:
     for m in r.magnets:
         for t, a, rr in m.boundaries:
             if abs(t - r.boundary.value_mT) < 1e-9 * t:
-                lines.append(f"magnet {m.name}: centre {m.center_field_T:.3g} T; {t:g} mT line "
-                             f"{a:.2f} m along, {rr:.2f} m across the axis; stored energy "
-                             f"{m.stored_energy_J / 1e6:.3g} MJ")
+                reach = m.reach(t)
+                line = (f"{t:g} mT line {a:.2f} m along, {rr:.2f} m across the axis"
+                        if reach is None else
+                        f"{t:g} mT line reaches {reach[0]:.2f} m from the axis ({rr:.2f} m "
+                        f"in the centre plane), {reach[1]:.2f} m along it")
+                lines.append(f"magnet {m.name}: centre {m.center_field_T:.3g} T; {line}; "
+                             f"stored energy {m.stored_energy_J / 1e6:.3g} MJ")
         if m.origin != "coils" and m.description:
             lines.append(f"  model: {m.description}")
     for name, fps in r.footprints.items():
@@ -86,6 +90,12 @@ def terminal_summary(result, out_dir: str | Path) -> str:
             lines.append(f"  {c.name:<{w}}  {c.floor:<10} {c.access:<10} max "
                          f"{format_field(c.max_field_T, 4):>13}  limit {lim:>6} mT  "
                          f"{c.verdict}")
+    ceiling = [c for c in r.rooms
+               if c.name in r.ceilings and r.ceilings[c.name].ceiling_exceeds]
+    if ceiling:
+        lines.append("above the occupied band, up to the ceiling: " + "; ".join(
+            f"{c.name} ({c.floor}) reaches {format_field(r.ceilings[c.name].max_field_T)} "
+            f"(limit {c.limit_T * 1e3:g} mT)" for c in ceiling))
     if r.equipment:
         w = max(len(e.name) for e in r.equipment)
         lines.append("equipment:")

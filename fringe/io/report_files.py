@@ -67,6 +67,32 @@ def _attraction_area(r: ReportResult, floor: str) -> dict | None:
     return {"area_m2": num(fa.area_m2, 5), "max_force_product_T2_per_m": num(peak, 5)}
 
 
+def _boundary_entry(m, t: float, axial: float, radial: float) -> dict:
+    """One threshold line of a magnet in summary.json: centre-plane and on-axis extents,
+    and its reach anywhere (largest distance from the axis and along it)."""
+    out = {"threshold_mT": t, "axial_extent_m": num(axial, 5), "radial_extent_m": num(radial, 5)}
+    reach = m.reach(t)
+    if reach is not None:
+        out["max_reach_m"] = num(reach[0], 5)
+        out["max_reach_axial_m"] = num(reach[1], 5)
+    return out
+
+
+def _full_height(r: ReportResult, floor: str) -> dict | None:
+    """A floor's whole storey (floor level to ceiling) in summary.json."""
+    w = r.full_height.get(floor)
+    if w is None:
+        return None
+    return {"max_field_T": num(w.max_field_T), "boundary_area_m2": num(w.boundary_area_m2, 5),
+            "attraction_area_m2": num(w.attraction_area_m2, 5)}
+
+
+def _ceiling_exceeds(r: ReportResult, room: str) -> bool:
+    """True when a room's full-height maximum reaches its limit above (or below) its band."""
+    c = r.ceilings.get(room)
+    return bool(c is not None and c.ceiling_exceeds)
+
+
 def _exposure_rows(r: ReportResult) -> list[dict]:
     return [{"name": e.name, "field_T": e.field_T, "applies_to": e.applies_to,
              "source": e.source} for e in exposure_limits(r.plan.settings.exposure_lines)]
@@ -97,8 +123,7 @@ def summary_dict(r: ReportResult) -> dict:
             "zonal_moments": {"dipole_Am2": num(m.zonal_moments[0]),
                               "l3_Am4": num(m.zonal_moments[1]),
                               "l5_Am6": num(m.zonal_moments[2])},
-            "boundaries": [{"threshold_mT": t, "axial_extent_m": num(a, 5),
-                            "radial_extent_m": num(rr, 5)} for t, a, rr in m.boundaries],
+            "boundaries": [_boundary_entry(m, t, a, rr) for t, a, rr in m.boundaries],
             "attraction": attraction_extents(r, m.name),
         } for m in r.magnets],
         "floors": [{
@@ -114,6 +139,7 @@ def summary_dict(r: ReportResult) -> dict:
                             "sampled_area_m2": num(fp.sampled_area_m2, 5),
                             "clipped": fp.clipped} for fp in r.footprints[name]],
             "attraction": _attraction_area(r, name),
+            "full_height": _full_height(r, name),
         } for name, fm in r.floor_maps.items()],
         "rooms": [{
             "name": c.name, "floor": c.floor, "access": c.access,
@@ -121,6 +147,7 @@ def summary_dict(r: ReportResult) -> dict:
             "limit_T": num(c.limit_T), "limit_source": c.limit_source, "verdict": c.verdict,
             "area_above_m2": [{"threshold_mT": t, "area_m2": num(a, 5)}
                               for t, a in c.area_above_m2],
+            "ceiling_exceeds": _ceiling_exceeds(r, c.name),
         } for c in r.rooms],
         "equipment": [{
             "name": e.name, "position_m": list(e.position_m), "floor": e.floor,
@@ -226,11 +253,12 @@ def csv_text(rows: list[list]) -> str:
 
 def rooms_csv(r: ReportResult) -> str:
     """The room verdict table as CSV (fields in mT)."""
-    rows = [["room", "floor", "access", "max_field_mT", "limit_mT", "verdict", "limit_source"]]
+    rows = [["room", "floor", "access", "max_field_mT", "limit_mT", "verdict", "limit_source",
+             "ceiling_exceeds"]]
     for c in r.rooms:
         rows.append([c.name, c.floor, c.access, f"{c.max_field_T * 1e3:.4g}",
                      "" if c.limit_T is None else f"{c.limit_T * 1e3:g}", c.verdict,
-                     c.limit_source])
+                     c.limit_source, "true" if _ceiling_exceeds(r, c.name) else "false"])
     return csv_text(rows)
 
 

@@ -10,6 +10,7 @@ See ``docs/scenario.md`` ("Floors, rooms, equipment") for every key.
 
 from __future__ import annotations
 
+import dataclasses
 import difflib
 import json
 import warnings
@@ -23,6 +24,7 @@ from fringe.io.reader import Reader, finite_number
 from fringe.model.building import (
     ACCESS_CLASSES,
     BOUNDARY_CHOICES,
+    DEFAULT_SLAB_M,
     Boundary,
     Equipment,
     Floor,
@@ -137,17 +139,36 @@ def _gradient_lines(r: Reader) -> tuple[float, ...]:
 
 def parse_floors(root: Reader, settings: PlanSettings) -> tuple[Floor, ...]:
     """Parse ``[[floor]]`` tables: ``name``, ``elevation_m``, optional ``occupied_band_m``
-    (default: the ``[plan]`` band of ``settings``)."""
-    out: list[Floor] = []
+    (default: the ``[plan]`` band of ``settings``), ``ceiling_m`` and ``slab_m``.
+
+    ``ceiling_m`` is the height of the underside of the slab above, measured from the
+    floor's own level (m, at least the band top). Default: the next floor up's
+    elevation less ``slab_m`` (default :data:`fringe.model.building.DEFAULT_SLAB_M`,
+    0.3 m), but not below the band top; the top floor's default is its band top (no
+    storey height is assumed).
+    """
+    out: list[tuple[Floor, Reader, float | None, float]] = []
     for fr in root.tables("floor"):
         name = fr.string("name")
-        if any(f.name == name for f in out):
+        if any(f.name == name for f, *_ in out):
             fr.fail(fr.key("name"), "unique among floors", name)
         elev = fr.number("elevation_m")
         lo, hi = _band(fr, "occupied_band_m", settings.band_m)
+        ceiling = fr.number("ceiling_m", None, low=0.0, low_open=True)
+        if ceiling is not None and ceiling < hi:
+            fr.fail(fr.key("ceiling_m"), f"at least the occupied band's top ({hi:g} m above "
+                    "the floor; the ceiling is measured from the floor's own level)", ceiling)
+        slab = fr.number("slab_m", DEFAULT_SLAB_M, low=0.0)
         fr.finish()
-        out.append(Floor(name, elev, lo, hi))
-    return tuple(out)
+        out.append((Floor(name, elev, lo, hi), fr, ceiling, slab))
+    floors = []
+    for f, _fr, ceiling, slab in out:
+        if ceiling is None:
+            above = [g.elevation_m for g, *_ in out if g.elevation_m > f.elevation_m]
+            ceiling = (max(min(above) - f.elevation_m - slab, f.band_top_m) if above
+                       else f.band_top_m)
+        floors.append(dataclasses.replace(f, ceiling_m=float(ceiling)))
+    return tuple(floors)
 
 
 # -- [[room]] and [[room_file]] -------------------------------------------------------

@@ -9,7 +9,13 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-__all__ = ["Floor", "Room", "Equipment", "Boundary", "ACCESS_CLASSES", "BOUNDARY_CHOICES"]
+__all__ = ["Floor", "Room", "Equipment", "Boundary", "ACCESS_CLASSES", "BOUNDARY_CHOICES",
+           "DEFAULT_SLAB_M"]
+
+#: Default slab thickness (m) between a storey's ceiling and the next floor's level: a
+#: floor's default ``ceiling_m`` is the next floor's elevation less this (a typical
+#: reinforced-concrete floor build-up; common practice, no source).
+DEFAULT_SLAB_M: float = 0.3
 
 #: Access classes of rooms. ``controlled`` rooms may hold fields above the boundary
 #: value; every other room may not.
@@ -27,17 +33,37 @@ class Floor:
         Finished-floor level in the site frame (z), m.
     band_bottom_m, band_top_m : float
         Occupied height band above the floor, m (default 0 to 2.0 m).
+    ceiling_m : float or None
+        Height of the underside of the slab above (the ceiling), measured from this
+        floor's own level (``elevation_m``), m. None: no storey height known, the full
+        height is the occupied band's top. The scenario reader fills it
+        (:data:`DEFAULT_SLAB_M` below the next floor up by default).
     """
 
     name: str
     elevation_m: float
     band_bottom_m: float = 0.0
     band_top_m: float = 2.0
+    ceiling_m: float | None = None
 
     @property
     def band_z_m(self) -> tuple[float, float]:
         """The occupied band as absolute site z (low, high), m."""
         return (self.elevation_m + self.band_bottom_m, self.elevation_m + self.band_top_m)
+
+    @property
+    def full_height_z_m(self) -> tuple[float, float]:
+        """The whole storey as absolute site z (low, high), m: from the floor level up to
+        the ceiling (never below the band top)."""
+        top = self.band_top_m if self.ceiling_m is None else max(self.ceiling_m,
+                                                                 self.band_top_m)
+        return (self.elevation_m, self.elevation_m + top)
+
+    def full_height(self) -> Floor:
+        """This floor with its occupied band widened to the whole storey (floor level to
+        ceiling): the band that full-height maps sample."""
+        lo, hi = self.full_height_z_m
+        return Floor(self.name, self.elevation_m, 0.0, hi - lo, self.ceiling_m)
 
 
 @dataclass(frozen=True)

@@ -106,6 +106,8 @@ class RoomMark:
         Largest |B| in the room's occupied band, T (printed in mT, in T from 1 T).
     limit_T : float or None
         The limit the verdict was made against, T (printed in mT).
+    note : str
+        A short extra line under the label (e.g. "above band: exceeds at ceiling").
     """
 
     name: str
@@ -114,6 +116,7 @@ class RoomMark:
     verdict: str | None = None
     max_field_T: float | None = None
     limit_T: float | None = None
+    note: str = ""
 
 
 @dataclass(frozen=True)
@@ -850,6 +853,8 @@ def _draw_rooms(ax, renderer, rooms: Sequence[RoomMark], avoid) -> tuple[list, l
             lines.append(f"EXCEEDS LIMIT{lim}")
         elif r.verdict and r.verdict.lower() not in {x.lower() for x in detail}:
             lines.append(str(r.verdict))
+        if r.note:
+            lines.append(str(r.note))
         visible = r.polygon.intersection(view)  # label the part inside the drawing
         if visible.is_empty or visible.area < 1e-9 * view.area:
             continue

@@ -163,8 +163,12 @@ def _cover_facts(r: ReportResult) -> list[tuple[str, str]]:
     for m in r.magnets:
         b = next((x for x in m.boundaries
                   if math.isclose(x[0], r.boundary.value_mT, rel_tol=1e-9)), None)
-        ext = (f"; {b[0]:g} mT line {b[1]:.2f} m along, {b[2]:.2f} m across the axis"
-               if b else "")
+        reach = m.reach(b[0]) if b else None
+        ext = ("" if not b else
+               f"; {b[0]:g} mT line {b[1]:.2f} m along, {b[2]:.2f} m across the axis"
+               if reach is None else
+               f"; {b[0]:g} mT line reaches {reach[0]:.2f} m from the axis ({b[2]:.2f} m in "
+               f"the centre plane), {reach[1]:.2f} m along it")
         facts.append((f"Magnet {m.name}", f"centre field {m.center_field_T:.3g} T{ext}; "
                       f"stored energy {m.stored_energy_J / 1e6:.3g} MJ"))
         if m.description:
@@ -221,12 +225,22 @@ def _cover_sheet(r: ReportResult, base: dict):
         _cover_facts(r), _cover_findings(r))
 
 
+def _ceiling_note(r: ReportResult, room: str) -> str:
+    """The plan-label note of a room whose limit is passed above its occupied band."""
+    from fringe.render import drawing as dr
+
+    c = r.ceilings.get(room)
+    if c is None or not c.ceiling_exceeds:
+        return ""
+    return f"above band: exceeds at ceiling ({dr.format_value(c.max_field_T * 1e3)} mT)"
+
+
 def _plan_marks(r: ReportResult, name: str) -> tuple[list, list]:
     """Room and equipment marks of floor ``name``."""
     from fringe.render import drawing as dr
 
     rooms = [dr.RoomMark(c.name, next(x.outline for x in r.plan.rooms if x.name == c.name),
-                         c.access, c.verdict, c.max_field_T, c.limit_T)
+                         c.access, c.verdict, c.max_field_T, c.limit_T, _ceiling_note(r, c.name))
              for c in r.rooms if c.floor == name]
     equip = [dr.EquipmentMark(e.name, (e.position_m[0], e.position_m[1]), e.field_T,
                               e.limit_T, e.verdict, e.outline)
@@ -263,6 +277,8 @@ def _plan_magnets(r: ReportResult, name: str, site_mags: dict,
 
 def _plan_notes(r: ReportResult, name: str, fm) -> list[str]:
     """The notes of the plan sheet of floor ``name``."""
+    from fringe.render import drawing as dr
+
     fl = fm.floor
     fa = None if r.attraction is None else r.attraction.floors.get(name)
     clipped = [f"{fp.threshold_mT:g}" for fp in r.footprints[name] if fp.clipped]
@@ -278,6 +294,15 @@ def _plan_notes(r: ReportResult, name: str, fm) -> list[str]:
     if fa is not None:
         notes.append(f"{fa.criterion}. Hatched: largest pull over the band levels; "
                      f"zone area {fa.area_m2:.2f} m².")
+    whole = r.full_height.get(name)
+    if whole is not None and whole.map is not fm:
+        z0, z1 = whole.z_m
+        att = ("" if whole.attraction_area_m2 is None else
+               f", attraction zone {whole.attraction_area_m2:.2f} m²")
+        notes.append(f"Whole storey, floor level to ceiling ({z1 - z0:g} m above the floor; "
+                     f"not used for verdicts): largest |B| "
+                     f"{dr.format_value(whole.max_field_T * 1e3)} mT, "
+                     f"{r.boundary.value_mT:g} mT area {whole.boundary_area_m2:.2f} m²{att}.")
     if clipped:
         notes.append(f"The {', '.join(clipped)} mT footprint(s) reach the edge of the "
                      "drawing: enlarge plan.extent_m to see them whole.")
@@ -382,9 +407,11 @@ def _tables(r: ReportResult) -> list[tuple[str, list[str], list[list]]]:
             [[e.name, e.floor, *e.position_m, format_field(e.field_T), e.limit_T * 1e3,
               e.verdict, e.note] for e in r.equipment]))
     tables.append((
-        "Field-line extents of each magnet alone (outermost crossing)",
-        ["magnet", "threshold, mT", "along the axis, m", "across the axis, m"],
-        [[m.name, t, a, rr] for m in r.magnets for t, a, rr in m.boundaries]))
+        "Field-line extents of each magnet alone (outermost crossing; reach: anywhere)",
+        ["magnet", "threshold, mT", "on the axis, m", "centre plane, m",
+         "reach from the axis, m", "reach along the axis, m"],
+        [[m.name, t, a, rr, *(m.reach(t) or ("-", "-"))]
+         for m in r.magnets for t, a, rr in m.boundaries]))
     tables.append((
         "Magnets: stored energy and far-field zonal moments",
         ["magnet", "centre field, T", "stored energy, MJ", "dipole, A·m²", "l = 3, A·m⁴",
