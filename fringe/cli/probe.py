@@ -14,7 +14,7 @@ from fringe.field.evaluate import (
     field_at,
     points_in_windings,
 )
-from fringe.io.atomic import atomic_file
+from fringe.io.atomic import atomic_file, check_output_file
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import ScenarioError
@@ -55,6 +55,10 @@ def format_table(points_m: np.ndarray, B_T: np.ndarray) -> str:
 
 
 def run(args) -> int:
+    if args.out:  # before any computation
+        if Path(args.out).suffix.lower() not in (".npy", ".csv"):
+            raise ScenarioError(f"`--out` must end in .npy or .csv; got {Path(args.out).name!r}")
+        check_output_file(args.out, name="--out")
     site = load_site(args.scenario)
     pts = [np.asarray(args.at, dtype=float).reshape(-1, 3)]
     if args.points:

@@ -11,6 +11,7 @@ import sys
 
 from fringe.analysis.quench import budget_for_site
 from fringe.cli.main import print_json
+from fringe.io.atomic import check_output_file
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import ScenarioError, must_be
@@ -182,6 +183,10 @@ def format_budget(b: QuenchBudget, site_name: str = "") -> str:
 
 
 def run(args) -> int:
+    if args.pdf:  # before any computation
+        if not str(args.pdf).lower().endswith(".pdf"):
+            raise ScenarioError(must_be("--pdf", "a file name ending in .pdf", args.pdf))
+        check_output_file(args.pdf, suffixes=(".pdf",), name="--pdf")
     site = load_site(args.scenario)
     if not site.magnets:
         raise ScenarioError("`magnet` must list at least one magnet; got none", args.scenario)

@@ -96,9 +96,12 @@ def run_report(scenario: str | Path, out_dir: str | Path, *, grid_step_m: float 
                drawings: bool = True, quiet: bool = False):
     """Load, compute, write; returns the :class:`fringe.analysis.report.ReportResult`."""
     from fringe.analysis.report import check_grid_step_m, compute_report
+    from fringe.io.atomic import check_output_folder
     from fringe.io.prefetch import prefetch_quench_data
     from fringe.render.report import write_report
 
+    # an output folder we must not replace is refused before loading and computing
+    check_output_folder(out_dir, scenario_file=str(scenario), marker="summary.json")
     site = load_site(scenario)
     if grid_step_m is not None:
         check_grid_step_m(grid_step_m, "--grid-step-m")
