@@ -7,7 +7,6 @@ Each case replaces the command's computation with a function that fails the test
 from __future__ import annotations
 
 import pytest
-
 from conftest import SMALL_SCENARIO_TOML
 
 
