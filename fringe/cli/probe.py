@@ -16,7 +16,7 @@ from fringe.field.evaluate import (
 )
 from fringe.io.atomic import atomic_file, check_output_file
 from fringe.io.scenario import load_site
-from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.constants import ADVISORY_NOTICE, FIELD_BASIS_NOTE
 from fringe.model.errors import ScenarioError
 
 
@@ -95,5 +95,6 @@ def run(args) -> int:
     else:
         print(f"site: {site.name}")
         print(format_table(points, B))
+        print(FIELD_BASIS_NOTE)
         print(ADVISORY_NOTICE)
     return 0

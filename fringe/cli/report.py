@@ -6,7 +6,7 @@ from pathlib import Path
 
 from fringe.cli.progress import Progress
 from fringe.io.scenario import load_site
-from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.constants import ADVISORY_NOTICE, FIELD_BASIS_NOTE
 from fringe.model.verdict import Verdict
 
 EXIT_OK, EXIT_EXCEEDS = 0, 3
@@ -73,7 +73,7 @@ def terminal_summary(result, out_dir: str | Path) -> str:
         below = [t["threshold"] for t in b.to_dict()["oxygen_thresholds"]
                  if t["worst_case"] == "falls below"]
         lines.append(f"quench {b.magnet}: energy-limited boil-off {b.helium_boiled_kg:.3g} kg; "
-                     f"whole inventory {b.inventory_kg:.3g} kg; worst-case room oxygen "
+                     f"whole inventory {b.inventory_kg:.3g} kg; its room oxygen (well mixed) "
                      f"{100 * b.oxygen_fraction_worst_case:.2g} % in {b.room_volume_m3:g} m³"
                      + (f" — falls below {', '.join(below)} oxygen if the vent fails: the quench "
                         "vent and oxygen monitoring must be in place per local code and the "
@@ -88,6 +88,7 @@ def terminal_summary(result, out_dir: str | Path) -> str:
     lines.append(f"verdict: {n_ex} item(s) exceed their limit" if n_ex
                  else "verdict: no room or equipment exceeds its limit")
     lines.append(f"outputs: {out_dir}")
+    lines.append(FIELD_BASIS_NOTE)
     lines.append(ADVISORY_NOTICE)
     return "\n".join(lines)
 
