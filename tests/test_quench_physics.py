@@ -340,13 +340,14 @@ def test_json_form_carries_advisory_cautions_and_sources():
 
 
 def test_oxygen_formula_text_is_written_once_and_printed_unchanged():
-    # every printer reads OXYGEN_MODELS; the printed text is what it always was
+    # every printer reads OXYGEN_MODELS; the displacement estimate is named the harsher one
     from fringe.physics.quench import OXYGEN_MODELS, oxygen_model_text, room_volume_formula
 
     assert oxygen_model_text() == (
         "well-mixed room, displaced mixture escapes, no ventilation: "
         "x = 0.2095·exp(−V_gas/V_room) (Fermilab ES&H Manual ch. 4240 §6.1.A); "
-        "displacement cross-check x = 0.2095·(1 − V_gas/V_room)")
+        "displacement estimate x = 0.2095·(1 − V_gas/V_room), lower for every release "
+        "(the harsher of the two)")
     assert OXYGEN_MODELS["well-mixed"].formula("V") == "0.2095·exp(−V/V_room)"
     assert OXYGEN_MODELS["displacement"].formula("V") == "0.2095·(1 − V/V_room)"
     assert room_volume_formula(0.195) == "V/ln(0.2095/0.195)"

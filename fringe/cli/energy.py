@@ -138,6 +138,13 @@ def _write_maps(site, magnets, out_dir: Path, levels) -> list[Path]:
             for stem, fig in energy_density_sheets(site, magnets, levels)]
 
 
+def _check_maps_folder(maps) -> None:
+    """Refuse ``--maps`` naming a file, before any computation."""
+    if maps and Path(maps).exists() and not Path(maps).is_dir():
+        raise FringeIOError(must_be("--maps", "a folder (the maps are written into it)",
+                                    f"{maps} (a file)"))
+
+
 def _check_numbers(args) -> None:
     """Reject a negative envelope margin or non-positive contour levels."""
     if not (math.isfinite(args.envelope_margin_m) and args.envelope_margin_m >= 0):
@@ -197,6 +204,7 @@ def _print_text(site, results, mutual, total, maps, radius_m, outside_r) -> None
 
 
 def run(args) -> int:
+    _check_maps_folder(args.maps)
     site = load_site(args.scenario)
     if not site.magnets:
         raise ScenarioError("`magnet` must list at least one magnet; got none", args.scenario)

@@ -6,7 +6,7 @@ import sys
 import warnings
 
 from fringe.io import toml_out
-from fringe.io.atomic import write_text_atomic
+from fringe.io.atomic import check_output_file, write_text_atomic
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeInputError, FringeWarning, ScenarioError
 from fringe.physics.families import FAMILIES
@@ -27,12 +27,17 @@ def register(sub) -> None:
                      + ADVISORY_NOTICE))
     p.add_argument("--center-field-T", type=float, required=True, dest="center_field_T",
                    metavar="B", help="field at the isocentre, T")
-    p.add_argument("--radial-m", type=float, required=True, dest="radial_m", metavar="R",
+    p.add_argument("--radial-m", type=float, default=None, dest="radial_m", metavar="R",
                    help="extent of the field line across the axis (centre plane), m")
-    p.add_argument("--axial-m", type=float, required=True, dest="axial_m", metavar="A",
+    p.add_argument("--axial-m", type=float, default=None, dest="axial_m", metavar="A",
                    help="extent of the field line along the axis, m")
-    p.add_argument("--threshold-mT", type=float, default=0.5, dest="threshold_mT",
+    p.add_argument("--threshold-mT", type=float, default=None, dest="threshold_mT",
                    metavar="MT", help="level of that field line, mT (default 0.5)")
+    p.add_argument("--line", type=float, nargs=3, action="append", default=[], dest="lines",
+                   metavar=("THRESHOLD_mT", "AXIAL_m", "RADIAL_m"),
+                   help="one data-sheet field line: its level in mT and how far it reaches "
+                        "along and across the axis, m; repeatable; combines with "
+                        "--radial-m/--axial-m")
     p.add_argument("--unshielded", action="store_true",
                    help="the magnet has no active shield (default: actively shielded)")
     p.add_argument("--bore-m", type=float, default=None, dest="bore_m", metavar="D",
@@ -78,29 +83,68 @@ def summary_text(result: FitResult) -> str:
     jmax = max(abs(c.current_density_A_per_m2) for c in result.magnet.coils)
     out.append(f"# {len(result.magnet.coils)} coils, {turns:.0f} turns at {cur:.4g} A; "
                f"largest winding current density {jmax:.3g} A/m²")
+    for n in result.notes:
+        out.append(f"# NOTE: {n.replace('`bore_m`', '`--bore-m`')}")
     for w in result.warnings:
         out.append(f"# WARNING: {w}")
     return "\n".join(out) + "\n"
 
 
+def _positive(flag: str, v: float) -> None:
+    if not (v > 0 and v < float("inf")):
+        raise ScenarioError(f"`{flag}` must be a positive number; got {v!r}")
+
+
+def field_lines(args) -> list[FieldLine]:
+    """The requested field lines: one from ``--radial-m/--axial-m[/--threshold-mT]``, then
+    every ``--line THRESHOLD_mT AXIAL_m RADIAL_m``, checked (ScenarioError names the option)."""
+    out = []
+    single = (args.radial_m, args.axial_m)
+    if any(v is not None for v in single) or args.threshold_mT is not None:
+        if None in single:
+            raise ScenarioError("`--radial-m` and `--axial-m` go together (one field line; "
+                                "`--threshold-mT` gives its level); or give `--line "
+                                "THRESHOLD_mT AXIAL_m RADIAL_m`")
+        thr = 0.5 if args.threshold_mT is None else args.threshold_mT
+        for flag, v in (("--radial-m", args.radial_m), ("--axial-m", args.axial_m),
+                        ("--threshold-mT", thr)):
+            _positive(flag, v)
+        if thr * 1e-3 >= args.center_field_T:
+            raise ScenarioError(f"`--threshold-mT` must be below the centre field "
+                                f"({args.center_field_T * 1e3:g} mT); got {thr!r}")
+        out.append(FieldLine(thr * 1e-3, args.axial_m, args.radial_m))
+    for i, (thr, ax, rad) in enumerate(args.lines):
+        for what, v in (("THRESHOLD_mT", thr), ("AXIAL_m", ax), ("RADIAL_m", rad)):
+            _positive(f"--line` #{i + 1} `{what}", v)
+        if thr * 1e-3 >= args.center_field_T:
+            raise ScenarioError(f"`--line` #{i + 1}: THRESHOLD_mT must be below the centre "
+                                f"field ({args.center_field_T * 1e3:g} mT); got {thr!r}")
+        out.append(FieldLine(thr * 1e-3, ax, rad))
+    if not out:
+        raise ScenarioError("give at least one field line: `--radial-m R --axial-m A` "
+                            "(with `--threshold-mT`, default 0.5) or `--line THRESHOLD_mT "
+                            "AXIAL_m RADIAL_m` (repeatable)")
+    levels = [ln.threshold_T for ln in out]
+    if len(set(levels)) != len(levels):
+        raise ScenarioError("each field line needs its own level: two lines share "
+                            "THRESHOLD_mT (check `--line` and `--threshold-mT`)")
+    return out
+
+
 def run(args) -> int:
-    for flag, v in (("--center-field-T", args.center_field_T), ("--radial-m", args.radial_m),
-                    ("--axial-m", args.axial_m), ("--threshold-mT", args.threshold_mT)):
-        if not (v > 0 and v < float("inf")):
-            raise ScenarioError(f"`{flag}` must be a positive number; got {v!r}")
+    _positive("--center-field-T", args.center_field_T)
     if args.center_field_T > MAX_CENTER_FIELD_T:
         raise ScenarioError(f"`--center-field-T` must be at most {MAX_CENTER_FIELD_T:g} T (no "
                             f"magnet family here reaches beyond); got {args.center_field_T!r}")
     if args.bore_m is not None and not (0 < args.bore_m < float("inf")):
         raise ScenarioError(f"`--bore-m` must be a positive number; got {args.bore_m!r}")
-    if args.threshold_mT * 1e-3 >= args.center_field_T:
-        raise ScenarioError(f"`--threshold-mT` must be below the centre field "
-                            f"({args.center_field_T * 1e3:g} mT); got {args.threshold_mT!r}")
-    line = FieldLine(args.threshold_mT * 1e-3, args.axial_m, args.radial_m)
+    lines = field_lines(args)
+    if args.out:
+        check_output_file(args.out, name="--out")
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", FringeWarning)  # printed below from the result
-            res = fit_magnet(args.center_field_T, [line], shielded=not args.unshielded,
+            res = fit_magnet(args.center_field_T, lines, shielded=not args.unshielded,
                              bore_m=args.bore_m)
     except FringeInputError as e:
         raise ScenarioError(str(e)) from None
@@ -110,6 +154,8 @@ def run(args) -> int:
     if args.out:
         write_text_atomic(args.out, block)
         sys.stdout.write(f"# written to {args.out}\n")
+    for n in res.notes:
+        sys.stderr.write(f"fringe: note: {n.replace('`bore_m`', '`--bore-m`')}\n")
     for w in res.warnings:
         sys.stderr.write(f"fringe: warning: {w}\n")
     return 0

@@ -6,6 +6,7 @@ import numpy as np
 
 from fringe.cli.progress import ProgressBar
 from fringe.field.grid import DEFAULT_BLOCK_POINTS, grid_from_box
+from fringe.io.atomic import check_output_file
 from fringe.io.gridmap import MAP_FORMATS, write_map
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
@@ -41,6 +42,7 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    check_output_file(args.out, suffixes=MAP_FORMATS, name="--out")  # before any computation
     site = load_site(args.scenario)
     try:
         grid = grid_from_box(args.box, args.step, box_key="--box", step_key="--step")

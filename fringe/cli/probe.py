@@ -16,9 +16,9 @@ from fringe.field.evaluate import (
     grad_abs_B_T_per_m,
     points_in_windings,
 )
-from fringe.io.atomic import atomic_file
+from fringe.io.atomic import atomic_file, check_output_file
 from fringe.io.scenario import load_site
-from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.constants import ADVISORY_NOTICE, FIELD_BASIS_NOTE
 from fringe.model.errors import ScenarioError
 
 
@@ -68,6 +68,10 @@ def format_table(points_m: np.ndarray, B_T: np.ndarray) -> str:
 
 
 def run(args) -> int:
+    if args.out:  # before any computation
+        if Path(args.out).suffix.lower() not in (".npy", ".csv"):
+            raise ScenarioError(f"`--out` must end in .npy or .csv; got {Path(args.out).name!r}")
+        check_output_file(args.out, name="--out")
     site = load_site(args.scenario)
     pts = [np.asarray(args.at, dtype=float).reshape(-1, 3)]
     if args.points:
@@ -105,5 +109,6 @@ def run(args) -> int:
     else:
         print(f"site: {site.name}")
         print(format_table(points, B))
+        print(FIELD_BASIS_NOTE)
         print(ADVISORY_NOTICE)
     return 0

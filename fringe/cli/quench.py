@@ -11,6 +11,7 @@ import sys
 
 from fringe.analysis.quench import budget_for_site
 from fringe.cli.main import print_json
+from fringe.io.atomic import check_output_file
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import ScenarioError, must_be
@@ -134,23 +135,26 @@ def format_budget(b: QuenchBudget, site_name: str = "") -> str:
         + ("  (more than the inventory: capped)" if b.capped_by_inventory else ""),
         f"    after the inventory cap       {b.helium_boiled_kg:10.4g} kg = "
         f"{b.helium_boiled_L:.4g} L liquid -> {b.gas_volume_m3:.4g} m³ gas at {room}",
-        f"  worst case: whole inventory     {b.inventory_kg:10.4g} kg = "
+        f"  largest release: whole inventory {b.inventory_kg:9.4g} kg = "
         f"{b.helium_L:.4g} L liquid -> {b.inventory_gas_volume_m3:.4g} m³ gas",
         "  (W/h_fg is an upper bound for the boil-off the energy alone causes — part of W "
         "warms the cold",
-        "   mass and the gas — but the whole inventory can still be lost: plan for the "
-        "worst case.)",
+        "   mass and the gas — but the whole inventory can still be lost: plan for that "
+        "release.)",
         "",
         f"ROOM OXYGEN if the gas stays in the room ({b.room_volume_m3:g} m³; well mixed, "
         "displaced air escapes, no ventilation, vent pipe failed)",
         f"  after the energy-limited release {_pct(b.oxygen_fraction_energy_limited):>10}",
         f"  after the whole inventory        {_pct(b.oxygen_fraction_worst_case):>10}"
-        f"   (displacement estimate: {_pct(b.oxygen_fraction_worst_case_displacement)})",
+        f"   (well mixed; the displacement estimate "
+        f"{_pct(b.oxygen_fraction_worst_case_displacement)} is harsher)",
     ]
     for t in b.thresholds:
         lines.append(f"  {t['threshold']:>6} threshold: energy-limited {t['energy_limited']}; "
-                     f"worst case {t['worst_case']}; the worst case stays above it only in a "
-                     f"room ≥ {t['room_volume_m3_needed_worst_case']:,.0f} m³")
+                     f"whole inventory {t['worst_case']} (well mixed); the whole inventory "
+                     f"stays above it only in a room ≥ "
+                     f"{t['room_volume_m3_needed_worst_case']:,.0f} m³ (well mixed; larger "
+                     "under displacement)")
         lines.append(f"         ({t['source']})")
     lines.append("")
     if b.dump is not None:
@@ -190,6 +194,10 @@ def format_budget(b: QuenchBudget, site_name: str = "") -> str:
 
 
 def run(args) -> int:
+    if args.pdf:  # before any computation
+        if not str(args.pdf).lower().endswith(".pdf"):
+            raise ScenarioError(must_be("--pdf", "a file name ending in .pdf", args.pdf))
+        check_output_file(args.pdf, suffixes=(".pdf",), name="--pdf")
     site = load_site(args.scenario)
     if not site.magnets:
         raise ScenarioError("`magnet` must list at least one magnet; got none", args.scenario)

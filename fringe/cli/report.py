@@ -6,7 +6,7 @@ from pathlib import Path
 
 from fringe.cli.progress import Progress
 from fringe.io.scenario import load_site
-from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.constants import ADVISORY_NOTICE, FIELD_BASIS_NOTE
 
 EXIT_OK, EXIT_EXCEEDS = 0, 3
 
@@ -107,7 +107,7 @@ def terminal_summary(result, out_dir: str | Path) -> str:
         below = [t["threshold"] for t in b.to_dict()["oxygen_thresholds"]
                  if t["worst_case"] == "falls below"]
         lines.append(f"quench {b.magnet}: energy-limited boil-off {b.helium_boiled_kg:.3g} kg; "
-                     f"whole inventory {b.inventory_kg:.3g} kg; worst-case room oxygen "
+                     f"whole inventory {b.inventory_kg:.3g} kg; its room oxygen (well mixed) "
                      f"{100 * b.oxygen_fraction_worst_case:.2g} % in {b.room_volume_m3:g} m³"
                      + (f" — falls below {', '.join(below)} oxygen if the vent fails: the quench "
                         "vent and oxygen monitoring must be in place per local code and the "
@@ -119,6 +119,7 @@ def terminal_summary(result, out_dir: str | Path) -> str:
                      "change the layout")
     lines.append(closing_verdict(r)[0])
     lines.append(f"outputs: {out_dir}")
+    lines.append(FIELD_BASIS_NOTE)
     lines.append(ADVISORY_NOTICE)
     return "\n".join(lines)
 
@@ -127,9 +128,12 @@ def run_report(scenario: str | Path, out_dir: str | Path, *, grid_step_m: float 
                drawings: bool = True, quiet: bool = False):
     """Load, compute, write; returns the :class:`fringe.analysis.report.ReportResult`."""
     from fringe.analysis.report import check_grid_step_m, compute_report
+    from fringe.io.atomic import check_output_folder
     from fringe.io.prefetch import prefetch_quench_data
     from fringe.render.report import write_report
 
+    # an output folder we must not replace is refused before loading and computing
+    check_output_folder(out_dir, scenario_file=str(scenario), marker="summary.json")
     site = load_site(scenario)
     if grid_step_m is not None:
         check_grid_step_m(grid_step_m, "--grid-step-m")

@@ -18,7 +18,7 @@ from pathlib import Path
 from fringe.model.errors import FringeIOError
 
 __all__ = ["atomic_file", "atomic_directory", "write_text_atomic", "write_bytes_atomic",
-           "check_output_folder", "usual_mode", "set_usual_mode"]
+           "check_output_folder", "check_output_file", "usual_mode", "set_usual_mode"]
 
 
 def usual_mode(*, folder: bool = False) -> int:
@@ -154,3 +154,37 @@ def check_output_folder(out_dir: str | Path, *, scenario_file: str = "", marker:
     if any(out.iterdir()) and not (out / marker).is_file():
         raise FringeIOError(f"`--out` must be a new or empty folder or a previous output "
                             f"(it is replaced whole); {out} holds other files")
+
+
+def check_output_file(path: str | Path, *, suffixes: tuple[str, ...] = (),
+                      name: str = "path") -> None:
+    """Refuse an output file :func:`atomic_file` could not write, before any computation.
+
+    Parameters
+    ----------
+    path : str or Path
+        The output file.
+    suffixes : tuple of str
+        Accepted endings (lower case, with the dot); empty accepts any.
+    name : str
+        Name of the argument in the message (a command passes its option).
+
+    Raises
+    ------
+    FringeIOError
+        When ``path`` is a folder (e.g. ``.``), ends otherwise than ``suffixes``, or its
+        folder does not exist or cannot be written.
+    """
+    p = Path(path)
+    if p.is_dir() or str(path).endswith(("/", os.sep)) or p.name in ("", ".", ".."):
+        raise FringeIOError(f"`{name}` must be a file name; {path} is a folder")
+    if suffixes and p.suffix.lower() not in suffixes:
+        raise FringeIOError(f"`{name}` must be a file name ending in "
+                            f"{' or '.join(suffixes)}; got {p.name!r}")
+    parent = p.parent if str(p.parent) else Path(".")
+    if not parent.is_dir():
+        raise FringeIOError(f"`{name}` must be in an existing folder; {parent} does not exist "
+                            f"(got {path})")
+    if not os.access(parent, os.W_OK | os.X_OK):
+        raise FringeIOError(f"`{name}` must be in a folder that can be written; {parent} "
+                            f"cannot (got {path})")

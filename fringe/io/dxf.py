@@ -44,6 +44,7 @@ import numpy as np
 import shapely
 import shapely.affinity
 
+from fringe.io.unit_slips import check_outline_size, check_site_span
 from fringe.model.building import ACCESS_CLASSES, Room
 from fringe.model.errors import ScenarioError, must_be
 
@@ -299,6 +300,16 @@ def _room_names(outlines, names: dict) -> list[str]:
     return out
 
 
+def _check_scaled_sizes(rooms, insunits: int, mpu: float, file: str) -> None:
+    """Refuse rooms whose size after scaling to metres suggests the wrong drawing unit."""
+    read_as = {v: k for k, v in UNIT_CHOICES.items()}.get(insunits, f"$INSUNITS {insunits}")
+    fix = (f"the drawing was scaled as {read_as!r} ({mpu:g} m per unit); give the drawing's "
+           "unit as `units` in the room_file table, e.g. units = \"mm\"")
+    for rm in rooms:
+        check_outline_size(rm.outline.bounds, f"room {rm.name!r}", file, fix=fix)
+    check_site_span([rm.outline.bounds for rm in rooms], "the drawing's rooms", file, fix=fix)
+
+
 def read_dxf_plan(path: str | Path, options: Mapping | None = None,
                   file_for_errors: str | None = None) -> DxfPlan:
     """Rooms and walls of a DXF floor plan, in site metres.
@@ -348,6 +359,7 @@ def read_dxf_plan(path: str | Path, options: Mapping | None = None,
     rooms = tuple(Room(name, floor, shapely.normalize(_affine(poly, mpu, offset)), role)
                   for name, (poly, _, role, _) in zip(_room_names(outlines, names), outlines,
                                                       strict=True))
+    _check_scaled_sizes(rooms, insunits, mpu, file)
     walls_site = tuple(_affine(w, mpu, offset) for w in walls)
     return DxfPlan(rooms, walls_site, insunits, mpu, offset, all_layers)
 

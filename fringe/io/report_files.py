@@ -19,7 +19,7 @@ import numpy as np
 import shapely
 
 from fringe.analysis.report import ReportResult
-from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.constants import ADVISORY_NOTICE, FIELD_BASIS_NOTE
 from fringe.physics.exposure import exposure_limits
 
 __all__ = ["SITE_FRAME", "summary_dict", "zones_geojson", "rooms_csv", "equipment_csv",
@@ -106,6 +106,7 @@ def summary_dict(r: ReportResult) -> dict:
     att = r.attraction
     out = {
         "advisory": ADVISORY_NOTICE,
+        "field_basis": FIELD_BASIS_NOTE,
         "tool": {"name": "fringe", "version": r.version},
         "created_utc": r.created_utc,
         "site": {"name": r.site_name, "scenario_file": r.scenario_file},

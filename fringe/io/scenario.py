@@ -38,6 +38,7 @@ from fringe.io.scenario_plan import (
 )
 from fringe.io.scenario_quench import SECTION_KEY as QUENCH_KEY
 from fringe.io.scenario_quench import parse_quench_section
+from fringe.io.unit_slips import check_elevation
 from fringe.model.constants import MAX_COORDINATE_M
 from fringe.model.errors import FringeWarning, ScenarioError
 from fringe.model.magnet import Coil, Envelope, Magnet
@@ -90,6 +91,7 @@ def parse_magnet(r: Reader) -> Magnet:
     center = r.vector("center_m", 3)
     if max(abs(x) for x in center) > MAX_COORDINATE_M:
         r.fail(r.key("center_m"), f"site coordinates within ±{MAX_COORDINATE_M:g} m", list(center))
+    check_elevation(center[2], f"{r.key('center_m')}[2]", r.file)
     axis = r.vector("axis", 3, (0.0, 0.0, 1.0))
     if math.hypot(*axis) == 0.0:
         r.fail(r.key("axis"), "a non-zero vector", list(axis))

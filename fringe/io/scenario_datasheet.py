@@ -47,7 +47,8 @@ def datasheet_description(result: FitResult, shielded: bool) -> str:
     kind = "actively shielded" if shielded else "unshielded"
     return (f"Equivalent coil model fitted to data-sheet numbers ({result.center_field_T:.4g} T, "
             f"{kind}; {lines}); worst extent error {result.max_residual * 100:.1f} %. "
-            "Its coils are not the supplier's; only its stray field is meant to match.")
+            "Its coils are not the supplier's; only its stray field is meant to match."
+            + "".join(f" Note: {n.replace('`bore_m`', '`warm_bore_m`')}." for n in result.notes))
 
 
 @lru_cache(maxsize=32)

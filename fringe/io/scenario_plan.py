@@ -21,6 +21,7 @@ from typing import Any
 import shapely
 
 from fringe.io.reader import Reader, finite_number
+from fringe.io.unit_slips import check_elevation, check_outline_size, check_site_span
 from fringe.model.building import (
     ACCESS_CLASSES,
     BOUNDARY_CHOICES,
@@ -153,6 +154,7 @@ def parse_floors(root: Reader, settings: PlanSettings) -> tuple[Floor, ...]:
         if any(f.name == name for f, *_ in out):
             fr.fail(fr.key("name"), "unique among floors", name)
         elev = fr.number("elevation_m")
+        check_elevation(elev, fr.key("elevation_m"), fr.file)
         lo, hi = _band(fr, "occupied_band_m", settings.band_m)
         ceiling = fr.number("ceiling_m", None, low=0.0, low_open=True)
         if ceiling is not None and ceiling < hi:
@@ -206,8 +208,10 @@ def outline_polygon(shell: Any, holes: Any, key_path: str, file: str | None,
     Raises
     ------
     ScenarioError
-        For fewer than 3 points, non-numbers, zero area, or an invalid polygon (the
-        shapely reason, e.g. ``Self-intersection[4 3]``, is quoted).
+        For fewer than 3 points, non-numbers, zero area, an invalid polygon (the
+        shapely reason, e.g. ``Self-intersection[4 3]``, is quoted), or an outline wider
+        than any room (a unit slip: the message names the likely unit,
+        :func:`fringe.io.unit_slips.check_outline_size`).
     """
     of = "" if room is None else f" for room {room!r}"
     ring = _ring(shell)
@@ -229,6 +233,7 @@ def outline_polygon(shell: Any, holes: Any, key_path: str, file: str | None,
                                     shell), file)
     if not poly.area > 0.0:
         raise ScenarioError(must_be(key_path, f"a polygon of non-zero area{of}", shell), file)
+    check_outline_size(poly.bounds, key_path, file)
     return shapely.normalize(poly)
 
 
@@ -415,6 +420,7 @@ def parse_rooms(root: Reader, file: Path, floors: tuple[Floor, ...],
             check_floor(room.floor, f"{fr.key('path')} → room {room.name!r} floor", fr.file)
             rooms.append((room, f"{fr.key('path')} → features[{j}].properties.name"))
 
+    check_site_span([r.outline.bounds for r, _ in rooms], "the room outlines", root.file)
     seen: set[str] = set()
     for room, kp in rooms:
         if room.name in seen:

@@ -42,3 +42,25 @@ ADVISORY_NOTICE: str = (
     "verified by a site survey. Local codes, the site's MR safety expert and the magnet "
     "supplier's data govern; this output does not replace them."
 )
+
+#: Largest extent (m) of one room outline accepted: a room larger than this is a unit slip
+#: (a drawing in millimetres or centimetres read as metres). Common practice, no source.
+MAX_ROOM_EXTENT_M: float = 1000.0
+
+#: Largest span (m) of all room outlines of a site together: far beyond any building or
+#: campus block, so a unit slip. Common practice, no source.
+MAX_SITE_SPAN_M: float = 2000.0
+
+#: Largest |elevation| (m) of a floor or a magnet centre above or below the site datum:
+#: deeper than any basement and higher than the floors of almost any building; a larger
+#: value is a unit slip. Common practice, no source.
+MAX_ELEVATION_M: float = 300.0
+
+#: What the field limits are compared with, stated on every output: the field the magnets
+#: add, not the total field (the Earth's field, 25-65 µT: NOAA/BGS World Magnetic Model,
+#: adds up to 0.065 mT, comparable to the 0.1 mT limits of sensitive equipment).
+FIELD_BASIS_NOTE: str = (
+    "Limits are compared with the field the magnets add; the Earth's field (25-65 µT, "
+    "0.025-0.065 mT, depending on place) comes on top and is comparable to 0.1 mT "
+    "equipment limits, so a survey meter reads the total."
+)

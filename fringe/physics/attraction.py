@@ -289,7 +289,9 @@ def criterion_text(obj: str | ObjectKind = DEFAULT_OBJECT,
                 f" T²/m below {bsat:.3g} T, |∇|B|| ≥ {g * 1e3:.1f} mT/m above")
     return (f"Attraction zone: pull exceeds weight for a {o.description}; {m.name} "
             f"ρ = {m.density_kg_per_m3:g} kg/m³, M_s = {m.saturation_A_per_m / 1e6:.3g} MA/m; "
-            f"{rule}")
+            f"{rule}. Pull ≥ weight lifts an object; on a surface it slides from "
+            "μ·weight (friction μ < 1), and on wheels or hung earlier still: objects move "
+            "outside this zone")
 
 
 # -- closed-form on-axis field ---------------------------------------------------------

@@ -61,6 +61,7 @@ from fringe.physics.families import (
 )
 
 __all__ = ["FieldLine", "FitResult", "fit_magnet", "check_request", "minimum_dipole_moment_Am2",
+           "family_choice_note",
            "EXTENT_TOLERANCE", "DIPOLE_RATIO", "LAB_BORE_LIMIT_M", "MAX_CENTER_FIELD_T"]
 
 #: Relative extent error above which the fit is reported as not reproducing the request.
@@ -123,6 +124,9 @@ class FitResult:
         Exterior zonal moments q_0..q_7 (A·m^(l+1)); q_1 is the dipole moment in A·m².
     warnings : tuple of str
         Consistency warnings (also issued as :class:`FringeWarning`).
+    notes : tuple of str
+        Plain notes, not warnings: e.g. which family was chosen because no warm bore was
+        given (:func:`family_choice_note`). Not issued as warnings; callers print them.
     """
 
     magnet: Magnet
@@ -134,6 +138,7 @@ class FitResult:
     center_field_T: float
     moments_Am: np.ndarray = field(repr=False)
     warnings: tuple[str, ...] = ()
+    notes: tuple[str, ...] = ()
 
     @property
     def max_residual(self) -> float:
@@ -298,6 +303,50 @@ def _a_min(family: str, bore_m: float | None) -> float:
     return bore / 2 + f.cryostat_allowance_m
 
 
+def family_choice_note(family: str, tried: tuple[str, ...], bore_key: str = "bore_m") -> str:
+    """Note saying which family a fit without a warm bore chose, why, and how to choose.
+
+    Parameters
+    ----------
+    family : str
+        The family the fit kept.
+    tried : tuple of str
+        The families tried, in order.
+    bore_key : str
+        Name of the warm-bore input to mention (the Python parameter by default; a caller
+        replaces it with its own name, e.g. a scenario key).
+    """
+    f = FAMILIES[family]
+    def label_of(n: str) -> str:
+        return n.replace("_body", "-body").replace("_", " ")
+
+    label = label_of(family)
+    size = (f"a small-bore lab magnet, {f.warm_bore_m * 1e3:g} mm warm bore assumed"
+            if f.lab else f"a whole-body magnet, {f.warm_bore_m:g} m warm bore assumed")
+    if len(tried) > 1 and family != tried[0]:
+        why = (f"the {label_of(tried[0])} family (tried first) could not reproduce "
+               "the lines as well")
+    elif len(tried) > 1:
+        why = "it is tried first and reproduced the lines"
+    else:
+        why = "it is the only candidate"
+    return (f"no warm bore given (`{bore_key}`): the fit chose the {label} family ({size}) "
+            f"because {why}; give `{bore_key}` to choose the family yourself (below "
+            f"{LAB_BORE_LIMIT_M:g} m: lab magnet; otherwise whole-body)")
+
+
+def _candidates(shielded: bool, bore_m: float | None, family: str | None) -> list[str]:
+    """Families to try, in order: the forced one, or by shielding and bore (without a
+    bore: whole-body before lab, as FIT_FAMILIES lists them)."""
+    if family is not None:
+        _family_spec(family)
+        return [family]
+    kinds = [n for n in FIT_FAMILIES if FAMILIES[n].shielded == bool(shielded)]
+    if bore_m is None:
+        return kinds
+    return [n for n in kinds if FAMILIES[n].lab == (bore_m < LAB_BORE_LIMIT_M)]
+
+
 def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
                bore_m: float | None = None, family: str | None = None,
                name: str = "fitted magnet") -> FitResult:
@@ -315,7 +364,8 @@ def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
     bore_m : float, optional
         Warm bore diameter, m. Below :data:`LAB_BORE_LIMIT_M` the vertical lab-magnet
         family is used, otherwise the whole-body one. When omitted both are tried and the
-        better fit kept (whole-body assumes a 0.6 m warm bore, lab a 54 mm one).
+        better fit kept (whole-body assumes a 0.6 m warm bore, lab a 54 mm one); the
+        result's ``notes`` then say which family was chosen and why.
     family : str, optional
         Force one of :data:`fringe.physics.families.FIT_FAMILIES`.
     name : str
@@ -338,8 +388,8 @@ def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
     lines_t = _parse_lines(lines)
     if bore_m is not None and not (math.isfinite(bore_m) and bore_m > 0):
         raise FringeInputError(must_be("bore_m", "a positive number of metres", bore_m))
-    candidates = _candidate_families(shielded, bore_m, family)
-    fam, a_min, sol, spec = _best_family_fit(candidates, b0, bore_m, lines_t)
+    candidates = _candidates(shielded, bore_m, family)
+    (fam, a_min, sol, spec), tried = _best_family_fit(candidates, b0, bore_m, lines_t)
     magnet = _build(fam, sol.x, b0, a_min, whole_turns=True)
     magnet = Magnet(name, magnet.center_m, magnet.axis, magnet.coils,
                     "equivalent model fitted to data-sheet numbers", "fit")
@@ -355,7 +405,9 @@ def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
     params["main_radius_m"] = float(min(c.r_inner_m for c in magnet.coils))
     return FitResult(magnet, fam, params, lines_t, tuple(achieved), tuple(residuals),
                      float(interior_coefficients_T(magnet, 0)[0]),
-                     zonal_moments_Am(magnet, 7), tuple(warn))
+                     zonal_moments_Am(magnet, 7), tuple(warn),
+                     (family_choice_note(fam, tried),) if family is None and bore_m is None
+                     else ())
 
 
 def _parse_lines(lines) -> tuple[FieldLine, ...]:
@@ -373,29 +425,19 @@ def _parse_lines(lines) -> tuple[FieldLine, ...]:
     return tuple(parsed)
 
 
-def _candidate_families(shielded: bool, bore_m: float | None, family: str | None) -> list[str]:
-    """Families to try, in order: the forced one, or those matching shielding and bore."""
-    # whole-body before lab, as FIT_FAMILIES lists them
-    kinds = [n for n in FIT_FAMILIES if FAMILIES[n].shielded == bool(shielded)]
-    if family is not None:
-        _family_spec(family)
-        return [family]
-    if bore_m is None:
-        return kinds
-    return [n for n in kinds if FAMILIES[n].lab == (bore_m < LAB_BORE_LIMIT_M)]
-
-
 def _best_family_fit(candidates, b0: float, bore_m: float | None, lines_t):
-    """Fit each candidate family in turn; the best (family, a_min, solution, spec)."""
-    best = None
+    """Fit each candidate family in turn: the best (family, a_min, solution, spec) and the
+    families tried, in order."""
+    best, tried = None, []
     for fam in candidates:  # without a bore: whole-body first, lab only if that fails
+        tried.append(fam)
         a_min = _a_min(fam, bore_m)
         spec, sol = _fit_family(fam, b0, a_min, lines_t)
         if best is None or sol.cost < best[2].cost:
             best = (fam, a_min, sol, spec)
         if np.max(np.abs(best[2].fun[:2 * len(lines_t)])) < _GOOD_ENOUGH:
             break
-    return best
+    return best, tuple(tried)
 
 
 def _fit_warnings(b0: float, lines_t, shielded: bool, a_min: float, fam: str,

@@ -138,7 +138,8 @@ def oxygen_model_text() -> str:
     """The ``oxygen_model`` line of a budget's JSON: both models and their formulas."""
     mixed, disp = OXYGEN_MODELS["well-mixed"], OXYGEN_MODELS["displacement"]
     return (f"{mixed.assumptions}: x = {mixed.formula()} ({mixed.source}); "
-            f"{disp.name} cross-check x = {disp.formula()}")
+            f"{disp.name} estimate x = {disp.formula()}, lower for every release "
+            "(the harsher of the two)")
 
 
 #: Cautions printed with every quench budget (human output and JSON ``cautions``).
@@ -904,22 +905,22 @@ def budget_table_rows(b: QuenchBudget) -> list[tuple[str, float | str, str, str]
          "capped" if b.capped_by_inventory else "below the inventory"),
         ("energy-limited boil-off, liquid", b.helium_boiled_L, "L", ""),
         ("energy-limited gas volume", b.gas_volume_m3, "m³", f"gas at {room}"),
-        ("worst case: whole inventory as gas", b.inventory_gas_volume_m3, "m³",
+        ("largest release: whole inventory as gas", b.inventory_gas_volume_m3, "m³",
          f"gas at {room}"),
         ("room free volume", b.room_volume_m3, "m³", "input"),
         ("oxygen after energy-limited release", 100 * b.oxygen_fraction_energy_limited, "%",
          f"{mixed.formula('V')}, well mixed"),
-        ("oxygen after whole inventory", 100 * b.oxygen_fraction_worst_case, "%",
-         f"{mixed.formula('V')}, well mixed"),
+        ("oxygen after whole inventory, well mixed", 100 * b.oxygen_fraction_worst_case, "%",
+         f"{mixed.formula('V')}; milder than displacement"),
         ("oxygen after whole inventory, displacement",
          100 * b.oxygen_fraction_worst_case_displacement, "%",
-         OXYGEN_MODELS["displacement"].formula("V")),
-        ("room volume keeping worst case ≥ 19.5 %", b.room_volume_m3_for_19_5_percent, "m³",
-         room_volume_formula(0.195)),
+         f"{OXYGEN_MODELS['displacement'].formula('V')}; harsher (lower)"),
+        ("room volume keeping whole inventory ≥ 19.5 % (well mixed)",
+         b.room_volume_m3_for_19_5_percent, "m³", room_volume_formula(0.195)),
     ]
     for t in b.thresholds:
         rows.append((f"{t['threshold']} threshold", f"energy-limited {t['energy_limited']}; "
-                     f"worst case {t['worst_case']}", "", t["source"]))
+                     f"whole inventory (well mixed) {t['worst_case']}", "", t["source"]))
     if b.dump is not None:
         d = b.dump
         rows += [

@@ -22,9 +22,11 @@ __all__ = ["quench_sheets", "quench_decay_sheet", "write_quench_pdf"]
 _MODEL_NOTES: tuple[str, ...] = (
     "Energy-limited boil-off W/h_fg takes all stored energy as latent heat of saturated "
     "liquid at 1 atm: an upper bound for the energy alone; the whole inventory can still be "
-    "lost, hence the worst case.",
+    "lost, hence the whole-inventory release.",
     f"Room oxygen: {OXYGEN_MODELS['well-mixed'].assumptions}, vent pipe failed: "
-    f"x = {OXYGEN_MODELS['well-mixed'].formula()} ({OXYGEN_MODELS['well-mixed'].source}).",
+    f"x = {OXYGEN_MODELS['well-mixed'].formula()} ({OXYGEN_MODELS['well-mixed'].source}). "
+    f"The displacement estimate x = {OXYGEN_MODELS['displacement'].formula()} gives lower "
+    "oxygen for every release: the well-mixed figures are not the worst case.",
 )
 
 

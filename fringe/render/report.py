@@ -32,6 +32,7 @@ from fringe.analysis.report import ReportResult
 from fringe.io.atomic import atomic_directory, check_output_folder, set_usual_mode
 from fringe.io.forked import ForkedCall
 from fringe.io.report_files import attraction_extents, slug, write_report_tables
+from fringe.model.constants import FIELD_BASIS_NOTE
 from fringe.model.verdict import Verdict
 from fringe.render.dxf import ATTRACTION_LAYER, write_zones_dxf, zone_layer_name
 from fringe.render.implants import implant_findings, implant_sheets
@@ -157,6 +158,7 @@ def _cover_facts(r: ReportResult) -> list[tuple[str, str]]:
     """The key facts of the cover sheet: site, boundary, grid, each magnet."""
     facts = [("Site", r.site_name), ("Scenario", Path(r.scenario_file).name or "-"),
              ("Boundary", f"{r.boundary.value_mT:g} mT ({r.boundary.source})"),
+             ("Field basis", FIELD_BASIS_NOTE),
              ("Thresholds", ", ".join(f"{t:g}" for t in r.thresholds_mT) + " mT"),
              ("Plan grid", f"{r.grid_step_m:g} m; occupied band sampled every "
                            f"{r.plan.settings.band_step_m:g} m or finer")]
@@ -290,7 +292,8 @@ def _plan_notes(r: ReportResult, name: str, fm) -> list[str]:
                 else "") + f"; estimated remaining error of |B| "
              f"{100 * fm.band_error_rel:.2g} %.",
              f"Area of the {r.boundary.value_mT:g} mT footprint outside controlled rooms: "
-             f"{r.outside_controlled_m2[name]:.2f} m²."]
+             f"{r.outside_controlled_m2[name]:.2f} m².",
+             FIELD_BASIS_NOTE]
     if fa is not None:
         notes.append(f"{fa.criterion}. Hatched: largest pull over the band levels; "
                      f"zone area {fa.area_m2:.2f} m².")
