@@ -476,12 +476,11 @@ def test_disk_store_is_installed_once_by_the_program_and_the_api(monkeypatch, wr
                                                                 capsys):
     # common practice, no source: the command line and the first use of the public API
     # install the disk store; installing again keeps whatever store is in place.
-    from conftest import SMALL_SCENARIO_TOML
-
     import fringe
     from fringe.cli.main import main
     from fringe.field import fast as fastfield
     from fringe.io.model_cache import DiskModelStore, install
+    from tests.conftest import SMALL_SCENARIO_TOML
 
     monkeypatch.setattr(fastfield, "_STORE", None)
     install()

@@ -233,7 +233,7 @@ def test_probe_interrupted_mid_write_keeps_output_and_cleans_up(tmp_path):
 
 def test_report_killed_mid_write_keeps_previous_report(tmp_path):
     """``fringe report`` builds its folder aside; SIGKILL while it writes leaves the old one."""
-    from test_bad_input_plan import PLAN_TOML
+    from tests.io.test_bad_input_plan import PLAN_TOML
 
     scen = tmp_path / "site.toml"
     scen.write_text(PLAN_TOML, encoding="utf-8")
@@ -265,7 +265,7 @@ def test_report_killed_mid_write_keeps_previous_report(tmp_path):
 # -- an output folder is replaced whole: never a folder that holds the user's own files ----
 
 def test_report_refuses_to_replace_a_foreign_folder(tmp_path, run_cli):
-    from test_bad_input_plan import PLAN_TOML
+    from tests.io.test_bad_input_plan import PLAN_TOML
 
     scen = tmp_path / "site.toml"
     scen.write_text(PLAN_TOML, encoding="utf-8")
@@ -278,7 +278,7 @@ def test_report_refuses_to_replace_a_foreign_folder(tmp_path, run_cli):
 
 
 def test_place_refuses_to_replace_a_foreign_folder(tmp_path, run_cli):
-    from test_bad_input_plan import PLAN_TOML
+    from tests.io.test_bad_input_plan import PLAN_TOML
 
     scen = tmp_path / "site.toml"
     scen.write_text(PLAN_TOML, encoding="utf-8")

@@ -9,7 +9,8 @@ from __future__ import annotations
 import os
 
 import pytest
-from test_bad_input_plan import PLAN_TOML
+
+from tests.io.test_bad_input_plan import PLAN_TOML
 
 OLD = b"previous output\n"
 

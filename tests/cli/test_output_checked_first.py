@@ -7,7 +7,8 @@ Each case replaces the command's computation with a function that fails the test
 from __future__ import annotations
 
 import pytest
-from conftest import SMALL_SCENARIO_TOML
+
+from tests.conftest import SMALL_SCENARIO_TOML
 
 
 def _forbid(*_a, **_k):

@@ -10,12 +10,12 @@ import json
 import tomllib
 
 import pytest
-from test_cad import LAYERS, make_mm_plan
 
 from fringe.io.dxf import read_dxf_plan
 from fringe.io.scenario import parse_site as _parse_site
 from fringe.io.unit_slips import likely_unit
 from fringe.model.errors import ScenarioError
+from tests.io.test_dxf import LAYERS, make_mm_plan
 
 
 def parse_site(text: str):

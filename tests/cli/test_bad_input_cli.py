@@ -16,9 +16,9 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from conftest import SMALL_SCENARIO_TOML
 
 from fringe.model.errors import FringeWarning
+from tests.conftest import SMALL_SCENARIO_TOML
 
 OLD_OUTPUT = b"previous results\n"
 

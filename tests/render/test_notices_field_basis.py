@@ -7,13 +7,13 @@ from __future__ import annotations
 import tomllib
 
 import pytest
-from conftest import SMALL_SCENARIO_TOML
-from test_report import BASE, EAST_BAY
 
 from fringe.analysis.report import compute_report
 from fringe.io.report_files import summary_dict
 from fringe.io.scenario import parse_site
 from fringe.model.constants import FIELD_BASIS_NOTE
+from tests.analysis.test_report import BASE, EAST_BAY
+from tests.conftest import SMALL_SCENARIO_TOML
 
 
 @pytest.fixture(scope="module")

@@ -15,12 +15,12 @@ import json
 import math
 
 import pytest
-from conftest import SMALL_SCENARIO_TOML
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-from test_fuzz_scenario import EXTREME_NUMBERS, parse_or_clear_error
 
 from fringe.io.scenario import load_site
+from tests.conftest import SMALL_SCENARIO_TOML
+from tests.io.test_fuzz_scenario import EXTREME_NUMBERS, parse_or_clear_error
 
 SCENARIO = SMALL_SCENARIO_TOML + """
 [[floor]]

@@ -10,7 +10,6 @@ import json
 from pathlib import Path
 
 import pytest
-from conftest import SMALL_SCENARIO_TOML
 
 import fringe
 from fringe.io.scenario import MAGNET_BUILDERS, ROOM_LOADERS, TOP_LEVEL_KEYS, parse_site
@@ -25,6 +24,7 @@ from fringe.model.site import (
     site_plan,
 )
 from fringe.model.verdict import Verdict
+from tests.conftest import SMALL_SCENARIO_TOML
 
 MAGNET = Magnet("m1", (0.0, 0.0, 1.0), (0.0, 0.0, 1.0), (Coil(0.3, 0.32, -0.2, 0.2, 100, 50.0),))
 

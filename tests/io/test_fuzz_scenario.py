@@ -28,7 +28,6 @@ from importlib import resources
 from pathlib import Path
 
 import pytest
-from conftest import SMALL_SCENARIO_TOML
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -36,6 +35,7 @@ import fringe
 from fringe.io.scenario import load_site, parse_site
 from fringe.model.errors import ScenarioError
 from fringe.model.site import Site
+from tests.conftest import SMALL_SCENARIO_TOML
 
 # -- a tiny TOML writer (inline tables and arrays only; enough for any dict tomllib reads)
 

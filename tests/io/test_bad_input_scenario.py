@@ -12,7 +12,8 @@ import os
 
 import numpy as np
 import pytest
-from conftest import SMALL_SCENARIO_TOML
+
+from tests.conftest import SMALL_SCENARIO_TOML
 
 OLD_OUTPUT = b"previous results: must survive every failed run\n"
 

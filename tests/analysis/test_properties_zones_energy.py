@@ -15,9 +15,9 @@ import pytest
 import shapely
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-from test_properties_field import coils
 
 from fringe.model.magnet import Magnet
+from tests.field.test_properties_field import coils
 
 SETTINGS = settings(max_examples=15, deadline=None,
                     suppress_health_check=[HealthCheck.too_slow])

@@ -13,7 +13,8 @@ import json
 import os
 
 import pytest
-from conftest import SMALL_SCENARIO_TOML
+
+from tests.conftest import SMALL_SCENARIO_TOML
 
 PLAN_TOML = SMALL_SCENARIO_TOML + """
 [plan]

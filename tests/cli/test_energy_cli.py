@@ -102,10 +102,9 @@ def test_energy_outside_a_radius_tends_to_the_dipole_tail(tmp_path, capsys):
     # hand: ∫(1 + 3cos²θ)dΩ = 8π). At R = 20 m ≫ 0.3 m coil the l = 3 term is < 1e-6.
     import math
 
-    from conftest import SMALL_SCENARIO_TOML
-
     from fringe.io.scenario import load_site
     from fringe.model.constants import MU0_T_M_PER_A as MU0
+    from tests.conftest import SMALL_SCENARIO_TOML
 
     scen = tmp_path / "s.toml"
     scen.write_text(SMALL_SCENARIO_TOML, encoding="utf-8")

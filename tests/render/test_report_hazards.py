@@ -14,7 +14,6 @@ import ezdxf
 import numpy as np
 import pytest
 import shapely
-from test_cad import LAYERS, MM, make_mm_plan
 
 from fringe.analysis.report import compute_report
 from fringe.io.dxf import read_dxf_polygons
@@ -23,6 +22,7 @@ from fringe.io.scenario import load_site
 from fringe.physics.attraction import attraction_extents_m
 from fringe.render.dxf import ATTRACTION_LAYER, zone_layer_name
 from fringe.render.report import write_report
+from tests.io.test_dxf import LAYERS, MM, make_mm_plan
 
 
 @pytest.fixture(scope="module")
@@ -155,9 +155,8 @@ def test_force_product_reported_per_floor(demo_result):
     ('["icnirp-2009-public"]', [0.4]),
 ])
 def test_exposure_lines_are_optional(lines, expected, tmp_path):
-    from conftest import SMALL_SCENARIO_TOML
-
     from fringe.io.scenario import parse_site
+    from tests.conftest import SMALL_SCENARIO_TOML
 
     text = SMALL_SCENARIO_TOML + f"[plan]\ngrid_step_m = 0.25\nexposure_lines = {lines}\n"
     import tomllib
@@ -167,7 +166,7 @@ def test_exposure_lines_are_optional(lines, expected, tmp_path):
 
 
 def test_unknown_exposure_line_names_the_choices(tmp_path, write_file, run_cli):
-    from conftest import SMALL_SCENARIO_TOML
+    from tests.conftest import SMALL_SCENARIO_TOML
 
     scen = write_file(SMALL_SCENARIO_TOML + '[plan]\nexposure_lines = ["icnirp-public"]\n')
     code, out, err = run_cli("report", scen, "--out", str(tmp_path / "o"), "--quiet")
@@ -178,9 +177,8 @@ def test_unknown_exposure_line_names_the_choices(tmp_path, write_file, run_cli):
 def test_datasheet_only_magnet_gets_a_full_report_that_says_so(tmp_path):
     # issue 7 "done when": a planner with only data-sheet numbers gets a full zone
     # report, and the report states the magnet is an equivalent model fitted to them
-    from test_fit import DATASHEET_SITE
-
     from fringe.render.report import build_sheets
+    from tests.physics.test_fit import DATASHEET_SITE
 
     p = tmp_path / "site.toml"
     p.write_text(DATASHEET_SITE + "[plan]\ngrid_step_m = 0.5\n", encoding="utf-8")

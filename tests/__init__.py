@@ -1,0 +1,1 @@
+"""fringe's test suite, in folders that mirror the package."""
