@@ -12,6 +12,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+import shapely
 
 from fringe.analysis.zones import superlevel_polygons
 from fringe.field.evaluate import as_magnets, points_in_envelopes
@@ -165,7 +166,7 @@ def section_attraction(site, origin_m, direction, s_m, z_m,
                          criterion_text(obj, mat))
 
 
-def zone_geometry(amap: AttractionMap):
+def zone_geometry(amap: AttractionMap) -> shapely.Geometry:
     """The zone (pull ≥ weight) of a map as a shapely (Multi)Polygon in the map's (u, v) m.
 
     Contoured at ratio 1 by :func:`fringe.analysis.zones.superlevel_polygons` (marching squares,

@@ -9,6 +9,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 import numpy as np
+import shapely
 from shapely.geometry import Polygon, box
 
 __all__ = ["footprint_rectangle", "magnet_plan_outline", "section_windings",
@@ -74,7 +75,7 @@ def _cylinder_plan_outline(magnet, z0: float, z1: float, ro: float) -> Polygon:
     return footprint_rectangle(mid[:2], a[:2], max(length, 1e-3), 2 * ro)
 
 
-def section_windings(magnet, sec, step_m: float = 0.01):
+def section_windings(magnet, sec, step_m: float = 0.01) -> shapely.Geometry:
     """Winding cross-sections of ``magnet`` in the (s, z) plane of ``sec``.
 
     ``sec`` needs only ``unit``, the plan direction (x, y) of the section line (a
@@ -105,7 +106,7 @@ def section_windings(magnet, sec, step_m: float = 0.01):
     return superlevel_polygons(s, z, inside.astype(float), 0.5), projected
 
 
-def section_envelope(magnet, sec, step_m: float = 0.01):
+def section_envelope(magnet, sec, step_m: float = 0.01) -> shapely.Geometry:
     """The cryostat envelope of ``magnet`` cut by the vertical plane of ``sec`` through
     the magnet centre, in its (s, z) coordinates (shapely geometry, m; the bore open).
 

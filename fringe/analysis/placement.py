@@ -237,7 +237,7 @@ def magnet_outline_relative(magnet: Magnet):
     return magnet_plan_outline(m0)
 
 
-def allowed_region(outline, magnet_outline_rel):
+def allowed_region(outline, magnet_outline_rel) -> shapely.Geometry:
     """Centres c for which the magnet outline moved to c lies inside ``outline``.
 
     The Minkowski erosion ``outline ⊖ P``: the outline minus, for every boundary edge
@@ -501,7 +501,7 @@ class PlacementResult:
         """The first-ranked placement."""
         return self.candidates[0]
 
-    def footprint(self, placement: Placement, floor: str, threshold_mT: float):
+    def footprint(self, placement: Placement, floor: str, threshold_mT: float) -> shapely.Geometry:
         """Absolute footprint polygon of ``placement`` on ``floor`` (the moving magnet's
         translated footprint, united with the other magnets' own ones if any)."""
         key = placement.angle_deg

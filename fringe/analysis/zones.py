@@ -88,7 +88,8 @@ def reach_m(magnet: Magnet, threshold_T: float) -> float:
 
 
 def default_extent_m(magnets: Sequence[Magnet], rooms=(), equipment=(), threshold_T=5e-4,
-                     margin_m: float = 1.0, step_m: float = 0.1):
+                     margin_m: float = 1.0, step_m: float = 0.1
+                     ) -> tuple[tuple[float, float], tuple[float, float]]:
     """Plan window ((x0, y0), (x1, y1)) in m covering every room, equipment point and
     each magnet's reach for the smallest threshold, plus ``margin_m``, snapped outward
     to whole multiples of ``step_m``."""
@@ -380,7 +381,8 @@ def band_max_at_xy_T(site, xy_m: np.ndarray, z_levels_m: np.ndarray) -> np.ndarr
 
 # -- contours → polygons -----------------------------------------------------------------
 
-def superlevel_polygons(x_m: np.ndarray, y_m: np.ndarray, values: np.ndarray, level: float):
+def superlevel_polygons(x_m: np.ndarray, y_m: np.ndarray, values: np.ndarray,
+                        level: float) -> shapely.Geometry:
     """The region where ``values`` ≥ ``level`` as a shapely (Multi)Polygon, holes kept.
 
     Parameters

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from importlib import resources
+from pathlib import Path
 
 from fringe.cli.report import run_report, terminal_summary
 
@@ -10,7 +11,7 @@ from fringe.cli.report import run_report, terminal_summary
 DEMO_OUT = "fringe-demo"
 
 
-def demo_scenario_path():
+def demo_scenario_path() -> Path:
     """Path of the shipped demo scenario (an invented clinic)."""
     return resources.files("fringe") / "data" / "demo_site.toml"
 

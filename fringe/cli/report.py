@@ -3,10 +3,14 @@
 from __future__ import annotations
 
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from fringe.cli.progress import Progress
 from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE, FIELD_BASIS_NOTE
+
+if TYPE_CHECKING:
+    from fringe.analysis.report import ReportResult
 
 EXIT_OK, EXIT_EXCEEDS = 0, 3
 
@@ -125,7 +129,7 @@ def terminal_summary(result, out_dir: str | Path) -> str:
 
 
 def run_report(scenario: str | Path, out_dir: str | Path, *, grid_step_m: float | None = None,
-               drawings: bool = True, quiet: bool = False):
+               drawings: bool = True, quiet: bool = False) -> ReportResult:
     """Load, compute, write; returns the :class:`fringe.analysis.report.ReportResult`."""
     from fringe.analysis.report import check_grid_step_m, compute_report
     from fringe.io.atomic import check_output_folder

@@ -86,7 +86,7 @@ def magnet_field_site_T(magnet: Magnet, points_m: np.ndarray, **kw) -> np.ndarra
     return magnet.vectors_to_site(b_loc)
 
 
-def direct_gradient(mags, p: np.ndarray, options: dict):
+def direct_gradient(mags, p: np.ndarray, options: dict) -> tuple[np.ndarray, np.ndarray]:
     """B and central-difference Jacobian of the direct sum.
 
     Step per point: 2e-4 of its distance to the nearest magnet centre (at least 1e-6 of

@@ -722,7 +722,7 @@ def fast_local_field(model: AxisymmetricModel, x: np.ndarray, y: np.ndarray, z: 
 
 
 def fast_field_site_T(magnet: Magnet, points_3n: np.ndarray, order: int = DEFAULT_RADIAL_ORDER,
-                      panels: int | None = None):
+                      panels: int | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Fast field of one magnet at site points given as a (3, N) array.
 
     Returns
@@ -985,7 +985,7 @@ def fast_gradient_local(model: AxisymmetricModel, x: np.ndarray, y: np.ndarray,
 
 
 def fast_gradient_site(magnet: Magnet, points_3n: np.ndarray, order: int = DEFAULT_RADIAL_ORDER,
-                       panels: int | None = None):
+                       panels: int | None = None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Site-frame B (3, N) T, Jacobian (3, 3, N) T/m and B's error estimate (N,) T."""
     model, amps = _model_and_scale(magnet.coils, order, panels)
     rot = magnet.rotation.as_matrix()

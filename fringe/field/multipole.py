@@ -100,7 +100,8 @@ def interior_coefficients_T(magnet: Magnet, n_max: int, order: int = 24) -> np.n
                   axis=1)
 
 
-def exterior_field_local_T(q_Am: np.ndarray, rho_m: np.ndarray, z_m: np.ndarray):
+def exterior_field_local_T(q_Am: np.ndarray, rho_m: np.ndarray,
+                           z_m: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(B_rho, B_z) in T from exterior moments at local points (valid r > R_enc)."""
     rho = np.asarray(rho_m, dtype=float)
     z = np.asarray(z_m, dtype=float)
@@ -126,7 +127,8 @@ def exterior_field_local_T(q_Am: np.ndarray, rho_m: np.ndarray, z_m: np.ndarray)
     return br * st + bt * ct, br * ct - bt * st
 
 
-def interior_field_local_T(b_T: np.ndarray, rho_m: np.ndarray, z_m: np.ndarray):
+def interior_field_local_T(b_T: np.ndarray, rho_m: np.ndarray,
+                           z_m: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(B_rho, B_z) in T from interior coefficients (valid r < bore radius).
 
     From the on-axis series B_z = Σ bₙ zⁿ the interior solution is

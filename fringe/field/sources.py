@@ -77,7 +77,7 @@ def current_sheets(magnet: Magnet, order: int = DEFAULT_RADIAL_ORDER,
 
 
 def magpylib_sources(magnet: Magnet, order: int = DEFAULT_RADIAL_ORDER,
-                     panels: int | None = None):
+                     panels: int | None = None) -> list:
     """The magnet as a :class:`magpylib.Collection` of axially magnetised cylinders.
 
     Each current sheet of :func:`current_sheets` becomes a ``magpylib.magnet.Cylinder``

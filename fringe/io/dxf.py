@@ -398,7 +398,7 @@ def _ring_xy(ring) -> np.ndarray:
 
 
 def read_dxf_polygons(path: str | Path, layer: str, *, offset_m: tuple[float, float] = (0.0, 0.0),
-                      units: str | None = None):
+                      units: str | None = None) -> shapely.Geometry:
     """Closed LWPOLYLINEs of one layer as a shapely MultiPolygon in site metres.
 
     Rings are nested by the even-odd rule (a ring inside an odd number of others is a

@@ -19,10 +19,14 @@ import io
 import os
 from functools import lru_cache
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from fringe.io.atomic import write_bytes_atomic
+
+if TYPE_CHECKING:
+    from fringe.field.fast import AxisymmetricModel
 
 __all__ = ["DiskModelStore", "install", "cache_dir", "source_digest", "CACHE_KEEP",
            "MODEL_MODULES"]
@@ -86,7 +90,7 @@ class DiskModelStore:
         p = self._path(key)
         return p is not None and p.is_file()
 
-    def load(self, key: str):
+    def load(self, key: str) -> AxisymmetricModel | None:
         """The model stored for ``key``, or None (missing, partial or foreign file)."""
         from fringe.field.fast import AxisymmetricModel
 

@@ -38,7 +38,7 @@ SITE_FRAME: dict = {
 
 
 
-def num(v, nd: int = 6):
+def num(v, nd: int = 6) -> float | None:
     """Round for JSON; None for non-finite."""
     if v is None:
         return None

@@ -26,10 +26,14 @@ from __future__ import annotations
 
 import warnings
 from functools import lru_cache
+from typing import TYPE_CHECKING
 
 from fringe.io.reader import Reader
 from fringe.model.errors import FringeWarning
 from fringe.physics.fit import MAX_CENTER_FIELD_T, FieldLine, FitResult, fit_magnet
+
+if TYPE_CHECKING:
+    from fringe.model.magnet import Coil
 
 __all__ = ["datasheet_description", "parse_datasheet", "DATASHEET_KEY", "ORIGIN"]
 
@@ -61,7 +65,7 @@ def _cached_fit(center_field_T: float, lines: tuple[tuple[float, float, float], 
     return res, tuple(str(w.message) for w in caught)
 
 
-def parse_datasheet(r: Reader, name: str):
+def parse_datasheet(r: Reader, name: str) -> tuple[tuple[Coil, ...], str, str]:
     """Builder of ``fringe.io.scenario.MAGNET_BUILDERS["datasheet"]``: the magnet table
     ``r`` of magnet ``name`` → (coils, description, origin)."""
     d = r.table(DATASHEET_KEY)

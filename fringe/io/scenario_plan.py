@@ -189,7 +189,7 @@ def _ring(value: Any) -> list[tuple[float, float]] | None:
 
 
 def outline_polygon(shell: Any, holes: Any, key_path: str, file: str | None,
-                    room: str | None = None):
+                    room: str | None = None) -> shapely.Polygon:
     """A validated shapely Polygon from coordinate arrays, or :class:`ScenarioError`.
 
     Parameters

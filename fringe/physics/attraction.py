@@ -361,7 +361,8 @@ def axial_gradient_T_per_m(magnet: Magnet, z_m) -> np.ndarray:
 # -- gradients of |B| by finite differences ---------------------------------------------
 
 def field_and_gradient(site, points_m, *, step_m: float = DEFAULT_STEP_M,
-                       richardson: bool = True, method: str = "auto"):
+                       richardson: bool = True, method: str = "auto"
+                       ) -> tuple[np.ndarray, np.ndarray]:
     """|B| and ∇|B| at site points by central differences along B̂.
 
     Parameters

@@ -539,7 +539,8 @@ def energy_outside_sphere_J(magnet: Magnet, radius_m: float, l_max: int = 40) ->
     return exterior_energy_outside_sphere_J(zonal_moments_Am(magnet, l_max), radius_m)
 
 
-def check_box(magnet: Magnet, box_min_m, box_max_m, key: str = "box"):
+def check_box(magnet: Magnet, box_min_m, box_max_m,
+              key: str = "box") -> tuple[np.ndarray, np.ndarray]:
     """Check that a site box holds a magnet's centre and windings; return the box
     corners relative to the centre as two (3,) arrays (m). Raises FringeInputError."""
     _check_magnet(magnet)

@@ -368,7 +368,7 @@ def lookup_helium_properties(room_temperature_K: float, room_pressure_Pa: float,
 
 # -- kernels: boil-off and gas volume ------------------------------------------------------
 
-def boiloff_mass_kg(energy_J, latent_heat_J_per_kg):
+def boiloff_mass_kg(energy_J, latent_heat_J_per_kg) -> np.ndarray:
     """Energy-limited boil-off: mass of saturated liquid evaporated by ``energy_J``.
 
     m = W / h_fg — all the energy taken as latent heat of saturated liquid. This is an
@@ -392,17 +392,17 @@ def boiloff_mass_kg(energy_J, latent_heat_J_per_kg):
     return np.asarray(energy_J, dtype=float) / latent_heat_J_per_kg
 
 
-def liquid_volume_L(mass_kg, liquid_density_kg_per_m3):
+def liquid_volume_L(mass_kg, liquid_density_kg_per_m3) -> np.ndarray:
     """Volume of liquid, L, of ``mass_kg`` at ``liquid_density_kg_per_m3``."""
     return np.asarray(mass_kg, dtype=float) / liquid_density_kg_per_m3 * 1e3
 
 
-def liquid_mass_kg(volume_L, liquid_density_kg_per_m3):
+def liquid_mass_kg(volume_L, liquid_density_kg_per_m3) -> np.ndarray:
     """Mass, kg, of ``volume_L`` litres of liquid at ``liquid_density_kg_per_m3``."""
     return np.asarray(volume_L, dtype=float) * 1e-3 * liquid_density_kg_per_m3
 
 
-def gas_volume_m3(mass_kg, gas_density_kg_per_m3):
+def gas_volume_m3(mass_kg, gas_density_kg_per_m3) -> np.ndarray:
     """Volume, m³, of ``mass_kg`` of gas at a density ``gas_density_kg_per_m3``."""
     return np.asarray(mass_kg, dtype=float) / gas_density_kg_per_m3
 
@@ -410,7 +410,7 @@ def gas_volume_m3(mass_kg, gas_density_kg_per_m3):
 # -- kernels: room oxygen ----------------------------------------------------------------
 
 def oxygen_fraction_after_release(gas_volume_m3, room_volume_m3,
-                                  initial_fraction=AIR_OXYGEN_FRACTION):
+                                  initial_fraction=AIR_OXYGEN_FRACTION) -> np.ndarray:
     """Oxygen volume fraction after a release into a well-mixed room (dilution model).
 
     The gas enters a room of fixed volume V_room that stays perfectly mixed while the
@@ -447,7 +447,7 @@ def oxygen_fraction_after_release(gas_volume_m3, room_volume_m3,
 
 
 def oxygen_fraction_displacement(gas_volume_m3, room_volume_m3,
-                                 initial_fraction=AIR_OXYGEN_FRACTION):
+                                 initial_fraction=AIR_OXYGEN_FRACTION) -> np.ndarray:
     """Oxygen fraction if the released gas pushes out unmixed air: x0·max(0, 1 − V/V_room).
 
     Lower than the well-mixed value (1 − v ≤ e^(−v)); common practice, no source beyond
@@ -458,7 +458,7 @@ def oxygen_fraction_displacement(gas_volume_m3, room_volume_m3,
 
 
 def room_volume_for_oxygen_m3(gas_volume_m3, threshold_fraction,
-                              initial_fraction=AIR_OXYGEN_FRACTION):
+                              initial_fraction=AIR_OXYGEN_FRACTION) -> np.ndarray:
     """Room volume, m³, for which the well-mixed release just reaches ``threshold_fraction``.
 
     Inverting :func:`oxygen_fraction_after_release`:
@@ -470,7 +470,7 @@ def room_volume_for_oxygen_m3(gas_volume_m3, threshold_fraction,
 
 # -- kernels: dump resistor (L/R decay) ---------------------------------------------------
 
-def dump_time_constant_s(inductance_H, dump_ohm, magnet_resistance_ohm=0.0):
+def dump_time_constant_s(inductance_H, dump_ohm, magnet_resistance_ohm=0.0) -> np.ndarray:
     """τ = L / (R_dump + R_magnet), s [4]_.
 
     References
@@ -482,7 +482,7 @@ def dump_time_constant_s(inductance_H, dump_ohm, magnet_resistance_ohm=0.0):
 
 
 def dump_current_A(time_s, initial_current_A, inductance_H, dump_ohm,
-                   magnet_resistance_ohm=0.0):
+                   magnet_resistance_ohm=0.0) -> np.ndarray:
     """Current after the switch opens onto the dump resistor: I = I0·exp(−t/τ) [4]_.
 
     Both resistances are taken constant; in a real quench the magnet's normal-zone
@@ -492,26 +492,26 @@ def dump_current_A(time_s, initial_current_A, inductance_H, dump_ohm,
     return initial_current_A * np.exp(-np.asarray(time_s, dtype=float) / tau)
 
 
-def dump_peak_voltage_V(initial_current_A, dump_ohm):
+def dump_peak_voltage_V(initial_current_A, dump_ohm) -> np.ndarray:
     """Peak voltage across the dump resistor (the magnet terminals), V: I0·R_dump."""
     return np.abs(np.asarray(initial_current_A, dtype=float)) * np.asarray(dump_ohm,
                                                                            dtype=float)
 
 
-def time_to_current_fraction_s(time_constant_s, fraction=0.01):
+def time_to_current_fraction_s(time_constant_s, fraction=0.01) -> np.ndarray:
     """Time, s, for the current to fall to ``fraction`` of I0: τ·ln(1/fraction)."""
     return np.asarray(time_constant_s, dtype=float) * math.log(1.0 / fraction)
 
 
 def magnet_energy_left_J(time_s, initial_current_A, inductance_H, dump_ohm,
-                         magnet_resistance_ohm=0.0):
+                         magnet_resistance_ohm=0.0) -> np.ndarray:
     """Magnetic energy still stored at ``time_s``: ½·L·I(t)², J."""
     i = dump_current_A(time_s, initial_current_A, inductance_H, dump_ohm,
                        magnet_resistance_ohm)
     return 0.5 * np.asarray(inductance_H, dtype=float) * i ** 2
 
 
-def dump_energy_fraction(dump_ohm, magnet_resistance_ohm=0.0):
+def dump_energy_fraction(dump_ohm, magnet_resistance_ohm=0.0) -> np.ndarray:
     """Share of the stored energy that ends in the dump resistor: R_d / (R_d + R_m).
 
     Both resistors carry the same current, so they share ∫I²dt in proportion to their
@@ -522,7 +522,7 @@ def dump_energy_fraction(dump_ohm, magnet_resistance_ohm=0.0):
 
 
 def dump_energy_J(time_s, initial_current_A, inductance_H, dump_ohm,
-                  magnet_resistance_ohm=0.0):
+                  magnet_resistance_ohm=0.0) -> np.ndarray:
     """Energy delivered to the dump resistor from t = 0 to ``time_s``, J.
 
     ∫₀ᵗ I²·R_d dt' = ½·L·I0²·R_d/(R_d + R_m)·(1 − exp(−2t/τ)); → W·R_d/(R_d + R_m) as
@@ -536,7 +536,7 @@ def dump_energy_J(time_s, initial_current_A, inductance_H, dump_ohm,
         -np.expm1(-2.0 * t / tau))
 
 
-def peak_helium_flow_kg_per_s(energy_J, time_constant_s, latent_heat_J_per_kg):
+def peak_helium_flow_kg_per_s(energy_J, time_constant_s, latent_heat_J_per_kg) -> np.ndarray:
     """Energy-limited peak helium boil-off rate for an exponential current decay, kg/s.
 
     With I(t) = I0·exp(−t/τ) the stored energy falls as W(t) = W·exp(−2t/τ), so the power
@@ -572,7 +572,7 @@ def peak_helium_flow_kg_per_s(energy_J, time_constant_s, latent_heat_J_per_kg):
             / (np.asarray(time_constant_s, dtype=float) * float(latent_heat_J_per_kg)))
 
 
-def vent_gas_velocity_m_per_s(gas_flow_m3_per_s, vent_diameter_m):
+def vent_gas_velocity_m_per_s(gas_flow_m3_per_s, vent_diameter_m) -> np.ndarray:
     """Mean gas velocity in a round vent, m/s: volume flow / (π·D²/4).
 
     >>> round(float(vent_gas_velocity_m_per_s(0.5, 0.25)), 3)

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 from types import SimpleNamespace
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -23,10 +24,14 @@ from fringe.analysis.zones import reach_m, section_directions
 from fringe.io.report_files import slug
 from fringe.model.constants import MU0_T_M_PER_A
 
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
+
 __all__ = ["energy_density_sheets"]
 
 
-def energy_density_sheets(site, magnets=None, levels=DEFAULT_ENERGY_LEVELS_J_PER_M3):
+def energy_density_sheets(site, magnets=None, levels=DEFAULT_ENERGY_LEVELS_J_PER_M3
+                          ) -> list[tuple[str, Figure]]:
     """Plan and section sheets of u = B²/2μ₀ for each magnet, ready for a report.
 
     Returns a list of ``(file_stem, Figure)``: ``energy-plan-<magnet>`` (horizontal plane

@@ -9,12 +9,16 @@ from __future__ import annotations
 import json
 import math
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import shapely
 
 from fringe.io.atomic import atomic_directory, check_output_folder
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.verdict import Verdict
+
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
 
 __all__ = ["placement_sheet", "write_placement_outputs", "why", "limiting_rooms", "fmt_m"]
 
@@ -61,7 +65,7 @@ def why(result) -> list[str]:
     return out
 
 
-def placement_sheet(site, result, equipment: list[dict]):
+def placement_sheet(site, result, equipment: list[dict]) -> Figure:
     """A plan sheet of the best placement's floor: |B| bands of the best placement,
     rooms, the allowed region, the candidate centres and the scenario placement's
     boundary line."""

@@ -8,6 +8,7 @@ module can append them to its sheet set; ``fringe quench --pdf FILE`` writes the
 from __future__ import annotations
 
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from fringe.physics.quench import (
     OXYGEN_MODELS,
@@ -16,6 +17,9 @@ from fringe.physics.quench import (
     dump_decay_curves,
 )
 from fringe.render.drawing import Curve, CurvePanel, SheetInfo, curve_sheet, table_sheet, write_pdf
+
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
 
 __all__ = ["quench_sheets", "quench_decay_sheet", "write_quench_pdf"]
 
@@ -38,7 +42,7 @@ def _info(b: QuenchBudget, site_name: str, title: str, subtitle: str,
 
 
 def quench_decay_sheet(b: QuenchBudget, site_name: str, *, date_iso: str | None = None,
-                       n_points: int = 301):
+                       n_points: int = 301) -> Figure | None:
     """The dump-resistor decay: I(t) and the energy left in the magnet and dumped.
 
     Returns

@@ -131,12 +131,14 @@ def test_volume_maximum_matches_brute_force_sampling():
     brute = float(field_magnitude_T(site, np.column_stack([X.ravel(), Y.ravel(),
                                                            Z.ravel()])).max())
     assert chk.field_T == pytest.approx(brute, rel=1e-3)
-    assert chk.field_T <= brute * (1 + 1e-9)  # coarser samples cannot exceed the fine max
+    # coarser samples cannot exceed the fine max, up to the field engine's stated 1e-4
+    # (the fast path or the direct sum may serve either call: docs/field.md)
+    assert chk.field_T <= brute * (1 + 2e-4)
     # the maximum is where it says, inside the prism
     x, y, z = chk.position_m
     assert shapely.contains_xy(e.outline.buffer(1e-9), x, y) and 0.0 <= z <= 2.0
     at = float(field_magnitude_T(site, np.array([chk.position_m]))[0])
-    assert at == pytest.approx(chk.field_T, rel=1e-12)
+    assert at == pytest.approx(chk.field_T, rel=2e-4)  # stated accuracy, as above
     # nearest the magnet: the wall facing it, at the magnet's height band
     assert x == pytest.approx(2.5) and chk.floor == "ground"
     assert chk.verdict == (Verdict.EXCEEDS if chk.field_T >= 0.5e-3 else Verdict.WITHIN)
