@@ -208,7 +208,8 @@ def run(args) -> int:
 
         plan = site_plan(site)
         parse_region(args.region, plan, plan.floor_of_point(magnet.center_m[2]))
-        check_output_folder(args.out, scenario_file=site.source_file, marker="place.json")
+        check_output_folder(args.out, scenario_file=site.source_file, marker="place.json",
+                            name="--out")
     say = Progress(args.quiet or args.json)
     result = search_placement(site, args.magnet, args.region, angles, args.threshold_mT,
                               progress=say)

@@ -137,7 +137,8 @@ def run_report(scenario: str | Path, out_dir: str | Path, *, grid_step_m: float 
     from fringe.render.report import write_report
 
     # an output folder we must not replace is refused before loading and computing
-    check_output_folder(out_dir, scenario_file=str(scenario), marker="summary.json")
+    check_output_folder(out_dir, scenario_file=str(scenario), marker="summary.json",
+                        name="--out")
     site = load_site(scenario)
     if grid_step_m is not None:
         check_grid_step_m(grid_step_m, "--grid-step-m")

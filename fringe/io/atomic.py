@@ -128,31 +128,42 @@ def atomic_directory(path: str | Path) -> Iterator[Path]:
         shutil.rmtree(old, ignore_errors=True)
 
 
-def check_output_folder(out_dir: str | Path, *, scenario_file: str = "", marker: str) -> None:
+def check_output_folder(out_dir: str | Path, *, scenario_file: str = "", marker: str,
+                        name: str = "out_dir") -> None:
     """Refuse an output folder that :func:`atomic_directory` must not replace.
 
     An output folder is replaced whole, so it must be new, empty, or a previous output of
     the same command (recognised by the file ``marker`` in it). It must not hold the
     scenario file, nor be the current folder or one above it.
 
+    Parameters
+    ----------
+    out_dir : str or Path
+    scenario_file : str
+        The scenario the output comes from (the folder must not hold it).
+    marker : str
+        A file that every previous output of the command holds.
+    name : str
+        Name of the argument in the message (a command passes its option, ``--out``).
+
     Raises
     ------
     FringeIOError
-        Naming ``--out`` and what it holds.
+        Naming ``name`` and what the folder holds.
     """
     out = Path(out_dir)
     if not out.exists():
         return
     if not out.is_dir():
-        raise FringeIOError(f"`--out` must be a folder; {out} is a file")
+        raise FringeIOError(f"`{name}` must be a folder; {out} is a file")
     res = out.resolve()
     if scenario_file and Path(scenario_file).resolve().is_relative_to(res):
-        raise FringeIOError(f"`--out` must not hold the scenario file; got {out}")
+        raise FringeIOError(f"`{name}` must not hold the scenario file; got {out}")
     cwd = Path.cwd().resolve()
     if res == cwd or res in cwd.parents:
-        raise FringeIOError(f"`--out` must not be the current folder or one above it; got {out}")
+        raise FringeIOError(f"`{name}` must not be the current folder or one above it; got {out}")
     if any(out.iterdir()) and not (out / marker).is_file():
-        raise FringeIOError(f"`--out` must be a new or empty folder or a previous output "
+        raise FringeIOError(f"`{name}` must be a new or empty folder or a previous output "
                             f"(it is replaced whole); {out} holds other files")
 
 

@@ -289,3 +289,17 @@ def test_place_refuses_to_replace_a_foreign_folder(tmp_path, run_cli):
                              "--angles", "0", "--out", mine, "--quiet")
     assert (mine / "thesis.txt").read_text() == "precious"
     assert code == 2 and "`--out`" in err
+
+
+def test_library_output_errors_name_the_argument_not_an_option(tmp_path):
+    # common practice, no source: below the command line an error names the Python
+    # argument (`out_dir`); the commands pass their option (`--out`)
+    from fringe.io.atomic import check_output_folder
+    from fringe.model.errors import FringeIOError
+
+    f = tmp_path / "a-file"
+    f.write_text("x")
+    with pytest.raises(FringeIOError, match="^`out_dir` must be a folder"):
+        check_output_folder(f, marker="summary.json")
+    with pytest.raises(FringeIOError, match="^`--out` must be a folder"):
+        check_output_folder(f, marker="summary.json", name="--out")
