@@ -69,8 +69,9 @@ ROOM_LOADERS: Mapping[str, Callable[..., Any]] = MappingProxyType(
 
 # -- magnets -------------------------------------------------------------------------
 
-def parse_coil(r: Reader) -> Coil:
-    """Parse one ``[[magnet.coil]]`` table."""
+def _annulus(r: Reader) -> tuple[float, float, float, float]:
+    """``r_inner_m``, ``r_outer_m``, ``z_min_m``, ``z_max_m`` of a coil or an envelope table,
+    checked: 0 ≤ r_inner < r_outer and z_min < z_max."""
     ri = r.number("r_inner_m", low=0.0)
     ro = r.number("r_outer_m", low=0.0, low_open=True)
     if ro <= ri:
@@ -79,6 +80,12 @@ def parse_coil(r: Reader) -> Coil:
     z1 = r.number("z_max_m")
     if z1 <= z0:
         r.fail(r.key("z_max_m"), f"greater than z_min_m ({z0:g})", z1)
+    return ri, ro, z0, z1
+
+
+def parse_coil(r: Reader) -> Coil:
+    """Parse one ``[[magnet.coil]]`` table."""
+    ri, ro, z0, z1 = _annulus(r)
     turns = r.number("turns", low=0.0, low_open=True)
     cur = r.number("current_A")
     r.finish()
@@ -128,14 +135,7 @@ def parse_envelope(r: Reader | None, coils: tuple[Coil, ...]) -> Envelope | None
     """
     if r is None:
         return None
-    ri = r.number("r_inner_m", low=0.0)
-    ro = r.number("r_outer_m", low=0.0, low_open=True)
-    if ro <= ri:
-        r.fail(r.key("r_outer_m"), f"greater than r_inner_m ({ri:g})", ro)
-    z0 = r.number("z_min_m")
-    z1 = r.number("z_max_m")
-    if z1 <= z0:
-        r.fail(r.key("z_max_m"), f"greater than z_min_m ({z0:g})", z1)
+    ri, ro, z0, z1 = _annulus(r)
     r.finish()
     checks = (("r_inner_m", ri, min(c.r_inner_m for c in coils), "at most"),
               ("r_outer_m", ro, max(c.r_outer_m for c in coils), "at least"),
