@@ -36,15 +36,16 @@ with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.St
                 build_parser().parse_args(args)
             except SystemExit as e:
                 codes.append(e.code)
-heavy = [m for m in %r if m in sys.modules]
+heavy = [m for m in json.loads(sys.argv[2]) if m in sys.modules]
 print(json.dumps({"codes": codes, "heavy": heavy}))
-""" % (HEAVY,)
+"""
 
 
 def _run(argv: list) -> dict:
     env = dict(os.environ)
     env["PYTHONPATH"] = str(ROOT) + os.pathsep + env.get("PYTHONPATH", "")
-    out = subprocess.run([sys.executable, "-c", _SCRIPT, json.dumps(argv)], env=env,
+    out = subprocess.run([sys.executable, "-c", _SCRIPT, json.dumps(argv),
+                          json.dumps(HEAVY)], env=env,
                          capture_output=True, text=True, check=True, cwd=ROOT)
     return json.loads(out.stdout.strip().splitlines()[-1])
 
