@@ -12,14 +12,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from fringe.field.evaluate import energy_density_J_per_m3, field_at
+from fringe.model.constants import DEFAULT_ENERGY_LEVELS_J_PER_M3
 from fringe.model.errors import FringeInputError
 
 __all__ = ["DEFAULT_ENERGY_LEVELS_J_PER_M3", "EnergyDensityMap", "energy_density_plan_map",
            "energy_density_section_map"]
 
-#: Default contour levels of energy-density maps, J/m³ (decades; common practice, no
-#: source). 1 J/m³ ≈ 1.6 mT, 1000 J/m³ ≈ 50 mT.
-DEFAULT_ENERGY_LEVELS_J_PER_M3: tuple[float, ...] = (1.0, 10.0, 100.0, 1000.0)
 
 
 @dataclass(frozen=True)

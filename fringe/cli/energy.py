@@ -8,24 +8,19 @@ from __future__ import annotations
 import math
 import sys
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-import numpy as np
-
-from fringe.analysis.energy_maps import (
+from fringe.model.constants import (
+    ADVISORY_NOTICE,
     DEFAULT_ENERGY_LEVELS_J_PER_M3,
-)
-from fringe.cli.main import EXIT_INTERNAL, print_json
-from fringe.io.scenario import load_site
-from fringe.model.constants import ADVISORY_NOTICE
-from fringe.model.errors import FringeIOError, ScenarioError, must_be
-from fringe.physics.energy import (
     DEFAULT_ENVELOPE_MARGIN_M,
-    MagnetEnergy,
-    check_box,
-    energy_outside_sphere_J,
-    magnet_energy,
-    site_mutual_energies,
 )
+from fringe.model.errors import FringeIOError, ScenarioError, must_be
+
+if TYPE_CHECKING:
+    import numpy as np
+
+    from fringe.physics.energy import MagnetEnergy
 
 #: Largest accepted |field route − circuit route| / circuit route for ``--verify``
 #: (the issue's 0.1 % agreement; measured agreement is ~1e-6).
@@ -158,6 +153,10 @@ def _site_box(args, magnets) -> tuple[np.ndarray, np.ndarray] | None:
     """The ``--box`` corners, checked to hold each magnet's windings (None without it)."""
     if not args.box:
         return None
+    import numpy as np
+
+    from fringe.physics.energy import check_box
+
     b = np.asarray(args.box, dtype=float)
     if not np.all(np.isfinite(b)) or not np.all(b[:3] < b[3:]):
         raise ScenarioError(must_be("--box", "XMIN YMIN ZMIN XMAX YMAX ZMAX with each min "
@@ -173,6 +172,8 @@ def _outside_radius(args, magnets) -> dict[str, float]:
     outside_r: dict[str, float] = {}
     if args.radius_m is None:
         return outside_r
+    from fringe.physics.energy import energy_outside_sphere_J
+
     rad = float(args.radius_m)
     for m in magnets:
         if not (math.isfinite(rad) and rad >= m.enclosing_radius_m):
@@ -204,6 +205,10 @@ def _print_text(site, results, mutual, total, maps, radius_m, outside_r) -> None
 
 
 def run(args) -> int:
+    from fringe.cli.main import EXIT_INTERNAL, print_json
+    from fringe.io.scenario import load_site
+    from fringe.physics.energy import magnet_energy, site_mutual_energies
+
     _check_maps_folder(args.maps)
     site = load_site(args.scenario)
     if not site.magnets:

@@ -4,13 +4,13 @@ from __future__ import annotations
 
 import sys
 import warnings
+from typing import TYPE_CHECKING
 
-from fringe.io import toml_out
-from fringe.io.atomic import check_output_file, write_text_atomic
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeInputError, FringeWarning, ScenarioError
-from fringe.physics.families import FAMILIES
-from fringe.physics.fit import MAX_CENTER_FIELD_T, FieldLine, FitResult, fit_magnet
+
+if TYPE_CHECKING:
+    from fringe.physics.fit import FieldLine, FitResult
 
 __all__ = ["register", "run", "magnet_toml"]
 
@@ -49,6 +49,9 @@ def register(sub) -> None:
 def magnet_toml(result: FitResult) -> str:
     """The fitted magnet as a scenario ``[[magnet]]`` block with ``[[magnet.coil]]`` tables
     (written by :func:`fringe.io.toml_out.magnet_toml`)."""
+    from fringe.io import toml_out
+    from fringe.physics.families import FAMILIES
+
     m = result.magnet
     lines_txt = "; ".join(f"{ln.threshold_T * 1e3:g} mT line {ln.axial_m:g} m axial x "
                           f"{ln.radial_m:g} m radial" for ln in result.requested)
@@ -98,6 +101,8 @@ def _positive(flag: str, v: float) -> None:
 def field_lines(args) -> list[FieldLine]:
     """The requested field lines: one from ``--radial-m/--axial-m[/--threshold-mT]``, then
     every ``--line THRESHOLD_mT AXIAL_m RADIAL_m``, checked (ScenarioError names the option)."""
+    from fringe.physics.fit import FieldLine
+
     out = []
     single = (args.radial_m, args.axial_m)
     if any(v is not None for v in single) or args.threshold_mT is not None:
@@ -132,6 +137,9 @@ def field_lines(args) -> list[FieldLine]:
 
 
 def run(args) -> int:
+    from fringe.io.atomic import check_output_file, write_text_atomic
+    from fringe.physics.fit import MAX_CENTER_FIELD_T, fit_magnet
+
     _positive("--center-field-T", args.center_field_T)
     if args.center_field_T > MAX_CENTER_FIELD_T:
         raise ScenarioError(f"`--center-field-T` must be at most {MAX_CENTER_FIELD_T:g} T (no "

@@ -15,14 +15,14 @@ import sys
 import warnings
 from collections.abc import Sequence
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-import numpy as np
-
-from fringe.field.evaluate import coordinate_range_problem
-from fringe.io.model_cache import install as install_model_cache
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.constants import VERSION as __version__
 from fringe.model.errors import ArgumentError, FringeError, FringeWarning, ScenarioError
+
+if TYPE_CHECKING:
+    import numpy as np
 
 EXIT_OK, EXIT_INTERNAL, EXIT_INPUT, EXIT_EXCEEDS = 0, 1, 2, 3
 
@@ -71,6 +71,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     if not getattr(args, "func", None):
         parser.print_help()
         return EXIT_INPUT
+    from fringe.io.model_cache import install as install_model_cache  # not before parsing
+
     install_model_cache()
     try:
         with warnings.catch_warnings():
@@ -109,6 +111,10 @@ def _show_warning(message, category, filename, lineno, file=None, line=None) -> 
 
 def read_points_file(path: str) -> np.ndarray:
     """Read (N, 3) points in m from a ``.npy`` or ``.csv`` file (x,y,z; header allowed)."""
+    import numpy as np
+
+    from fringe.field.evaluate import coordinate_range_problem
+
     p = Path(path)
     try:
         with warnings.catch_warnings():
@@ -148,6 +154,8 @@ def print_json(obj) -> None:
 
 
 def _clean(o):
+    import numpy as np
+
     if isinstance(o, dict):
         return {k: _clean(v) for k, v in o.items()}
     if isinstance(o, (list, tuple)):

@@ -2,14 +2,8 @@
 
 from __future__ import annotations
 
-import numpy as np
-
 from fringe.cli.progress import ProgressBar
-from fringe.field.grid import DEFAULT_BLOCK_POINTS, grid_from_box
-from fringe.io.atomic import check_output_file
-from fringe.io.gridmap import MAP_FORMATS, write_map
-from fringe.io.scenario import load_site
-from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.constants import ADVISORY_NOTICE, DEFAULT_BLOCK_POINTS, MAP_FORMATS
 from fringe.model.errors import FringeInputError, ScenarioError
 
 
@@ -42,6 +36,13 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    import numpy as np
+
+    from fringe.field.grid import grid_from_box
+    from fringe.io.atomic import check_output_file
+    from fringe.io.gridmap import write_map
+    from fringe.io.scenario import load_site
+
     check_output_file(args.out, suffixes=MAP_FORMATS, name="--out")  # before any computation
     site = load_site(args.scenario)
     try:

@@ -8,11 +8,8 @@ from __future__ import annotations
 import math
 
 from fringe.cli.progress import Progress
-from fringe.io.scenario import load_site
-from fringe.io.toml_out import magnet_toml
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import ScenarioError, must_be
-from fringe.render.placement import fmt_m, limiting_rooms, why
 
 #: Parameters of :func:`fringe.analysis.placement.search_placement` → this command's options
 #: (errors about a parameter name the option).
@@ -54,6 +51,8 @@ def register(sub) -> None:
 def best_magnet_toml(result) -> str:
     """The scenario ``[[magnet]]`` block of the best placement (centre and axis rounded to
     0.1 mm and 1e-4; :func:`fringe.io.toml_out.magnet_toml`)."""
+    from fringe.io.toml_out import magnet_toml
+
     m = result.magnet
     notes = [] if m.origin == "coils" else [f"coils: the equivalent coil model ({m.origin})"]
     return magnet_toml(m, center_m=result.best.center_m, axis=result.best.axis,
@@ -140,6 +139,8 @@ def result_dict(site, result, equipment: list[dict]) -> dict:
 
 def text_summary(site, result, equipment: list[dict], out_dir: str | None) -> str:
     """The text printed by ``fringe place``."""
+    from fringe.render.placement import fmt_m, limiting_rooms, why
+
     r = result
     lines = [f"site: {site.name}", f"magnet: {r.magnet.name}; region: {r.region_label}",
              f"boundary: {r.boundary_mT:g} mT; thresholds counted: "
@@ -193,6 +194,7 @@ def text_summary(site, result, equipment: list[dict], out_dir: str | None) -> st
 def run(args) -> int:
     from fringe.analysis.placement import search_placement
     from fringe.cli.main import print_json
+    from fringe.io.scenario import load_site
 
     angles = check_angles(args.angles)
     if args.threshold_mT is not None and not (math.isfinite(args.threshold_mT)

@@ -4,22 +4,13 @@ from __future__ import annotations
 
 import sys
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-import numpy as np
-
-from fringe.cli.main import print_json, read_points_file
-from fringe.field.evaluate import (
-    coordinate_range_problem,
-    energy_density_J_per_m3,
-    field_at,
-    field_gradient_at,
-    grad_abs_B_T_per_m,
-    points_in_windings,
-)
-from fringe.io.atomic import atomic_file, check_output_file
-from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE, FIELD_BASIS_NOTE
 from fringe.model.errors import ScenarioError
+
+if TYPE_CHECKING:
+    import numpy as np
 
 
 def register(sub) -> None:
@@ -41,6 +32,10 @@ def field_table_rows(points_m: np.ndarray, B_T: np.ndarray,
     With ``grad_abs_B`` (N, 3) in T/m each record also gives ``grad_abs_B_T_per_m``
     (|∇|B||) and ``force_product_T2_per_m`` (|B|·|∇|B||); null where |B| = 0.
     """
+    import numpy as np
+
+    from fringe.field.evaluate import energy_density_J_per_m3
+
     b_abs = np.linalg.norm(B_T, axis=1)
     u = energy_density_J_per_m3(B_T)
     rows = [{"point_m": p.tolist(), "B_T": b.tolist(), "B_abs_T": float(a),
@@ -56,6 +51,10 @@ def field_table_rows(points_m: np.ndarray, B_T: np.ndarray,
 
 def format_table(points_m: np.ndarray, B_T: np.ndarray) -> str:
     """A plain text table of points, |B| (mT and T), components (mT) and energy density."""
+    import numpy as np
+
+    from fringe.field.evaluate import energy_density_J_per_m3
+
     b_abs = np.linalg.norm(B_T, axis=1)
     u = energy_density_J_per_m3(B_T)
     head = (f"{'x_m':>8} {'y_m':>8} {'z_m':>8} | {'|B|_mT':>12} {'|B|_T':>11} | "
@@ -68,6 +67,19 @@ def format_table(points_m: np.ndarray, B_T: np.ndarray) -> str:
 
 
 def run(args) -> int:
+    import numpy as np
+
+    from fringe.cli.main import print_json, read_points_file
+    from fringe.field.evaluate import (
+        coordinate_range_problem,
+        field_at,
+        field_gradient_at,
+        grad_abs_B_T_per_m,
+        points_in_windings,
+    )
+    from fringe.io.atomic import atomic_file, check_output_file
+    from fringe.io.scenario import load_site
+
     if args.out:  # before any computation
         if Path(args.out).suffix.lower() not in (".npy", ".csv"):
             raise ScenarioError(f"`--out` must end in .npy or .csv; got {Path(args.out).name!r}")

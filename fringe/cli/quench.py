@@ -8,15 +8,14 @@ from __future__ import annotations
 
 import math
 import sys
+from typing import TYPE_CHECKING
 
-from fringe.analysis.quench import budget_for_site
-from fringe.cli.main import print_json
-from fringe.io.atomic import check_output_file
-from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import ScenarioError, must_be
-from fringe.model.site import QuenchInputs, Site
-from fringe.physics.quench import QuenchBudget
+
+if TYPE_CHECKING:
+    from fringe.model.site import QuenchInputs, Site
+    from fringe.physics.quench import QuenchBudget
 
 #: CLI option → (QuenchInputs attribute, scenario key, check). One list: parsing,
 #: scenario fall-back and error messages all read it.
@@ -95,6 +94,8 @@ def _check_option(option: str, kind: str, value: float) -> None:
 
 def resolve_inputs(args, site: Site) -> QuenchInputs:
     """Merge the scenario's ``[[quench]]`` table with the command-line options."""
+    from fringe.model.site import QuenchInputs
+
     name = _pick_magnet(site, args.magnet)
     base = site.quench_inputs(name) or QuenchInputs(name)
     values = {}
@@ -194,6 +195,11 @@ def format_budget(b: QuenchBudget, site_name: str = "") -> str:
 
 
 def run(args) -> int:
+    from fringe.analysis.quench import budget_for_site
+    from fringe.cli.main import print_json
+    from fringe.io.atomic import check_output_file
+    from fringe.io.scenario import load_site
+
     if args.pdf:  # before any computation
         if not str(args.pdf).lower().endswith(".pdf"):
             raise ScenarioError(must_be("--pdf", "a file name ending in .pdf", args.pdf))

@@ -6,7 +6,6 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from fringe.cli.progress import Progress
-from fringe.io.scenario import load_site
 from fringe.model.constants import ADVISORY_NOTICE, FIELD_BASIS_NOTE
 
 if TYPE_CHECKING:
@@ -134,6 +133,7 @@ def run_report(scenario: str | Path, out_dir: str | Path, *, grid_step_m: float 
     from fringe.analysis.report import check_grid_step_m, compute_report
     from fringe.io.atomic import check_output_folder
     from fringe.io.prefetch import prefetch_quench_data
+    from fringe.io.scenario import load_site
     from fringe.render.report import write_report
 
     # an output folder we must not replace is refused before loading and computing

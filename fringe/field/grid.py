@@ -19,13 +19,12 @@ import numpy as np
 
 from fringe.field.evaluate import as_magnets, field_at
 from fringe.field.fast import BUILD_AFTER_POINTS
+from fringe.model.constants import DEFAULT_BLOCK_POINTS
 from fringe.model.errors import FringeInputError, must_be
 
 __all__ = ["Grid", "grid_from_box", "grid_points", "map_blocks", "map_fast_model", "block_field",
            "block_bounds", "checked_block_points", "DEFAULT_BLOCK_POINTS"]
 
-#: Points per evaluated block (≈ 100 MB of temporaries in the field engine at most).
-DEFAULT_BLOCK_POINTS: int = 1_000_000
 
 
 @dataclass(frozen=True)

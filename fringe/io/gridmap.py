@@ -50,13 +50,11 @@ from fringe.field.grid import (
     map_fast_model,
 )
 from fringe.io.atomic import atomic_file
-from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.constants import ADVISORY_NOTICE, MAP_FORMATS
 from fringe.model.errors import ArgumentError, FringeInputError, must_be
 
 __all__ = ["scheduled_blocks", "write_map", "read_vti", "check_scheduler", "MAP_FORMATS"]
 
-#: Output formats by file suffix (one list, used by the CLI and the writer).
-MAP_FORMATS: tuple[str, ...] = (".npz", ".vti")
 
 
 def scheduled_blocks(site, grid: Grid, *, block_points: int = DEFAULT_BLOCK_POINTS,

@@ -64,3 +64,23 @@ FIELD_BASIS_NOTE: str = (
     "0.025-0.065 mT, depending on place) comes on top and is comparable to 0.1 mT "
     "equipment limits, so a survey meter reads the total."
 )
+
+# -- defaults the command line shows in its help (here so that help imports nothing heavy)
+
+#: Radial and axial margin in m added around the windings to stand for the cryostat
+#: envelope when none is given (common practice, no source: vessel walls, radiation
+#: shields and vacuum gaps of whole-body magnets are of this order).
+#: Used by :mod:`fringe.physics.energy`.
+DEFAULT_ENVELOPE_MARGIN_M: float = 0.2
+
+#: Default contour levels of energy-density maps, J/m³ (decades; common practice, no
+#: source). 1 J/m³ ≈ 1.6 mT, 1000 J/m³ ≈ 50 mT. Used by :mod:`fringe.analysis.energy_maps`.
+DEFAULT_ENERGY_LEVELS_J_PER_M3: tuple[float, ...] = (1.0, 10.0, 100.0, 1000.0)
+
+#: Points per evaluated block of a field map (≈ 100 MB of temporaries in the field engine
+#: at most). Used by :mod:`fringe.field.grid`.
+DEFAULT_BLOCK_POINTS: int = 1_000_000
+
+#: Output formats of a field map by file suffix (one list, used by the CLI and the writer
+#: :mod:`fringe.io.gridmap`).
+MAP_FORMATS: tuple[str, ...] = (".npz", ".vti")

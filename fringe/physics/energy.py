@@ -44,7 +44,7 @@ import numpy as np
 from scipy.special import ellipe, ellipkm1
 
 from fringe.field.quadrature_rules import composite_rule, gauss_legendre_panels
-from fringe.model.constants import MU0_T_M_PER_A
+from fringe.model.constants import DEFAULT_ENVELOPE_MARGIN_M, MU0_T_M_PER_A
 from fringe.model.errors import FringeInputError, must_be
 from fringe.model.magnet import Coil, Magnet
 
@@ -478,10 +478,6 @@ def _envelope(magnet: Magnet, margin_m: float) -> tuple[float, float, float]:
     return rho, min(z0, -eps), max(z1, eps)
 
 
-#: Radial and axial margin in m added around the windings to stand for the cryostat
-#: envelope when none is given (common practice, no source: vessel walls, radiation
-#: shields and vacuum gaps of whole-body magnets are of this order).
-DEFAULT_ENVELOPE_MARGIN_M: float = 0.2
 
 
 def envelope_cylinder_m(magnet: Magnet,

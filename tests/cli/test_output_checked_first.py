@@ -46,9 +46,9 @@ def test_report_refuses_its_folder_before_computing(kind, scenario, bad_outputs,
 
 
 def test_report_dot_refused_at_once_without_loading(scenario, tmp_path, monkeypatch, run_cli):
-    import fringe.cli.report as cli_report
+    import fringe.io.scenario as scenario_io  # the commands import load_site when they run
 
-    monkeypatch.setattr(cli_report, "load_site", _forbid)
+    monkeypatch.setattr(scenario_io, "load_site", _forbid)
     monkeypatch.chdir(tmp_path)
     code, _out, err = run_cli("report", scenario, "--out", ".")
     assert code == 2 and "`--out` must not" in err, err
@@ -68,15 +68,11 @@ def test_place_refuses_its_folder_before_searching(scenario, bad_outputs, tmp_pa
 @pytest.mark.parametrize("target", ["dot", "file_as_dir"])
 def test_probe_map_quench_fit_refuse_their_file_before_computing(target, scenario, tmp_path,
                                                                  monkeypatch, run_cli):
-    import fringe.cli.energy as cli_energy
-    import fringe.cli.fit as cli_fit
-    import fringe.cli.map as cli_map
-    import fringe.cli.probe as cli_probe
-    import fringe.cli.quench as cli_quench
+    import fringe.io.scenario as scenario_io  # the commands import these when they run
+    import fringe.physics.fit as fit
 
-    for mod in (cli_map, cli_probe, cli_quench, cli_energy):
-        monkeypatch.setattr(mod, "load_site", _forbid)
-    monkeypatch.setattr(cli_fit, "fit_magnet", _forbid)
+    monkeypatch.setattr(scenario_io, "load_site", _forbid)
+    monkeypatch.setattr(fit, "fit_magnet", _forbid)
     monkeypatch.chdir(tmp_path)
     folder = tmp_path / ("x.npy" if target == "file_as_dir" else "unused")
     folder.mkdir()
@@ -98,9 +94,9 @@ def test_probe_map_quench_fit_refuse_their_file_before_computing(target, scenari
 
 def test_energy_maps_naming_a_file_is_refused_before_loading(scenario, tmp_path, monkeypatch,
                                                              run_cli):
-    import fringe.cli.energy as cli_energy
+    import fringe.io.scenario as scenario_io  # the command imports load_site when it runs
 
-    monkeypatch.setattr(cli_energy, "load_site", _forbid)
+    monkeypatch.setattr(scenario_io, "load_site", _forbid)
     (tmp_path / "maps").write_text("a file")
     code, _out, err = run_cli("energy", scenario, "--maps", tmp_path / "maps")
     assert code == 2 and "`--maps`" in err, err
