@@ -39,9 +39,9 @@ _SURFACE_SAMPLES = 400
 def envelope_rz(magnet: Magnet) -> tuple[float, float, float, float]:
     """The cryostat envelope ``(r_inner_m, r_outer_m, z_min_m, z_max_m)`` in the magnet frame
     (:attr:`fringe.model.magnet.Magnet.envelope`: the one given, or the default grown from
-    the windings)."""
+    the windings); ``r_inner_m`` is 0 for a bore too narrow for a person."""
     env = magnet.envelope
-    return (float(env.r_inner_m), float(env.r_outer_m), float(env.z_min_m),
+    return (float(env.closed_inner_radius_m), float(env.r_outer_m), float(env.z_min_m),
             float(env.z_max_m))
 
 
@@ -102,7 +102,8 @@ def _surface_uv(env) -> np.ndarray:
     """Points (u, v) along the envelope outline on both sides of the axis, (M, 2)."""
     r_in, r_out, z0, z1 = env
     t = np.linspace(0.0, 1.0, _SURFACE_SAMPLES)
-    sides = [np.column_stack([z0 + (z1 - z0) * t, np.full_like(t, r)]) for r in (r_in, r_out)]
+    radii = (r_in, r_out) if r_in > 0 else (r_out,)  # a closed bore has no inner surface
+    sides = [np.column_stack([z0 + (z1 - z0) * t, np.full_like(t, r)]) for r in radii]
     sides += [np.column_stack([np.full_like(t, z), r_in + (r_out - r_in) * t]) for z in (z0, z1)]
     uv = np.concatenate(sides)
     return np.concatenate([uv, uv * [1.0, -1.0]])

@@ -19,7 +19,8 @@ import numpy as np
 from scipy.spatial.transform import Rotation
 
 __all__ = ["Coil", "Envelope", "Magnet", "default_envelope",
-           "ENVELOPE_MARGIN_OUTER_M", "ENVELOPE_MARGIN_INNER_M", "ENVELOPE_INNER_FRACTION"]
+           "ENVELOPE_MARGIN_OUTER_M", "ENVELOPE_MARGIN_INNER_M", "ENVELOPE_INNER_FRACTION",
+           "OPEN_BORE_MIN_DIAMETER_M"]
 
 #: Margin in m by which the default cryostat envelope extends beyond the windings'
 #: outer radius and beyond both their axial ends (common practice, no source: the
@@ -36,6 +37,14 @@ ENVELOPE_MARGIN_INNER_M: float = 0.15
 #: The inner margin is at most this fraction of the windings' inner radius, so a small
 #: laboratory bore stays open (0.05 m windings: 0.025 m warm-bore radius).
 ENVELOPE_INNER_FRACTION: float = 0.5
+
+#: Narrowest warm bore (diameter, m) counted as a place where a person can be: the bore of
+#: a whole-body or extremity magnet. A narrower bore (a laboratory NMR magnet, a bench
+#: solenoid) takes a hand, a tool or a sample but nobody stands in it, so it counts as part
+#: of the cryostat for room, floor and equipment maxima and implant figures (common
+#: practice, no source; the same 0.3 m that separates the fit's laboratory and whole-body
+#: families, fringe.physics.fit.LAB_BORE_LIMIT_M).
+OPEN_BORE_MIN_DIAMETER_M: float = 0.3
 
 
 @dataclass(frozen=True)
@@ -104,7 +113,9 @@ class Envelope:
 
     Points with ``r_inner_m <= ρ <= r_outer_m`` and ``z_min_m <= z <= z_max_m`` (local
     frame, ρ the distance from the bore axis) are inside the cryostat and not accessible;
-    the bore ``ρ < r_inner_m`` is open.
+    the bore ``ρ < r_inner_m`` is open when it is at least
+    :data:`OPEN_BORE_MIN_DIAMETER_M` across (:attr:`bore_open`), and counted as closed
+    otherwise.
 
     Parameters
     ----------
@@ -141,12 +152,25 @@ class Envelope:
         return (self.r_inner_m <= coil.r_inner_m and coil.r_outer_m <= self.r_outer_m
                 and self.z_min_m <= coil.z_min_m and coil.z_max_m <= self.z_max_m)
 
+    @property
+    def bore_open(self) -> bool:
+        """Whether a person can be in the bore (:data:`OPEN_BORE_MIN_DIAMETER_M`)."""
+        return 2.0 * self.r_inner_m >= OPEN_BORE_MIN_DIAMETER_M
+
+    @property
+    def closed_inner_radius_m(self) -> float:
+        """Inner radius of the region nobody can be in: ``r_inner_m``, or 0 for a bore
+        too narrow for a person."""
+        return self.r_inner_m if self.bore_open else 0.0
+
     def contains_local(self, rho_m: np.ndarray, z_m: np.ndarray,
                        margin_m: float = 0.0) -> np.ndarray:
-        """Boolean mask of local points (ρ, z) inside the envelope grown by ``margin_m``."""
+        """Boolean mask of local points (ρ, z) inside the envelope grown by ``margin_m``
+        (a narrow bore counts as inside: :attr:`bore_open`)."""
         rho = np.asarray(rho_m, dtype=float)
         z = np.asarray(z_m, dtype=float)
-        return ((rho >= self.r_inner_m - margin_m) & (rho <= self.r_outer_m + margin_m)
+        r_lo = self.r_inner_m - margin_m if self.bore_open else -np.inf
+        return ((rho >= r_lo) & (rho <= self.r_outer_m + margin_m)
                 & (z >= self.z_min_m - margin_m) & (z <= self.z_max_m + margin_m))
 
 

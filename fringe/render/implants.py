@@ -71,8 +71,10 @@ def implant_sheets(imp: SiteImplants, magnets: dict, base: dict) -> list[tuple[s
 
     out = []
     for m in imp.maps:
-        overlays = [dr.Overlay("cryostat envelope (not accessible); the bore between is open",
-                               _envelope_outline(m).boundary, "outline")]
+        label = ("cryostat envelope (not accessible); the bore between is open"
+                 if m.envelope_rz_m[0] > 0 else
+                 "cryostat envelope with its bore, too narrow for a person (not accessible)")
+        overlays = [dr.Overlay(label, _envelope_outline(m).boundary, "outline")]
         for k, c in enumerate(imp.conditions):
             region = c.regions.get(m.magnet)
             if region is not None and not region.is_empty:

@@ -160,3 +160,32 @@ def test_section_and_plan_outlines_of_the_envelope():
     assert not along.contains(__import__("shapely").Point(0.0, 1.0))
     across = section_envelope(m, SimpleNamespace(unit=np.array([0.0, 1.0])))
     assert across.area == pytest.approx(math.pi * (0.8**2 - 0.3**2), rel=0.05)
+
+
+def test_a_bore_too_narrow_for_a_person_counts_as_closed():
+    # common practice, no source: a whole-body bore (0.62 m) is where a patient lies; a
+    # laboratory NMR bore (54 mm) takes a sample or a hand but nobody stands in it
+    from fringe.model.magnet import OPEN_BORE_MIN_DIAMETER_M, Envelope
+
+    wide = Envelope(0.31, 1.06, -0.85, 0.85)
+    narrow = Envelope(0.027, 0.40, -0.45, 0.45)
+    assert wide.bore_open and not narrow.bore_open
+    assert 2 * 0.31 >= OPEN_BORE_MIN_DIAMETER_M > 2 * 0.027
+    assert not wide.contains_local(np.array([0.0]), np.array([0.0]))[0]
+    assert narrow.contains_local(np.array([0.0]), np.array([0.0]))[0]
+    assert narrow.closed_inner_radius_m == 0.0 and wide.closed_inner_radius_m == 0.31
+
+
+def test_shipped_lab_scenario_reports_no_field_inside_a_narrow_bore():
+    # issue 15: harbour-lab printed the 9.4 T of its NMR magnet's 54 mm bore as the room
+    # maximum; the room maximum must now be a field a person can meet, well below it
+    from pathlib import Path
+
+    from fringe.analysis.report import compute_report
+    from fringe.io.scenario import load_site
+
+    site = load_site(Path(__file__).resolve().parents[2] / "scenarios" / "harbour-lab.toml")
+    r = compute_report(site)
+    lab = next(c for c in r.rooms if c.name == "magnet lab")
+    centre = max(m.center_field_T for m in r.magnets)
+    assert centre > 9.0 and lab.max_field_T < 0.25 * centre
