@@ -117,7 +117,8 @@ def run(args) -> int:
         return 0
     if args.json:
         _, jac = field_gradient_at(site, points)  # analytic on the fast path (docs/implants.md)
-        print_json({"points": field_table_rows(points, B, grad_abs_B_T_per_m(B, jac))})
+        print_json({"points": field_table_rows(points, B, grad_abs_B_T_per_m(B, jac)),
+                    "field_basis": FIELD_BASIS_NOTE, "advisory": ADVISORY_NOTICE})
     else:
         print(f"site: {site.name}")
         print(format_table(points, B))

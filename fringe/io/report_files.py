@@ -100,8 +100,9 @@ def _exposure_rows(r: ReportResult) -> list[dict]:
 
 def summary_dict(r: ReportResult) -> dict:
     """The content of ``summary.json`` (see docs/zones.md for every field)."""
-    counts: dict[str, int] = {}
-    for v in [x.verdict for x in r.rooms] + [e.verdict for e in r.equipment]:
+    counts: dict[str, int] = {}  # every item with a verdict: rooms, equipment, floors
+    for v in ([x.verdict for x in r.rooms] + [e.verdict for e in r.equipment]
+              + [r.floor_verdict(f) for f in r.floor_maps]):
         counts[v] = counts.get(v, 0) + 1
     att = r.attraction
     out = {
@@ -228,7 +229,7 @@ def zones_geojson(r: ReportResult) -> dict:
             props["class"] = e.class_name
         feats.append({"type": "Feature", "geometry": geom, "properties": props})
     return {"type": "FeatureCollection", "coordinate_frame": SITE_FRAME,
-            "advisory": ADVISORY_NOTICE,
+            "advisory": ADVISORY_NOTICE, "field_basis": FIELD_BASIS_NOTE,
             "boundary": {"value_mT": r.boundary.value_mT, "source": r.boundary.source},
             "features": feats}
 

@@ -43,9 +43,10 @@ ADVISORY_NOTICE: str = (
     "supplier's data govern; this output does not replace them."
 )
 
-#: Largest extent (m) of one room outline accepted: a room larger than this is a unit slip
+#: Largest extent (m) of one room outline accepted (a sports hall is some 50 m, a factory
+#: hall rarely above 200 m): a room larger than this is a unit slip
 #: (a drawing in millimetres or centimetres read as metres). Common practice, no source.
-MAX_ROOM_EXTENT_M: float = 1000.0
+MAX_ROOM_EXTENT_M: float = 200.0
 
 #: Largest span (m) of all room outlines of a site together: far beyond any building or
 #: campus block, so a unit slip. Common practice, no source.

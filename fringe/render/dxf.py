@@ -35,7 +35,7 @@ from fringe.io.dxf import (
     _ring_xy,
     metres_per_unit,
 )
-from fringe.model.constants import ADVISORY_NOTICE
+from fringe.model.constants import ADVISORY_NOTICE, FIELD_BASIS_NOTE
 from fringe.model.errors import FringeInputError, FringeIOError, must_be
 from fringe.render.style import HAZARD_COLOR, INK_COLOR, hex_to_rgb, threshold_rgb
 
@@ -188,7 +188,8 @@ def write_zones_dxf(path: str | Path, zones: Mapping[str, Any], *,
         lo = np.minimum(lo, _add_outlines(msp, name, g))
     if not np.all(np.isfinite(lo)):
         lo = np.zeros(2)
-    text = ADVISORY_NOTICE + ("\\P" + notes.replace("\n", "\\P") if notes else "")
+    text = (ADVISORY_NOTICE + "\\P" + FIELD_BASIS_NOTE
+            + ("\\P" + notes.replace("\n", "\\P") if notes else ""))
     msp.add_mtext(text, dxfattribs={"layer": NOTES_LAYER, "char_height": 0.2 * inv,
                                     "width": 20.0 * inv, "insert": (lo[0], lo[1] - 0.5 * inv),
                                     "attachment_point": 1})

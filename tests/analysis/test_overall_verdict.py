@@ -85,3 +85,17 @@ def test_counts_pluralise():
                     floor_verdicts={"ground": Verdict.WITHIN}, boundary=Boundary(0.5, "t"))
     assert closing_verdict(empty) == (
         "verdict: nothing exceeds its limit (0 rooms, 0 equipment, 1 floor checked)", EXIT_OK)
+
+
+def test_summary_counts_agree_with_the_closing_line(demo_site):
+    # the counts in summary.json are the closing line's: rooms, equipment and floors
+    from fringe.analysis.report import compute_report
+    from fringe.io.report_files import summary_dict
+
+    r = compute_report(demo_site)
+    s = summary_dict(r)
+    v = r.overall()
+    n_items = len(r.rooms) + len(r.equipment) + len(r.floor_maps)
+    assert sum(s["verdict_counts"].values()) == n_items
+    assert s["verdict_counts"].get("exceeds", 0) == len(v.items) == 2  # plant room, basement
+    assert f"{len(v.items)} items exceed" in v.line()

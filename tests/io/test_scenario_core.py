@@ -9,6 +9,7 @@ import pytest
 
 from fringe import ScenarioError, field_at, load_site
 from fringe.cli.main import main
+from fringe.model.constants import ADVISORY_NOTICE
 
 MAGNET = """
 [site]
@@ -95,7 +96,8 @@ def test_probe_json_has_exact_schema(tmp_path, capsys):
     assert main(["probe", str(p), "--at", "6", "4", "1.1", "--at", "9", "4", "1.1",
                  "--json"]) == 0
     data = json.loads(capsys.readouterr().out)
-    assert list(data) == ["points"] and len(data["points"]) == 2
+    assert list(data) == ["points", "field_basis", "advisory"] and len(data["points"]) == 2
+    assert data["advisory"] == ADVISORY_NOTICE and "Earth" in data["field_basis"]
     row = data["points"][1]
     assert list(row) == ["point_m", "B_T", "B_abs_T", "energy_density_J_per_m3",
                          "grad_abs_B_T_per_m", "force_product_T2_per_m"]

@@ -1,7 +1,7 @@
 """Geometry whose size only makes sense in millimetres or centimetres is refused, naming the
 likely unit (room outlines from [[room]], GeoJSON and DXF; floor elevations; magnet centre z).
 
-Thresholds: rooms up to 1000 m, sites up to 2000 m, elevations within ±300 m (common
+Thresholds: rooms up to 200 m, sites up to 2000 m, elevations within ±300 m (common
 practice, no source)."""
 
 from __future__ import annotations
@@ -55,14 +55,14 @@ outline_m = [[0, 0], [7200, 0], [7200, 5500], [0, 5500]]
 
 
 def test_rooms_in_centimetres_are_refused_by_the_site_span():
-    # a 40 m wing in centimetres: each room under 1000 "m", together 4000 "m"
+    # a 22.5 m wing in centimetres: each room under 200 "m", together 2250 "m"
     rooms = "".join(f"""
 [[room]]
 name = "room {i}"
-outline_m = [[{i * 800}, 0], [{i * 800 + 800}, 0], [{i * 800 + 800}, 600], [{i * 800}, 600]]
-""" for i in range(5))
-    with pytest.raises(ScenarioError, match=r"the room outlines span 4000 m together.*"
-                                            r"it looks like centimetres \(40 m if so\)"):
+outline_m = [[{i * 150}, 0], [{i * 150 + 150}, 0], [{i * 150 + 150}, 100], [{i * 150}, 100]]
+""" for i in range(15))
+    with pytest.raises(ScenarioError, match=r"the room outlines span 2250 m together.*"
+                                            r"it looks like centimetres \(22.5 m if so\)"):
         parse_site(_site(rooms))
 
 
@@ -118,3 +118,14 @@ def test_likely_unit_guess():
     assert likely_unit(7200, "room") == ("millimetres", pytest.approx(7.2))
     assert likely_unit(1500, "room") == ("centimetres", pytest.approx(15.0))
     assert likely_unit(360, "elevation") == ("centimetres", pytest.approx(3.6))
+
+
+def test_a_room_in_centimetres_is_refused_naming_centimetres():
+    # common practice, no source: a 9.5 m × 8 m room typed in centimetres (950 × 800)
+    rooms = """
+[[room]]
+name = "scan"
+outline_m = [[0, 0], [950, 0], [950, 800], [0, 800]]
+"""
+    with pytest.raises(ScenarioError, match=r"room\[0\]\.outline_m.*centimetres \(9\.5 m"):
+        parse_site(_site(rooms))
