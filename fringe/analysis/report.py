@@ -45,7 +45,7 @@ from fringe.field.multipole import zonal_moments_Am
 from fringe.field.reach import threshold_reach_m
 from fringe.model.building import Boundary
 from fringe.model.constants import VERSION as __version__
-from fringe.model.errors import FringeInputError, ScenarioError
+from fringe.model.errors import ArgumentError, FringeInputError, ScenarioError
 from fringe.model.site import SitePlan, site_plan
 from fringe.model.verdict import Verdict
 from fringe.physics.energy import stored_energy_J
@@ -234,8 +234,12 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     extent = tuple(tuple(round(v, 9) for v in corner) for corner in extent)
     x, y = plan_axes_m(extent, step)
     if x.size * y.size > 4_000_000:
-        raise FringeInputError(f"`grid_step_m` must give at most 4 million plan nodes; "
-                               f"{step:g} m gives {x.size * y.size}")
+        (x0, y0), (x1, y1) = extent
+        key = "grid_step_m" if grid_step_m is not None else "plan.grid_step_m"
+        raise ArgumentError(f"`{key}` must give at most 4 million plan nodes; {step:g} m "
+                            f"gives {x.size * y.size} over a plan {x1 - x0:.4g} m × "
+                            f"{y1 - y0:.4g} m (set a coarser step, or check the plan's "
+                            "units)", key, site.source_file or None)
     fmaps: dict[str, FloorMap] = {}
     fps: dict[str, tuple[Footprint, ...]] = {}
     outside: dict[str, float] = {}

@@ -24,7 +24,13 @@ from typing import Any
 import numpy as np
 import shapely
 
-from fringe.analysis.zones import FloorMap, Footprint, band_max_at_xy_T, field_magnitude_T
+from fringe.analysis.zones import (
+    FloorMap,
+    Footprint,
+    band_max_at_xy_T,
+    field_magnitude_T,
+    occupied_field_T,
+)
 from fringe.model.building import Boundary, Equipment, Floor, Room
 from fringe.model.errors import ArgumentError, must_be
 from fringe.model.site import DEFAULT_BAND_STEP_M, DEFAULT_FLOOR, DEFAULT_GRID_STEP_M
@@ -248,7 +254,11 @@ def check_equipment(site, equipment: Sequence[Equipment], floor_of=None, *,
                                             f"equipment {e.name!r}", tuple(by_name)), "floors")
             pts = volume_samples_m(e.outline, by_name[e.floor].elevation_m, e.height_m,
                                    step_m, band_step_m)
-            b = field_magnitude_T(site, pts)
+            b = occupied_field_T(site, pts)  # a cryostat inside the volume is left out
+            if not np.any(np.isfinite(b)):
+                raise ArgumentError(must_be(f"equipment {e.name!r}", "a volume with some "
+                                            "space outside every cryostat envelope",
+                                            "a volume wholly inside one"), "equipment")
             k = int(np.nanargmax(b))
             bi, at, fl = float(b[k]), tuple(float(v) for v in pts[k]), e.floor
         out.append(EquipmentCheck(e.name, at, fl, bi, lim, verdict(bi, lim), e.note,

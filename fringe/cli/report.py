@@ -34,7 +34,7 @@ def register(sub) -> None:
     p.add_argument("--no-drawings", action="store_true",
                    help="write only the JSON, GeoJSON and CSV outputs (faster)")
     p.add_argument("--quiet", action="store_true", help="no progress messages on stderr")
-    p.set_defaults(func=run)
+    p.set_defaults(func=run, flags={"grid_step_m": "--grid-step-m"})
 
 
 def closing_verdict(result, *, fail: bool = True) -> tuple[str, int]:

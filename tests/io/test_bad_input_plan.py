@@ -215,7 +215,7 @@ def test_broken_plan_file_is_refused(name, content, expected, tmp_path, write_fi
     (["--grid-step-m", "nan"], "`--grid-step-m`"),
     # the 10⁹-point grid: refused with the node count (the message names the plan key;
     # naming the option as typed would be clearer, see docs/robustness.md)
-    (["--grid-step-m", "0.00001"], "grid_step_m` must give at most 4 million plan nodes"),
+    (["--grid-step-m", "0.00001"], "`--grid-step-m` must give at most 4 million plan nodes"),
 ], ids=["zero", "negative", "nan", "absurdly-fine"])
 def test_bad_report_options(argv, expected, tmp_path, write_file, run_cli):
     scen = write_file(PLAN_TOML, "site.toml")
