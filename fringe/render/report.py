@@ -223,7 +223,9 @@ def _cover_sheet(r: ReportResult, base: dict):
     return dr.cover_sheet(
         dr.SheetInfo(title="Static stray field: controlled-zone drawings and checks",
                      subtitle="Footprints are the largest |B| over each floor's occupied "
-                              "band; verdicts per room and equipment point", **base),
+                              "band, outside the cryostat; verdicts per room, equipment "
+                              "item and floor; the storey up to its ceiling is checked too",
+                     **base),
         _cover_facts(r), _cover_findings(r))
 
 
