@@ -145,3 +145,43 @@ def test_summary_boundaries_carry_the_reach(demo_report):
         for b in m["boundaries"]:
             assert b["max_reach_m"] >= b["radial_extent_m"]
             assert b["max_reach_axial_m"] >= b["axial_extent_m"]
+
+
+def test_room_within_its_limit_in_the_band_but_not_at_the_ceiling_is_flagged():
+    # the issue's own case: a store room under the magnet, within its limit over its
+    # occupied band (0-2 m) but not up to the slab above (ceiling void). The limit is set
+    # between |B| at the band top and at the ceiling, read with the direct field
+    # (independent of fringe.analysis.storey).
+    b_band = float(np.linalg.norm(field_at(parse_site(tomllib.loads(MAGNET), "m.toml"),
+                                           [[0.0, 0.0, -1.5]], method="direct")))
+    b_ceil = float(np.linalg.norm(field_at(parse_site(tomllib.loads(MAGNET), "m.toml"),
+                                           [[0.0, 0.0, -0.3]], method="direct")))
+    assert b_ceil > 3 * b_band  # the case is a real one
+    limit_mT = 1e3 * (b_band * b_ceil) ** 0.5
+    text = MAGNET + f"""
+[plan]
+grid_step_m = 0.2
+[[floor]]
+name = "basement"
+elevation_m = -3.5
+[[floor]]
+name = "ground"
+elevation_m = 0.0
+[[room]]
+name = "store"
+floor = "basement"
+limit_mT = {limit_mT:.6g}
+outline_m = [[-1, -1], [1, -1], [1, 1], [-1, 1]]
+[[room]]
+name = "magnet room"
+floor = "ground"
+access = "controlled"
+outline_m = [[-3, -3], [3, -3], [3, 3], [-3, 3]]
+"""
+    r = compute_report(parse_site(tomllib.loads(text), "store.toml"))
+    store = next(c for c in r.rooms if c.name == "store")
+    assert store.verdict == "within" and store.max_field_T < limit_mT * 1e-3
+    assert r.ceilings["store"].ceiling_exceeds
+    assert r.ceilings["store"].max_field_T == pytest.approx(b_ceil, rel=2e-3)
+    row = next(x for x in summary_dict(r)["rooms"] if x["name"] == "store")
+    assert row["ceiling_exceeds"] is True
