@@ -172,11 +172,11 @@ OVERLAY_KINDS: dict[str, dict[str, Any]] = {
     "contour": {"hatch": None, "edgecolor": HAZARD_COLOR, "linewidth": 1.0,
                 "linestyle": (0, (1, 1.5))},
     # regions where an implant condition's limit is passed: one line style per condition
-    "condition-1": {"hatch": None, "edgecolor": HAZARD_COLOR, "linewidth": 1.5,
+    "condition-1": {"hatch": "///", "edgecolor": HAZARD_COLOR, "linewidth": 1.5,
                     "linestyle": (0, (5, 1.5, 1, 1.5))},
-    "condition-2": {"hatch": None, "edgecolor": HAZARD_COLOR, "linewidth": 1.5,
+    "condition-2": {"hatch": "\\\\\\", "edgecolor": HAZARD_COLOR, "linewidth": 1.5,
                     "linestyle": (0, (10, 2.5))},
-    "condition-3": {"hatch": None, "edgecolor": HAZARD_COLOR, "linewidth": 1.5,
+    "condition-3": {"hatch": "...", "edgecolor": HAZARD_COLOR, "linewidth": 1.5,
                     "linestyle": (0, (1, 1.5))},
 }
 

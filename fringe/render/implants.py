@@ -49,7 +49,7 @@ def _notes(imp: SiteImplants, m: ImplantMap) -> list[str]:
     ]
     for c in imp.conditions:
         state = ("holds everywhere accessible" if c.holds_everywhere_accessible else
-                 "a limit is passed inside its line (legend)")
+                 "a limit is passed in its hatched region (legend)")
         iso = "" if c.holds_at_isocentre else " It is NOT met at the isocentre."
         notes.append(f"Implant condition {c.condition.name!r}: {state}.{iso}")
     notes.append(IMPLANT_CAUTION)
@@ -79,7 +79,7 @@ def implant_sheets(imp: SiteImplants, magnets: dict, base: dict) -> list[tuple[s
             region = c.regions.get(m.magnet)
             if region is not None and not region.is_empty:
                 overlays.append(dr.Overlay(f"implant condition {c.condition.name!r}: a limit "
-                                           "is passed inside", region.boundary,
+                                           "is passed (hatched); it holds outside", region,
                                            f"condition-{k % 3 + 1}"))
         info = dr.SheetInfo(title=f"Spatial field gradient around {m.magnet}",
                             subtitle="|∇|B|| in T/m on the plane through the bore axis, "
