@@ -110,8 +110,10 @@ def terminal_summary(result, out_dir: str | Path) -> str:
         below = [t["threshold"] for t in b.to_dict()["oxygen_thresholds"]
                  if t["worst_case"] == "falls below"]
         lines.append(f"quench {b.magnet}: energy-limited boil-off {b.helium_boiled_kg:.3g} kg; "
-                     f"whole inventory {b.inventory_kg:.3g} kg; its room oxygen (well mixed) "
-                     f"{100 * b.oxygen_fraction_worst_case:.2g} % in {b.room_volume_m3:g} m³"
+                     f"whole inventory {b.inventory_kg:.3g} kg; its room oxygen "
+                     f"{100 * b.oxygen_fraction_worst_case:.2g} % well mixed, "
+                     f"{100 * b.oxygen_fraction_worst_case_displacement:.2g} % by displacement "
+                     f"(harsher) in {b.room_volume_m3:g} m³"
                      + (f" — falls below {', '.join(below)} oxygen if the vent fails: the quench "
                         "vent and oxygen monitoring must be in place per local code and the "
                         "supplier" if below else ""))
