@@ -7,27 +7,55 @@ Both are callables handed to the library as its ``progress`` argument.
 
 from __future__ import annotations
 
+import re
 import sys
 import time
 
 __all__ = ["Progress", "ProgressBar"]
 
 
+#: A counted step of a stage: "<stage>: <words> i/n <rest>".
+_STEP = re.compile(r"^(?P<stage>[^:]+):.*?\b(?P<i>\d+)/(?P<n>\d+)\b")
+
+
 class Progress:
-    """Progress messages on stderr with elapsed time, one line each
-    (``[  1.2 s] message``); silent when ``quiet``."""
+    """Progress messages on stderr with elapsed time (``[  1.2 s] message``); silent when
+    ``quiet``.
+
+    A counted step (``stage: … i/n …``) updates one live line when the stream is a
+    terminal and is printed only at its last step otherwise, so a stage takes one line.
+    """
 
     def __init__(self, quiet: bool = False, stream=None) -> None:
         self.quiet = quiet
         self.stream = stream
         self.t0 = time.monotonic()
+        self._live = False  # a live line is open (terminal only)
 
     def __call__(self, msg: str) -> None:
         if self.quiet:
             return
         stream = self.stream if self.stream is not None else sys.stderr
-        stream.write(f"[{time.monotonic() - self.t0:5.1f} s] {msg}\n")
+        text = f"[{time.monotonic() - self.t0:5.1f} s] {msg}"
+        step = _STEP.match(msg)
+        last = step is None or int(step["i"]) >= int(step["n"])
+        if _interactive(stream) and step is not None:
+            stream.write("\r" + text + "\033[K" + ("\n" if last else ""))
+            self._live = not last
+        elif last:
+            if self._live:
+                stream.write("\n")
+                self._live = False
+            stream.write(text + "\n")
         stream.flush()
+
+
+def _interactive(stream) -> bool:
+    """Whether ``stream`` is a terminal (a live line can be redrawn there)."""
+    try:
+        return bool(stream.isatty())
+    except (AttributeError, ValueError):
+        return False
 
 
 class ProgressBar:
