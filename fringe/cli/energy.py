@@ -73,7 +73,7 @@ def magnet_record(e: MagnetEnergy) -> dict:
         "energy_outside_envelope_fraction": (e.energy_outside_envelope_J / e.stored_energy_J
                                              if e.stored_energy_J else None),
         "energy_outside_box_J": e.energy_outside_box_J,
-        "zonal_moments_Am": e.zonal_moments_Am,
+        "zonal_moments": e.zonal_moments_Am,
         "field_energy_J": e.field_energy_J,
         "verify_relative_difference": e.verify_relative_difference,
     }
@@ -84,7 +84,7 @@ def _radius_record(e: MagnetEnergy, radius_m, outside: dict) -> dict:
         return {}
     w = outside[e.name]
     return {"energy_outside_radius": {"radius_m": radius_m, "energy_J": w,
-                                      "fraction": w / e.stored_energy_J
+                                      "energy_fraction": w / e.stored_energy_J
                                       if e.stored_energy_J else None}}
 
 
@@ -233,7 +233,7 @@ def run(args) -> int:
                                 for a, b, w in mutual],
             "total_energy_J": total,
             "maps": [str(p) for p in maps],
-            "advisory_notice": ADVISORY_NOTICE,
+            "advisory": ADVISORY_NOTICE,
         })
     else:
         _print_text(site, results, mutual, total, maps, args.radius_m, outside_r)

@@ -3,7 +3,7 @@
 Builders turn a computed :class:`fringe.analysis.report.ReportResult` into the content
 of each file (:func:`summary_dict`, :func:`zones_geojson`, :func:`rooms_csv`,
 :func:`equipment_csv`); :func:`write_report_tables` writes them into a folder.
-Every key is documented in docs/zones.md.
+Every key is documented in docs/zones.md (and with units in docs/outputs.md).
 """
 
 from __future__ import annotations

@@ -643,7 +643,10 @@ class DumpCircuit:
     energy_into_magnet_J: float
 
     def to_dict(self) -> dict:
-        return dict(self.__dict__)
+        """The JSON form (``dump_circuit`` of ``fringe quench --json`` and summary.json);
+        the inductance under ``circuit_inductance_H``, as ``fringe energy --json`` names it."""
+        out = dict(self.__dict__)
+        return {"circuit_inductance_H": out.pop("inductance_H"), **out}
 
 
 @dataclass(frozen=True)
