@@ -123,3 +123,19 @@ def test_place_text_block_pastes_into_a_scenario(tmp_path, capsys):
     assert "turns = 1000" in block and "turns = 1000.0" not in block
     magnet = parse_site(tomllib.loads(block), "pasted.toml").magnets[0]
     assert magnet.name == "m" and magnet.coils[0].turns == 1000
+
+
+def test_harbour_lab_report_summary_aligned_and_scaled():
+    from fringe.analysis.report import compute_report
+    from fringe.cli.report import terminal_summary
+    from fringe.io.scenario import load_site
+
+    r = compute_report(load_site(HARBOUR))
+    text = terminal_summary(r, "out")
+    lines = text.splitlines()
+    rooms = lines[lines.index("rooms:") + 1:][:len(r.rooms)]
+    assert any("seminar floor" in x for x in rooms)
+    assert len({x.index(" max ") for x in rooms}) == 1, rooms  # same start column
+    bench = next(x for x in lines if x.startswith("magnet bench solenoid"))
+    assert re.search(r"stored energy 699 J$", bench), bench  # not 0.000699 MJ
+    assert "(s)" not in text
