@@ -88,36 +88,55 @@ def _radius_record(e: MagnetEnergy, radius_m, outside: dict) -> dict:
                                       if e.stored_energy_J else None}}
 
 
+def _energy(value_J: float) -> str:
+    """An energy right-aligned in the text column, in J, kJ or MJ by size."""
+    from fringe.cli.textfmt import format_energy_J
+
+    number, unit = format_energy_J(value_J, 6).split(" ")
+    return f"{number:>16} {unit:<2}"
+
+
+def format_matrix(matrix_H) -> list[str]:
+    """The inductance matrix rows, each labelled ``coil k`` under a ``coil k`` header."""
+    n = len(matrix_H)
+    labels = [f"coil {k}" for k in range(1, n + 1)]
+    w = max(len(x) for x in labels)
+    lines = ["    " + " " * w + " " + " ".join(f"{x:>11}" for x in labels)]
+    for label, row in zip(labels, matrix_H, strict=True):
+        lines.append(f"    {label:<{w}} " + " ".join(f"{v:11.5g}" for v in row))
+    return lines
+
+
 def format_magnet(e: MagnetEnergy) -> str:
-    """Plain text block of one magnet."""
+    """Plain text block of one magnet (energies in J, kJ or MJ by size)."""
+    from fringe.cli.textfmt import plural
+
     r, z0, z1 = e.envelope_m
     n = len(e.coil_currents_A)
     lines = [f"magnet: {e.name}",
-             f"  stored energy W = ½ IᵀMI   {e.stored_energy_J:14.6g} J  "
-             f"({e.stored_energy_J / 1e6:.4f} MJ)",
-             f"  centre field B_z(0)        {e.center_field_T:14.6g} T"]
+             f"  stored energy W = ½ IᵀMI {_energy(e.stored_energy_J)}",
+             f"  centre field B_z(0)      {e.center_field_T:16.6g} T"]
     if e.circuit_inductance_H is None:
         lines.append("  circuit inductance 2W/I²   not defined (coil currents differ)")
     else:
-        lines.append(f"  circuit inductance 2W/I²   {e.circuit_inductance_H:14.6g} H  "
+        lines.append(f"  circuit inductance 2W/I² {e.circuit_inductance_H:16.6g} H   "
                      f"(series circuit at {abs(e.coil_currents_A[0]):g} A)")
     frac = e.energy_outside_envelope_J / e.stored_energy_J if e.stored_energy_J else math.nan
-    lines.append(f"  energy outside envelope    {e.energy_outside_envelope_J:14.6g} J  "
+    lines.append(f"  energy outside envelope  {_energy(e.energy_outside_envelope_J)} "
                  f"({100 * frac:.3g} % of W; cylinder ρ ≤ {r:.3g} m, "
                  f"{z0:.3g} ≤ z ≤ {z1:.3g} m about the centre)")
     if e.energy_outside_box_J is not None:
-        lines.append(f"  energy outside the box     {e.energy_outside_box_J:14.6g} J")
+        lines.append(f"  energy outside the box   {_energy(e.energy_outside_box_J)}")
     q = e.zonal_moments_Am
     lines.append(f"  zonal moments: dipole {q['dipole_Am2']:.5g} A·m², l=3 {q['l3_Am4']:.5g} "
                  f"A·m⁴, l=5 {q['l5_Am6']:.5g} A·m⁶")
     if e.field_energy_J is not None:
-        lines.append(f"  verify ∫B²/2μ₀ dV          {e.field_energy_J:14.6g} J  "
+        lines.append(f"  verify ∫B²/2μ₀ dV        {_energy(e.field_energy_J)} "
                      f"(relative difference {e.verify_relative_difference:+.2e})")
-    lines.append(f"  inductance matrix (H), {n} windings, currents (A): "
+    lines.append(f"  inductance matrix (H), {plural(n, 'winding')}, currents (A): "
                  + " ".join(f"{c:g}" for c in e.coil_currents_A))
-    for row in e.inductance_matrix_H:
-        lines.append("    " + " ".join(f"{v:11.5g}" for v in row))
-    return "\n".join(lines)
+    lines += format_matrix(e.inductance_matrix_H)
+    return "\n".join(line.rstrip() for line in lines)
 
 
 def _write_maps(site, magnets, out_dir: Path, levels) -> list[Path]:
@@ -186,19 +205,23 @@ def _outside_radius(args, magnets) -> dict[str, float]:
 
 def _print_text(site, results, mutual, total, maps, radius_m, outside_r) -> None:
     """Print the plain text report of the site's energies."""
+    from fringe.cli.textfmt import ENERGY_ZERO_REL, clean_zero, format_energy_J
+
     print(f"site: {site.name}")
+    own = max((abs(e.stored_energy_J) for e in results), default=0.0)
     for e in results:
         print(format_magnet(e))
         if e.name in outside_r:
             w_out = outside_r[e.name]
-            print(f"  energy outside r = {radius_m:g} m  {w_out:14.6g} J  "
+            print(f"  energy outside r = {radius_m:g} m{_energy(w_out)} "
                   f"({100 * w_out / e.stored_energy_J:.3g} % of W; sphere about the "
                   "centre)")
     for a, b, w in mutual:
-        print(f"interaction energy {a!r} ↔ {b!r}: {w:.6g} J  (flux of one magnet's field "
-              "linked by the other's windings)")
+        w = clean_zero(w, own, ENERGY_ZERO_REL)  # exact zeros by symmetry print as 0
+        print(f"interaction energy {a!r} ↔ {b!r}: {format_energy_J(w, 6)}  (flux of one "
+              "magnet's field linked by the other's windings)")
     if len(results) > 1:
-        print(f"total energy of the site: {total:.6g} J ({total / 1e6:.4f} MJ)")
+        print(f"total energy of the site: {format_energy_J(total, 6)}")
     for p in maps:
         print(f"wrote {p}")
     print(ADVISORY_NOTICE)

@@ -147,7 +147,7 @@ def text_summary(site, result, equipment: list[dict], out_dir: str | None) -> st
              + ", ".join(f"{t:g}" for t in r.levels_mT) + " mT",
              f"placements scored: {r.evaluations}", "",
              "rank  centre (x, y, z) m            axis                  spill m²  margin m  "
-             "limiting room(s)"]
+             "limiting rooms"]
     rows = [(str(k), p) for k, p in enumerate(r.candidates, 1)]
     if r.current is not None:
         rows.append(("scen.", r.current))
@@ -184,7 +184,8 @@ def text_summary(site, result, equipment: list[dict], out_dir: str | None) -> st
                          f"{e['after_verdict']}")
     for n in r.notes:
         lines.append(f"note: {n}")
-    lines += ["", "# scenario block for the best placement", best_magnet_toml(r)]
+    lines += ["", "# scenario block for the best placement (pastes into a scenario file)",
+              best_magnet_toml(r) + "# end of the scenario block"]
     if out_dir:
         lines.append(f"outputs: {out_dir}")
     lines.append(ADVISORY_NOTICE)

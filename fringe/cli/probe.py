@@ -50,9 +50,14 @@ def field_table_rows(points_m: np.ndarray, B_T: np.ndarray,
 
 
 def format_table(points_m: np.ndarray, B_T: np.ndarray) -> str:
-    """A plain text table of points, |B| (mT and T), components (mT) and energy density."""
+    """A plain text table of points, |B| (mT and T), components (mT) and energy density.
+
+    Components below :data:`fringe.cli.textfmt.FIELD_ZERO_REL` of |B| (rounding noise of an
+    exact zero, e.g. B_x on the axis) print as 0; the JSON keeps every digit.
+    """
     import numpy as np
 
+    from fringe.cli.textfmt import FIELD_ZERO_REL
     from fringe.field.evaluate import energy_density_J_per_m3
 
     b_abs = np.linalg.norm(B_T, axis=1)
@@ -61,6 +66,7 @@ def format_table(points_m: np.ndarray, B_T: np.ndarray) -> str:
             f"{'Bx_mT':>11} {'By_mT':>11} {'Bz_mT':>11} | {'u_J/m3':>11}")
     lines = [head, "-" * len(head)]
     for p, b, a, e in zip(points_m, B_T, b_abs, u, strict=True):
+        b = np.where(np.abs(b) <= FIELD_ZERO_REL * a, 0.0, b) + 0.0  # + 0.0: no "-0"
         lines.append(f"{p[0]:8.3f} {p[1]:8.3f} {p[2]:8.3f} | {a * 1e3:12.5g} {a:11.4e} | "
                      f"{b[0] * 1e3:11.4g} {b[1] * 1e3:11.4g} {b[2] * 1e3:11.4g} | {e:11.4e}")
     return "\n".join(lines)
@@ -100,7 +106,9 @@ def run(args) -> int:
     B = field_at(site, points)
     inside = points_in_windings(site, points)
     if inside.any():
-        sys.stderr.write(f"fringe: warning: {int(inside.sum())} point(s) lie inside a winding; "
+        n_in = int(inside.sum())
+        sys.stderr.write(f"fringe: warning: {n_in} {'point lies' if n_in == 1 else 'points lie'} "
+                         "inside a winding; "
                          "the field there is a quadrature estimate of lower accuracy\n")
     if args.out:
         out = Path(args.out)

@@ -58,8 +58,30 @@ def closing_verdict(result, *, fail: bool = True) -> tuple[str, int]:
     return v.line(), (EXIT_EXCEEDS if v.exceeds and fail else EXIT_OK)
 
 
+def rooms_table(rooms, format_field) -> list[str]:
+    """The rooms' rows, every column aligned (widths from the longest name, floor, access).
+
+    Parameters
+    ----------
+    rooms : sequence of room checks
+        With ``name``, ``floor``, ``access``, ``max_field_T``, ``limit_T`` and ``verdict``.
+    format_field : callable
+        ``format_field(field_T, digits)``: a field with its unit.
+    """
+    wn = max(len(c.name) for c in rooms)
+    wf = max(len(str(c.floor)) for c in rooms)
+    wa = max(len(str(c.access)) for c in rooms)
+    out = []
+    for c in rooms:
+        lim = "-" if c.limit_T is None else f"{c.limit_T * 1e3:g}"
+        out.append(f"  {c.name:<{wn}}  {c.floor!s:<{wf}}  {c.access!s:<{wa}}  max "
+                   f"{format_field(c.max_field_T, 4):>13}  limit {lim:>6} mT  {c.verdict}")
+    return out
+
+
 def terminal_summary(result, out_dir: str | Path) -> str:
     """The short text printed after a report (verdicts first, then where files went)."""
+    from fringe.cli.textfmt import format_energy_J
     from fringe.render.sheet import format_field  # matplotlib: not at command start-up
 
     r = result
@@ -74,7 +96,7 @@ def terminal_summary(result, out_dir: str | Path) -> str:
                         f"{t:g} mT line reaches {reach[0]:.2f} m from the axis ({rr:.2f} m "
                         f"in the centre plane), {reach[1]:.2f} m along it")
                 lines.append(f"magnet {m.name}: centre {m.center_field_T:.3g} T; {line}; "
-                             f"stored energy {m.stored_energy_J / 1e6:.3g} MJ")
+                             f"stored energy {format_energy_J(m.stored_energy_J, 3)}")
         if m.origin != "coils" and m.description:
             lines.append(f"  model: {m.description}")
     for name, fps in r.footprints.items():
@@ -86,13 +108,8 @@ def terminal_summary(result, out_dir: str | Path) -> str:
                      f"band-sampling error {100 * fm.band_error_rel:.2g} %"
                      + ("; CLIPPED at the plan edge" if b.clipped else ""))
     if r.rooms:
-        w = max(len(c.name) for c in r.rooms)
         lines.append("rooms:")
-        for c in r.rooms:
-            lim = "-" if c.limit_T is None else f"{c.limit_T * 1e3:g}"
-            lines.append(f"  {c.name:<{w}}  {c.floor:<10} {c.access:<10} max "
-                         f"{format_field(c.max_field_T, 4):>13}  limit {lim:>6} mT  "
-                         f"{c.verdict}")
+        lines += rooms_table(r.rooms, format_field)
     ceiling = [c for c in r.rooms
                if c.name in r.ceilings and r.ceilings[c.name].ceiling_exceeds]
     if ceiling:
@@ -120,7 +137,8 @@ def terminal_summary(result, out_dir: str | Path) -> str:
     spill = [i.name for i in r.overall().items if i.kind == "floor"]
     if spill:
         lines.append(f"the {r.boundary.value_mT:g} mT line reaches beyond the controlled rooms "
-                     f"on floor(s) {', '.join(spill)}: extend the controlled access area or "
+                     f"on {'floor' if len(spill) == 1 else 'floors'} "
+                     f"{', '.join(spill)}: extend the controlled access area or "
                      "change the layout")
     lines.append(closing_verdict(r)[0])
     lines.append(f"outputs: {out_dir}")

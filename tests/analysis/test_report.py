@@ -178,7 +178,7 @@ def test_boundary_spilling_into_unmapped_space_fails_the_floor(tmp_path, capsys)
     out = tmp_path / "out"
     assert main(["report", spill, "--out", str(out), "--no-drawings", "--quiet"]) == 3
     text = capsys.readouterr().out
-    assert "reaches beyond the controlled rooms on floor(s) ground" in text
+    assert "reaches beyond the controlled rooms on floor ground" in text
     assert ("verdict: 1 item exceeds: 1 floor (ground: 0.5 mT line outside the controlled "
             "rooms)") in text
     s = json.loads((out / "summary.json").read_text())

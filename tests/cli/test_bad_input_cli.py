@@ -166,7 +166,7 @@ def test_points_inside_a_winding_warn_with_count(scenario, run_cli):
     code, out, err = run_cli("probe", scenario, "--at", 0.31, 0, 1.0, "--at", 0, -0.305, 1.1,
                              "--at", 2, 0, 1, "--json")
     assert code == 0, err
-    assert "fringe: warning: 2 point(s) lie inside a winding" in err
+    assert "fringe: warning: 2 points lie inside a winding" in err
 
 
 def test_points_outside_windings_do_not_warn(scenario, run_cli):
@@ -238,7 +238,7 @@ def test_points_on_winding_surfaces_edges_and_corners_are_finite(scenario, run_c
     assert code == 0, err
     b = [row["B_abs_T"] for row in json.loads(out)["points"]]
     assert all(v is not None and 0 < v < 1.0 for v in b), b  # JSON null would mean NaN/inf
-    assert f"{len(surface)} point(s) lie inside a winding" in err  # boundaries count as inside
+    assert f"{len(surface)} points lie inside a winding" in err  # boundaries count as inside
     # continuity: a nudge of 1 nm changes |B| by far less than 1 % (common practice)
     nudged = [a for p in surface for a in ("--at", p[0] + 1e-9, p[1] + 1e-9, p[2] + 1e-9)]
     code, out2, _ = run_cli("probe", scenario, *nudged, "--json")

@@ -39,7 +39,7 @@ def test_json_keys_and_verify(demo_path, capsys):
 def test_text_output_has_units_and_notice(demo_path, capsys):
     assert main(["energy", demo_path]) == 0
     text = capsys.readouterr().out
-    assert " MJ)" in text and " J " in text and "circuit inductance" in text
+    assert "2.47403 MJ" in text and " kJ " in text and "circuit inductance" in text
     assert "energy outside envelope" in text and "centre field" in text
     assert ADVISORY_NOTICE in text
 

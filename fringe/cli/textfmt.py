@@ -1,0 +1,47 @@
+"""Small text helpers shared by the commands' terminal output (no heavy imports).
+
+Units scaled to the value, plural forms and exact zeros; JSON output never uses them.
+"""
+
+from __future__ import annotations
+
+import math
+
+#: |value| below this fraction of a reference scale prints as 0 (rounding noise of an
+#: exact zero, e.g. the interaction energy of two magnets that cancel by symmetry).
+ENERGY_ZERO_REL: float = 1e-9
+#: Field components below this fraction of |B| print as 0 (``fringe probe``).
+FIELD_ZERO_REL: float = 1e-12
+
+
+def plural(n: int, word: str, many: str | None = None) -> str:
+    """``"1 winding"``, ``"2 windings"`` (``many`` for an irregular plural)."""
+    return f"{n} {word if n == 1 else (many or word + 's')}"
+
+
+def clean_zero(value: float, scale: float, rel: float) -> float:
+    """``value``, or 0.0 when ``|value| <= rel * |scale|`` (rounding noise of a zero)."""
+    if math.isfinite(value) and abs(value) <= rel * abs(scale):
+        return 0.0
+    return value
+
+
+def format_energy_J(value_J: float, digits: int = 4) -> str:
+    """An energy in J, kJ or MJ by size: ``"699 J"``, ``"12.5 kJ"``, ``"3.2 MJ"``, ``"0 J"``.
+
+    Parameters
+    ----------
+    value_J : float
+        Energy, J (pass it through :func:`clean_zero` first to print noise as 0).
+    digits : int
+        Significant digits.
+    """
+    if not math.isfinite(value_J):
+        return f"{value_J} J"
+    if value_J == 0:
+        return "0 J"
+    a = abs(value_J)
+    for factor, unit in ((1e6, "MJ"), (1e3, "kJ")):
+        if a >= factor:
+            return f"{value_J / factor:.{digits}g} {unit}"
+    return f"{value_J:.{digits}g} J"
