@@ -15,7 +15,7 @@ from fringe.cli.main import main
 from fringe.cli.textfmt import ENERGY_ZERO_REL, clean_zero, format_energy_J, plural
 from fringe.io.scenario import parse_site
 
-HARBOUR = Path(__file__).resolve().parents[1] / "scenarios" / "harbour-lab.toml"
+HARBOUR = Path(__file__).resolve().parents[2] / "scenarios" / "harbour-lab.toml"
 
 
 @pytest.mark.parametrize("value, text", [
