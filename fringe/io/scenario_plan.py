@@ -120,9 +120,11 @@ def parse_plan(root: Reader) -> PlanSettings:
                        f"one of {', '.join(map(repr, EXPOSURE_LIMITS))}", x)
         exposure = tuple(dict.fromkeys(ex))
     gradient_lines = _gradient_lines(r)
+    show_gauss = r.boolean("show_gauss", False)
     r.finish()
     return PlanSettings(boundary, with_boundary(th, boundary.value_mT), step, band_step,
-                        band, extent, exposure, gradient_lines_T_per_m=gradient_lines)
+                        band, extent, exposure, gradient_lines_T_per_m=gradient_lines,
+                        show_gauss=show_gauss)
 
 
 def _gradient_lines(r: Reader) -> tuple[float, ...]:

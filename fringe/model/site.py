@@ -58,6 +58,8 @@ class PlanSettings:
     exposure_lines : tuple of str or None
         Exposure limits drawn on section sheets (keys of
         ``fringe.physics.exposure.EXPOSURE_LIMITS``); None for all of them, ``()`` for none.
+    show_gauss : bool
+        Print field values on the sheets also in gauss, in brackets (``[plan] show_gauss``).
     """
 
     boundary: Boundary
@@ -68,6 +70,7 @@ class PlanSettings:
     extent_m: tuple[tuple[float, float], tuple[float, float]] | None = None
     exposure_lines: tuple[str, ...] | None = None
     gradient_lines_T_per_m: tuple[float, ...] = DEFAULT_GRADIENT_LINES_T_PER_M
+    show_gauss: bool = False
 
 
 def with_boundary(thresholds_mT: Iterable[float], boundary_mT: float) -> tuple[float, ...]:

@@ -62,6 +62,7 @@ from fringe.render.sheet import (
     cover_sheet,
     curve_sheet,
     format_field,
+    format_mT,
     format_value,
     number_sheets,
     save_figure,
@@ -78,7 +79,7 @@ __all__ = [
     "A3_LANDSCAPE_IN", "PNG_DPI", "map_sheet", "plan_sheet",
     "section_sheet", "curve_sheet", "table_sheet", "tables_sheets", "cover_sheet",
     "save_figure", "write_pdf", "number_sheets", "footprint_rectangle", "format_value",
-    "format_field",
+    "format_field", "format_mT",
     "scale_bar_length_m",
 ]
 
@@ -376,11 +377,20 @@ class _LineSet:
 
 def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | None,
                 boundary_label: str | None, cmap: str | None, band_alpha: float,
-                log_contours: bool, palette=None) -> tuple[list, list[_LineSet]]:
+                log_contours: bool, palette=None,
+                show_gauss: bool = False) -> tuple[list, list[_LineSet]]:
     """Filled bands between consecutive levels, contour lines, emphasised boundary.
 
     Returns legend entries (handle, label) and the unlabelled line sets (boundary first).
+    With ``show_gauss`` (and ``unit`` "mT") every level also reads in gauss, in brackets.
     """
+    def lab(lo: float, hi: float | None = None) -> str:
+        if unit == "mT":
+            return format_mT(lo, hi, show_gauss)
+        if hi is None:
+            return f"{format_value(lo)} {unit}"
+        return f"{format_value(lo)} to {format_value(hi)} {unit}"
+
     vals = np.asarray(values, float)
     finite = vals[np.isfinite(vals)]
     vmax = float(finite.max()) if finite.size else -np.inf
@@ -398,20 +408,20 @@ def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | 
     for i in range(len(levels) - 1, -1, -1):  # legend: highest band first
         lo = levels[i]
         if i == len(levels) - 1:
-            text = f"at least {format_value(lo)} {unit}"
+            text = f"at least {lab(lo)}"
         else:
-            text = f"{format_value(lo)} to {format_value(levels[i + 1])} {unit}"
+            text = lab(lo, levels[i + 1])
         entries.append((Patch(facecolor=colors[i], alpha=band_alpha, edgecolor="0.4",
                               linewidth=0.5), text))
     entries.append((Patch(facecolor="white", edgecolor="0.4", linewidth=0.5),
-                    f"below {format_value(levels[0])} {unit} (no fill)"))
+                    f"below {lab(levels[0])} (no fill)"))
     sets: list[_LineSet] = []
     if boundary_level is not None:
-        blabel = boundary_label or f"{format_value(boundary_level)} {unit}"
+        blabel = boundary_label or lab(boundary_level)
         if vmin < boundary_level < vmax:
             csb = ax.contour(x, y, Z, levels=_log_or_linear([boundary_level], log_contours),
                              colors=_INK, linewidths=2.6, linestyles="solid", zorder=4)
-            short = f"{format_value(boundary_level)} {unit}"
+            short = lab(boundary_level)
             sets.append(_LineSet(csb, [blabel], [short + " boundary"], 8.5, "bold", _INK,
                                  beside=True, near_fallback=[short]))
         reached = vmin < boundary_level < vmax
@@ -422,7 +432,7 @@ def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | 
     if plain:
         cs = ax.contour(x, y, Z, levels=_log_or_linear(plain, log_contours), colors=_INK,
                         linewidths=0.7, linestyles="solid", zorder=3)
-        texts = [f"{format_value(v)} {unit}" for v in plain]
+        texts = [lab(v) for v in plain]
         sets.append(_LineSet(cs, texts, texts, 7.5, "normal", _INK))
     entries.append((Line2D([], [], color=_INK, linewidth=0.7),
                     f"threshold lines, labelled in {unit}"))
@@ -1182,7 +1192,7 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
               windings: Sequence = (),
               band_alpha: float = 0.62, log_contours: bool | None = None,
               x_label: str = "x (east), m", y_label: str = "y (north), m",
-              north_arrow: bool = True, palette=None) -> Figure:
+              north_arrow: bool = True, palette=None, show_gauss: bool = False) -> Figure:
     """A plan sheet of any scalar map: filled bands between levels and labelled lines.
 
     Parameters
@@ -1225,6 +1235,9 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     palette : callable, optional
         Level → colour of the band at and above it (e.g.
         :func:`fringe.render.style.threshold_color` for levels in mT); overrides ``cmap``.
+    show_gauss : bool
+        With ``unit`` "mT": levels in the legend and on the lines also in gauss, in
+        brackets (``[plan] show_gauss``; 1 mT = 10 G).
 
     Returns
     -------
@@ -1256,7 +1269,7 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
                                      boundary_level=boundary_level,
                                      boundary_label=boundary_label, cmap=cmap,
                                      band_alpha=band_alpha, log_contours=log_contours,
-                                     palette=palette)
+                                     palette=palette, show_gauss=show_gauss)
     entries += _draw_overlays(ax, overlays)
     mag_texts, mag_entries = _draw_magnets(ax, magnets)
     mag_entries += _draw_magnets(ax, windings, section=True)[1]
@@ -1314,7 +1327,7 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
                boundary_mT: float | None = 0.5, boundary_label: str | None = None,
                rooms: Sequence[RoomMark] = (), equipment: Sequence[EquipmentMark] = (),
                magnets: Sequence = (), overlays: Sequence = (), notes: Sequence[str] = (),
-               cmap: str | None = None) -> Figure:
+               cmap: str | None = None, show_gauss: bool = False) -> Figure:
     """Floor plan of the field magnitude in mT, with rooms, equipment and the boundary.
 
     Parameters
@@ -1339,6 +1352,9 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
         A matplotlib colormap for the bands; by default each threshold's band takes its
         own fixed colour (:func:`fringe.render.style.threshold_color`, the colour its
         layer has in the DXF zone drawings).
+    show_gauss : bool
+        Levels in the legend, on the lines and in the boundary label also in gauss, in
+        brackets, e.g. "0.5 to 1 mT (5 to 10 G)" (``[plan] show_gauss``; 1 mT = 10 G).
 
     Returns
     -------
@@ -1357,12 +1373,14 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
     info = _with_boundary_note(info, boundary_mT)
     label = boundary_label
     if boundary_mT is not None and label is None:
-        label = f"{format_value(boundary_mT)} mT: controlled access area boundary"
+        label = (format_mT(boundary_mT, show_gauss=show_gauss)
+                 + ": controlled access area boundary")
     return map_sheet(x, y, v * 1e3, lv, info, unit="mT", quantity="|B|",
                      boundary_level=boundary_mT, boundary_label=label, rooms=rooms,
                      equipment=equipment, magnets=magnets, overlays=overlays, notes=notes,
                      cmap=cmap, log_contours=True,
-                     palette=threshold_color if cmap is None else None)
+                     palette=threshold_color if cmap is None else None,
+                     show_gauss=show_gauss)
 
 
 def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
@@ -1371,7 +1389,7 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
                   floors: Sequence = (), windings: Sequence = (),
                   exposure_lines: Sequence[ExposureLine] = (), overlays: Sequence = (),
                   notes: Sequence[str] = (), s_label: str = "s along the section line, m",
-                  cmap: str | None = None) -> Figure:
+                  cmap: str | None = None, show_gauss: bool = False) -> Figure:
     """Vertical section of |B| in mT: bands, labelled lines, floors, windings, exposure.
 
     Parameters
@@ -1393,7 +1411,7 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
     exposure_lines : sequence of ExposureLine
         Drawn as dashed labelled lines where |B| equals their value; their sources are
         printed in the notes (e.g. :data:`ICNIRP_2009_EXPOSURE_LINES`).
-    overlays, notes, s_label, cmap
+    overlays, notes, s_label, cmap, show_gauss
         As :func:`map_sheet` and :func:`plan_sheet`; ``s_label`` names the horizontal axis.
 
     Returns
@@ -1408,7 +1426,8 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
     lv, s, z, v = _section_inputs(s_m, z_m, field_T, thresholds_mT, boundary_mT)
     label = boundary_label
     if boundary_mT is not None and label is None:
-        label = f"{format_value(boundary_mT)} mT: controlled access area boundary"
+        label = (format_mT(boundary_mT, show_gauss=show_gauss)
+                 + ": controlled access area boundary")
     vm = v * 1e3
     info = _with_boundary_note(info, boundary_mT)
     fig = _new_figure()
@@ -1418,7 +1437,8 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
     entries, line_sets = _draw_bands(ax, s, z, vm, list(lv), unit="mT",
                                      boundary_level=boundary_mT, boundary_label=label,
                                      cmap=cmap, band_alpha=0.62, log_contours=True,
-                                     palette=threshold_color if cmap is None else None)
+                                     palette=threshold_color if cmap is None else None,
+                                     show_gauss=show_gauss)
     entries += _draw_overlays(ax, overlays)
     occupied: list[Bbox] = []
     entries += _draw_floor_levels(ax, renderer, floors, s, z, occupied)

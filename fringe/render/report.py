@@ -329,7 +329,8 @@ def _plan_sheet(r: ReportResult, name: str, fm, base: dict, site_mags: dict, roo
     return dr.plan_sheet(fm.x_m, fm.y_m, fm.envelope_T, info,
                          thresholds_mT=r.thresholds_mT, boundary_mT=r.boundary.value_mT,
                          rooms=rooms, equipment=equip, magnets=mags, overlays=overlays,
-                         notes=_plan_notes(r, name, fm))
+                         notes=_plan_notes(r, name, fm),
+                         show_gauss=r.plan.settings.show_gauss)
 
 
 def _section_windings_notes(sec, m, grid_step_m: float) -> tuple[list, list[str], str]:
@@ -387,7 +388,8 @@ def _section_sheets(r: ReportResult, base: dict, site_mags: dict, taken: set[str
                                thresholds_mT=r.thresholds_mT, boundary_mT=r.boundary.value_mT,
                                floors=list(r.plan.floors), windings=windings,
                                notes=notes + sec_notes, s_label=s_label,
-                               exposure_lines=exposure, overlays=sec_overlays)
+                               exposure_lines=exposure, overlays=sec_overlays,
+                               show_gauss=r.plan.settings.show_gauss)
         stem = sec.magnet if sec.direction == "along" else f"{sec.magnet}-{sec.direction}"
         sheets.append((f"section-{slug(stem, taken)}", fig))
         if sec.direction == "along" and att is not None:
@@ -398,7 +400,8 @@ def _section_sheets(r: ReportResult, base: dict, site_mags: dict, taken: set[str
 def _tables(r: ReportResult) -> list[tuple[str, list[str], list[list]]]:
     """The table sheets' content: rooms, equipment, extents, magnets, attraction, areas."""
     from fringe.render.sheet import format_field
-    room_rows = [[c.name, c.floor, c.access, format_field(c.max_field_T),
+    gauss = r.plan.settings.show_gauss
+    room_rows = [[c.name, c.floor, c.access, format_field(c.max_field_T, show_gauss=gauss),
                   "-" if c.limit_T is None else c.limit_T * 1e3, c.verdict,
                   next((a for t, a in c.area_above_m2
                         if math.isclose(t, r.boundary.value_mT, rel_tol=1e-9)), 0.0)]
@@ -409,7 +412,8 @@ def _tables(r: ReportResult) -> list[tuple[str, list[str], list[list]]]:
         tables.append((
             "Equipment", ["equipment", "floor", "x, m", "y, m", "z, m", "field",
                           "limit, mT", "verdict", "note"],
-            [[e.name, e.floor, *e.position_m, format_field(e.field_T), e.limit_T * 1e3,
+            [[e.name, e.floor, *e.position_m, format_field(e.field_T, show_gauss=gauss),
+              e.limit_T * 1e3,
               e.verdict, e.note] for e in r.equipment]))
     tables.append((
         "Field-line extents of each magnet alone (outermost crossing; reach: anywhere)",

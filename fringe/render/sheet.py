@@ -53,6 +53,7 @@ __all__ = [
     "SheetInfo", "Curve", "CurvePanel", "A3_LANDSCAPE_IN", "PNG_DPI",
     "curve_sheet", "table_sheet", "tables_sheets", "cover_sheet", "save_figure",
     "write_pdf", "number_sheets", "format_value", "format_field",
+    "format_mT",
 ]
 
 
@@ -189,10 +190,28 @@ def format_value(v: float) -> str:
     return f"{v:.2g}"
 
 
-def format_field(field_T: float, digits: int | None = None) -> str:
+def format_mT(lo_mT: float, hi_mT: float | None = None, show_gauss: bool = False) -> str:
+    """A level (or range of levels) in mT, with gauss in brackets if ``show_gauss``.
+
+    1 mT = 10 G.
+
+    >>> format_mT(0.5), format_mT(0.5, show_gauss=True), format_mT(0.5, 1, show_gauss=True)
+    ('0.5 mT', '0.5 mT (5 G)', '0.5 to 1 mT (5 to 10 G)')
+    """
+    if hi_mT is None:
+        text = f"{format_value(lo_mT)} mT"
+        return text + (f" ({format_value(lo_mT * 10.0)} G)" if show_gauss else "")
+    text = f"{format_value(lo_mT)} to {format_value(hi_mT)} mT"
+    if show_gauss:
+        text += f" ({format_value(lo_mT * 10.0)} to {format_value(hi_mT * 10.0)} G)"
+    return text
+
+
+def format_field(field_T: float, digits: int | None = None, show_gauss: bool = False) -> str:
     """A flux density with its unit: in T from 1 T up, in mT below.
 
-    ``digits`` significant digits (``:g``) if given, else :func:`format_value`.
+    ``digits`` significant digits (``:g``) if given, else :func:`format_value`; with
+    ``show_gauss`` the value in gauss follows in brackets (1 T = 10⁴ G).
 
     >>> [format_field(v) for v in (1.86, 0.0005, 0.2296, 9.4)]
     ['1.86 T', '0.5 mT', '230 mT', '9.4 T']
@@ -202,9 +221,10 @@ def format_field(field_T: float, digits: int | None = None) -> str:
     def num(v: float) -> str:
         return format_value(v) if digits is None else f"{v:.{digits}g}"
 
+    gauss = f" ({num(b * 1e4)} G)" if show_gauss else ""
     if math.isfinite(b) and abs(b) >= 1.0:
-        return f"{num(b)} T"
-    return f"{num(b * 1e3)} mT"
+        return f"{num(b)} T{gauss}"
+    return f"{num(b * 1e3)} mT{gauss}"
 
 
 def _new_figure() -> Figure:
