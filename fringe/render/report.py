@@ -333,6 +333,73 @@ def _plan_sheet(r: ReportResult, name: str, fm, base: dict, site_mags: dict, roo
                          show_gauss=r.plan.settings.show_gauss)
 
 
+def field_reversal_m(s_m, z_m, field_T, centre_z_m: float,
+                     beyond_m: float = 0.0) -> float | None:
+    """Distance from the centre where |B| on the row through the centre has an interior dip.
+
+    Walking outward from the centre (both ways) along the grid row nearest
+    ``centre_z_m``, beyond ``beyond_m`` (outside the windings) and beyond the last
+    undefined node, |B| of an unshielded coil only falls. A local minimum followed
+    further out by a rise to at least 1.3 times its value is the field reversal of an
+    actively shielded magnet: there the shield coils' field cancels the main field and
+    |B| passes through zero (sampled on the grid, the minimum is only near zero).
+
+    Parameters
+    ----------
+    s_m : (ns,) float
+        Horizontal coordinate of the section, m, 0 at the magnet centre.
+    z_m : (nz,) float
+        Heights of the section rows, m.
+    field_T : (nz, ns) float
+        |B| on the section, T; NaN inside windings.
+    centre_z_m : float
+        Height of the magnet centre, m.
+    beyond_m : float
+        Only nodes farther than this from the centre count, m (the windings' reach:
+        |B| also passes through zero inside a winding).
+
+    Returns
+    -------
+    float or None
+        |s| of the nearest such minimum, m, or None when the field has no reversal there.
+    """
+    s = np.asarray(s_m, float)
+    row = np.asarray(field_T, float)[int(np.argmin(np.abs(np.asarray(z_m, float)
+                                                          - centre_z_m)))]
+    found = []
+    for side in (s >= 0, s <= 0):
+        idx = np.flatnonzero(side & (np.abs(s) > beyond_m))
+        idx = idx[np.argsort(np.abs(s[idx]))]
+        b = row[idx]
+        bad = np.flatnonzero(~np.isfinite(b))
+        start = bad[-1] + 1 if bad.size else 0
+        for k in range(start + 1, len(b) - 1):
+            if b[k] < b[k - 1] and b[k] <= b[k + 1] and np.max(b[k + 1:]) >= 1.3 * b[k]:
+                found.append(abs(float(s[idx[k]])))
+                break
+    return min(found) if found else None
+
+
+def _reversal_note(sec, magnet) -> list[str]:
+    """The note on a section whose field passes through zero (see :func:`field_reversal_m`).
+
+    ``magnet`` (the section's Magnet, or None) bounds the windings, skipped in the search.
+    """
+    reach = 0.0
+    if magnet is not None and magnet.coils:
+        reach = max(math.hypot(c.r_outer_m, max(abs(c.z_min_m), abs(c.z_max_m)))
+                    for c in magnet.coils)
+    step = float(np.min(np.diff(sec.s_m))) if len(sec.s_m) > 1 else 0.0
+    d = field_reversal_m(sec.s_m, sec.z_m, sec.field_T, float(sec.origin_m[2]),
+                         beyond_m=reach + step)
+    if d is None:
+        return []
+    return [f"About {d:.1f} m from the centre the field passes through zero where the shield "
+            "coils' return field cancels the main field (an actively shielded magnet's "
+            "field reversal); the low-field ring there, with its ragged lines, is real, "
+            "not a gap in the calculation."]
+
+
 def _section_windings_notes(sec, m, grid_step_m: float) -> tuple[list, list[str], str]:
     """Windings drawn on section ``sec`` of magnet ``m`` (None: not in the site), the
     notes on the plane, and the label of the horizontal axis."""
@@ -387,7 +454,9 @@ def _section_sheets(r: ReportResult, base: dict, site_mags: dict, taken: set[str
         fig = dr.section_sheet(sec.s_m, sec.z_m, sec.field_T, info,
                                thresholds_mT=r.thresholds_mT, boundary_mT=r.boundary.value_mT,
                                floors=list(r.plan.floors), windings=windings,
-                               notes=notes + sec_notes, s_label=s_label,
+                               notes=notes + sec_notes
+                               + _reversal_note(sec, site_mags.get(sec.magnet)),
+                               s_label=s_label,
                                exposure_lines=exposure, overlays=sec_overlays,
                                show_gauss=r.plan.settings.show_gauss)
         stem = sec.magnet if sec.direction == "along" else f"{sec.magnet}-{sec.direction}"
