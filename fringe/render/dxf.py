@@ -148,13 +148,19 @@ def _add_outlines(msp, layer: str, g, lineweight: int = LINEWEIGHT) -> np.ndarra
 
 
 def _label_points(g) -> list[tuple[float, float]]:
-    """Where a threshold line's value label goes: on each polygon's outer ring, at its
-    vertex with the largest x (the right-hand end of the line), in drawing units."""
+    """Where a threshold line's value labels go (drawing units): on the outer ring of each
+    polygon at least a quarter the area of the layer's largest, at its vertex with the
+    largest y — the top of the line, where nested lines of a magnet are stacked apart
+    vertically, so labels centred there stay clear of one another."""
+    polys = _polygons(g)
+    if not polys:
+        return []
+    big = max(p.area for p in polys)
     pts = []
-    for poly in _polygons(g):
+    for poly in polys:
         xy = _ring_xy(poly.exterior)
-        if len(xy):
-            x, y = xy[int(np.argmax(xy[:, 0]))]
+        if len(xy) and poly.area >= 0.25 * big:
+            x, y = xy[int(np.argmax(xy[:, 1]))]
             pts.append((float(x), float(y)))
     return pts
 
@@ -189,8 +195,9 @@ def write_zones_dxf(path: str | Path, zones: Mapping[str, Any], *,
         :data:`LAYER_PREFIX` (use :func:`zone_layer_name` / :data:`ATTRACTION_LAYER`, or
         :data:`ROOMS_LAYER`, :data:`EQUIPMENT_LAYER`, :data:`ENVELOPE_LAYER`,
         :data:`MAGNET_LAYER`). Each polygon of a threshold layer gets a TEXT with its value
-        (``"0.5 mT"``) on that layer, at the outer ring's vertex with the largest x,
-        :data:`LABEL_HEIGHT_M` high.
+        (``"0.5 mT"``) on that layer, bottom centre at the outer ring's vertex with
+        the largest y, :data:`LABEL_HEIGHT_M` high (polygons under a quarter of the
+        layer's largest are not labelled).
     template : str or Path, optional
         A drawing to copy (the user's plan): its units are used and its entities kept;
         entities already on ``FRINGE-`` layers are replaced.
@@ -257,8 +264,9 @@ def write_zones_dxf(path: str | Path, zones: Mapping[str, Any], *,
         t = layer_threshold_mT(name)
         if t is not None and g is not None:
             for x, y in _label_points(g):
-                msp.add_text(f"{t:g} mT", height=height,
-                             dxfattribs={"layer": name, "insert": (x, y)})
+                msp.add_text(f"{t:g} mT", height=height, dxfattribs={
+                    "layer": name, "insert": (x, y), "align_point": (x, y),
+                    "halign": 1, "valign": 1})  # bottom centre on the line
     for name, items in texts.items():
         for text, (x, y) in items:
             xy = ((x - offset_m[0]) * inv, (y - offset_m[1]) * inv)
