@@ -34,7 +34,15 @@ from fringe.io.forked import ForkedCall
 from fringe.io.report_files import attraction_extents, slug, write_report_tables
 from fringe.model.constants import FIELD_BASIS_NOTE
 from fringe.model.verdict import Verdict
-from fringe.render.dxf import ATTRACTION_LAYER, write_zones_dxf, zone_layer_name
+from fringe.render.dxf import (
+    ATTRACTION_LAYER,
+    ENVELOPE_LAYER,
+    EQUIPMENT_LAYER,
+    MAGNET_LAYER,
+    ROOMS_LAYER,
+    write_zones_dxf,
+    zone_layer_name,
+)
 from fringe.render.implants import implant_findings, implant_sheets
 
 __all__ = ["write_report", "write_zone_drawings", "build_sheets", "ATTRACTION_ZONE_LABEL",
@@ -77,7 +85,10 @@ def write_zone_drawings(r: ReportResult, folder: str | Path) -> list[Path]:
     gets a copy of that drawing with the zones added, in its units and frame; any other
     floor a new drawing in metres, site frame (:func:`fringe.render.dxf.write_zones_dxf`).
     Each threshold's layer has the colour of its band on the sheets
-    (:mod:`fringe.render.style`).
+    (:mod:`fringe.render.style`) and a value label on each line; the boundary's layer is
+    heavier. The floor's rooms, equipment, cryostat envelopes and magnet outlines go on
+    layers of their own (``FRINGE-ROOMS``, ``FRINGE-EQUIPMENT``, ``FRINGE-ENVELOPE``,
+    ``FRINGE-MAGNET``) whatever the room source.
     """
     site_drawings = () if r.site is None else r.site.room_drawings
     taken: set[str] = set()
@@ -85,6 +96,9 @@ def write_zone_drawings(r: ReportResult, folder: str | Path) -> list[Path]:
     for name, fps in r.footprints.items():
         zones = {zone_layer_name(fp.threshold_mT): fp.geometry for fp in fps
                  if fp.geometry is not None and not fp.geometry.is_empty}
+        zones_b = zone_layer_name(r.boundary.value_mT)
+        plan_zones, texts = _plan_layers(r, name)
+        zones.update(plan_zones)
         notes = [f"Floor {name}: footprints of the field lines (largest |B| over the "
                  f"occupied band), boundary {r.boundary.value_mT:g} mT "
                  f"({r.boundary.source})."]
@@ -96,9 +110,54 @@ def write_zone_drawings(r: ReportResult, folder: str | Path) -> list[Path]:
         path = Path(folder) / f"zones-{slug(name, taken)}.dxf"
         write_zones_dxf(path, zones, template=None if source is None else source.path,
                         offset_m=(0.0, 0.0) if source is None else source.offset_m,
-                        notes="\n".join(notes))
+                        notes="\n".join(notes), boundary_layer=zones_b, texts=texts)
         written.append(path)
     return written
+
+
+#: Half-diagonal of the diamond drawn for point equipment in the DXF drawings, m.
+_EQUIPMENT_MARK_M = 0.15
+
+
+def _plan_layers(r: ReportResult, name: str) -> tuple[dict, dict]:
+    """Rooms, equipment, cryostat envelopes and magnet outlines of floor ``name`` as DXF
+    layers (site-frame shapely geometries) and their names as texts (layer → (text, xy))."""
+    zones: dict = {}
+    texts: dict = {}
+    outlines = {x.name: x.outline for x in r.plan.rooms}
+    rooms = [(c.name, outlines[c.name]) for c in r.rooms
+             if c.floor == name and c.name in outlines]
+    if rooms:
+        zones[ROOMS_LAYER] = shapely.GeometryCollection([o for _, o in rooms])
+        texts[ROOMS_LAYER] = [(n, _inside_point(o)) for n, o in rooms]
+    equip, equip_texts = [], []
+    for e in r.equipment:
+        if e.floor != name:
+            continue
+        x, y = float(e.position_m[0]), float(e.position_m[1])
+        d = _EQUIPMENT_MARK_M
+        equip.append(e.outline if e.outline is not None else shapely.Polygon(
+            [(x + d, y), (x, y + d), (x - d, y), (x, y - d)]))
+        equip_texts.append((e.name, (x + d, y + d)))
+    if equip:
+        zones[EQUIPMENT_LAYER] = shapely.GeometryCollection(equip)
+        texts[EQUIPMENT_LAYER] = equip_texts
+    envs, mags = [], []
+    for m in (() if r.site is None else r.site.magnets):
+        envs.append(envelope_plan_outline(m))
+        if r.plan.floor_of_point(m.center_m[2]).name == name:
+            mags.append(magnet_plan_outline(m))
+    if envs:
+        zones[ENVELOPE_LAYER] = shapely.GeometryCollection(envs)
+    if mags:
+        zones[MAGNET_LAYER] = shapely.GeometryCollection(mags)
+    return zones, texts
+
+
+def _inside_point(poly) -> tuple[float, float]:
+    """A point inside ``poly`` for its name (shapely's representative point)."""
+    p = poly.representative_point()
+    return float(p.x), float(p.y)
 
 
 #: Legend text of the attraction-hazard zone on plan and section sheets.
