@@ -56,13 +56,6 @@ def _frame(magnet: Magnet) -> tuple[np.ndarray, np.ndarray]:
     return a, up / np.linalg.norm(up)
 
 
-def _inside_envelope(env, u: np.ndarray, v: np.ndarray) -> np.ndarray:
-    """Points (along u, across v) of the axial plane inside the envelope (not the bore)."""
-    r_in, r_out, z0, z1 = env
-    rho = np.abs(v)
-    return (rho >= r_in) & (rho <= r_out) & (u >= z0) & (u <= z1)
-
-
 @dataclass(frozen=True)
 class ImplantMap:
     """|B|, |∇|B|| and |B|·|∇|B|| on the plane through one magnet's axis.
@@ -140,7 +133,7 @@ def implant_map(site, magnet: Magnet, levels_T_per_m=DEFAULT_GRADIENT_LEVELS_T_P
         step = half / _CELLS_PER_HALF_WIDTH
         u = np.arange(-_CELLS_PER_HALF_WIDTH, _CELLS_PER_HALF_WIDTH + 1) * step
         U, V = np.meshgrid(u, u, indexing="xy")
-        inside = _inside_envelope(env, U, V)
+        inside = magnet.envelope.contains_local(np.abs(V), U)  # ρ = |v|, z = u
         pts = origin + U[..., None] * along + V[..., None] * across
         b = np.full(U.shape, np.nan)
         g = np.full(U.shape, np.nan)

@@ -82,11 +82,7 @@ def parse_plan(root: Reader) -> PlanSettings:
                    r.raw("boundary_source"))
         key = r.string("boundary", DEFAULT_BOUNDARY, choices=tuple(BOUNDARY_CHOICES))
         boundary = Boundary(*BOUNDARY_CHOICES[key])
-    th = r.raw("thresholds_mT", list(DEFAULT_THRESHOLDS_MT))
-    if (not isinstance(th, list) or not th
-            or any(isinstance(x, bool) or not isinstance(x, (int, float)) for x in th)
-            or not all(finite_number(x) and x > 0 for x in th)):
-        r.fail(r.key("thresholds_mT"), "a non-empty array of positive numbers (mT)", th)
+    th = _positive_numbers(r, "thresholds_mT", DEFAULT_THRESHOLDS_MT, "mT")
     if len(set(th)) != len(th):
         r.fail(r.key("thresholds_mT"), "free of repeated values", th)
     step = r.number("grid_step_m", DEFAULT_GRID_STEP_M, low=0.0, low_open=True, high=5.0)
@@ -127,14 +123,19 @@ def parse_plan(root: Reader) -> PlanSettings:
                         show_gauss=show_gauss)
 
 
-def _gradient_lines(r: Reader) -> tuple[float, ...]:
-    """``[plan] gradient_lines_T_per_m``: positive numbers, T/m (sorted, repeats dropped)."""
-    v = r.raw("gradient_lines_T_per_m", list(DEFAULT_GRADIENT_LINES_T_PER_M))
+def _positive_numbers(r: Reader, key: str, default, unit: str) -> list:
+    """``key`` of this table as a non-empty array of finite positive numbers (as given)."""
+    v = r.raw(key, list(default))
     if (not isinstance(v, list) or not v
             or any(isinstance(x, bool) or not isinstance(x, (int, float)) for x in v)
             or not all(finite_number(x) and x > 0 for x in v)):
-        r.fail(r.key("gradient_lines_T_per_m"), "a non-empty array of positive numbers (T/m)",
-               v)
+        r.fail(r.key(key), f"a non-empty array of positive numbers ({unit})", v)
+    return v
+
+
+def _gradient_lines(r: Reader) -> tuple[float, ...]:
+    """``[plan] gradient_lines_T_per_m``: positive numbers, T/m (sorted, repeats dropped)."""
+    v = _positive_numbers(r, "gradient_lines_T_per_m", DEFAULT_GRADIENT_LINES_T_PER_M, "T/m")
     return tuple(sorted({float(x) for x in v}))
 
 
