@@ -35,7 +35,7 @@ __all__ = ["FloorMap", "Footprint", "Section", "plan_axes_m", "band_levels_m",
            "band_envelope", "band_max_T", "BAND_REFINE_TOL", "field_magnitude_T",
            "occupied_field_T", "slice_map_T", "floor_map",
            "band_max_at_xy_T", "superlevel_polygons", "footprints", "magnet_sections",
-           "section_directions", "default_extent_m", "reach_m"]
+           "section_directions", "default_extent_m", "reach_m", "field_reversal_m"]
 
 Progress = Callable[[str], None] | None
 
@@ -550,3 +550,50 @@ def magnet_sections(site, magnet: Magnet, half_width_m: float, z_range_m: tuple[
         if progress:
             progress(f"section {name} the axis of {magnet.name!r}")
     return out[0], out[1]
+
+
+def field_reversal_m(s_m, z_m, field_T, centre_z_m: float,
+                     beyond_m: float = 0.0) -> float | None:
+    """Distance from the centre where |B| on the row through the centre has an interior dip.
+
+    Walking outward from the centre (both ways) along the grid row nearest
+    ``centre_z_m``, beyond ``beyond_m`` (outside the windings) and beyond the last
+    undefined node, |B| of an unshielded coil only falls. A local minimum followed
+    further out by a rise to at least 1.3 times its value is the field reversal of an
+    actively shielded magnet: there the shield coils' field cancels the main field and
+    |B| passes through zero (sampled on the grid, the minimum is only near zero).
+
+    Parameters
+    ----------
+    s_m : (ns,) float
+        Horizontal coordinate of the section, m, 0 at the magnet centre.
+    z_m : (nz,) float
+        Heights of the section rows, m.
+    field_T : (nz, ns) float
+        |B| on the section, T; NaN inside windings.
+    centre_z_m : float
+        Height of the magnet centre, m.
+    beyond_m : float
+        Only nodes farther than this from the centre count, m (the windings' reach:
+        |B| also passes through zero inside a winding).
+
+    Returns
+    -------
+    float or None
+        |s| of the nearest such minimum, m, or None when the field has no reversal there.
+    """
+    s = np.asarray(s_m, float)
+    row = np.asarray(field_T, float)[int(np.argmin(np.abs(np.asarray(z_m, float)
+                                                          - centre_z_m)))]
+    found = []
+    for side in (s >= 0, s <= 0):
+        idx = np.flatnonzero(side & (np.abs(s) > beyond_m))
+        idx = idx[np.argsort(np.abs(s[idx]))]
+        b = row[idx]
+        bad = np.flatnonzero(~np.isfinite(b))
+        start = bad[-1] + 1 if bad.size else 0
+        for k in range(start + 1, len(b) - 1):
+            if b[k] < b[k - 1] and b[k] <= b[k + 1] and np.max(b[k + 1:]) >= 1.3 * b[k]:
+                found.append(abs(float(s[idx[k]])))
+                break
+    return min(found) if found else None

@@ -29,6 +29,7 @@ from fringe.analysis.geometry import (
     section_windings,
 )
 from fringe.analysis.report import ReportResult
+from fringe.analysis.zones import field_reversal_m
 from fringe.io.atomic import atomic_directory, check_output_folder, set_usual_mode
 from fringe.io.forked import ForkedCall
 from fringe.io.report_files import attraction_extents, slug, write_report_tables
@@ -390,53 +391,6 @@ def _plan_sheet(r: ReportResult, name: str, fm, base: dict, site_mags: dict, roo
                          rooms=rooms, equipment=equip, magnets=mags, overlays=overlays,
                          notes=_plan_notes(r, name, fm),
                          show_gauss=r.plan.settings.show_gauss)
-
-
-def field_reversal_m(s_m, z_m, field_T, centre_z_m: float,
-                     beyond_m: float = 0.0) -> float | None:
-    """Distance from the centre where |B| on the row through the centre has an interior dip.
-
-    Walking outward from the centre (both ways) along the grid row nearest
-    ``centre_z_m``, beyond ``beyond_m`` (outside the windings) and beyond the last
-    undefined node, |B| of an unshielded coil only falls. A local minimum followed
-    further out by a rise to at least 1.3 times its value is the field reversal of an
-    actively shielded magnet: there the shield coils' field cancels the main field and
-    |B| passes through zero (sampled on the grid, the minimum is only near zero).
-
-    Parameters
-    ----------
-    s_m : (ns,) float
-        Horizontal coordinate of the section, m, 0 at the magnet centre.
-    z_m : (nz,) float
-        Heights of the section rows, m.
-    field_T : (nz, ns) float
-        |B| on the section, T; NaN inside windings.
-    centre_z_m : float
-        Height of the magnet centre, m.
-    beyond_m : float
-        Only nodes farther than this from the centre count, m (the windings' reach:
-        |B| also passes through zero inside a winding).
-
-    Returns
-    -------
-    float or None
-        |s| of the nearest such minimum, m, or None when the field has no reversal there.
-    """
-    s = np.asarray(s_m, float)
-    row = np.asarray(field_T, float)[int(np.argmin(np.abs(np.asarray(z_m, float)
-                                                          - centre_z_m)))]
-    found = []
-    for side in (s >= 0, s <= 0):
-        idx = np.flatnonzero(side & (np.abs(s) > beyond_m))
-        idx = idx[np.argsort(np.abs(s[idx]))]
-        b = row[idx]
-        bad = np.flatnonzero(~np.isfinite(b))
-        start = bad[-1] + 1 if bad.size else 0
-        for k in range(start + 1, len(b) - 1):
-            if b[k] < b[k - 1] and b[k] <= b[k + 1] and np.max(b[k + 1:]) >= 1.3 * b[k]:
-                found.append(abs(float(s[idx[k]])))
-                break
-    return min(found) if found else None
 
 
 def _reversal_note(sec, magnet) -> list[str]:

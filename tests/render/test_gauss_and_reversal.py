@@ -16,11 +16,11 @@ import matplotlib
 import numpy as np
 import pytest
 
-from fringe.analysis.zones import magnet_sections
+from fringe.analysis.zones import field_reversal_m, magnet_sections
 from fringe.io.scenario import load_site
 from fringe.model.errors import ScenarioError
 from fringe.render import drawing as dr
-from fringe.render.report import _reversal_note, field_reversal_m
+from fringe.render.report import _reversal_note
 from fringe.render.sheet import format_field, format_mT
 from tests.conftest import SMALL_SCENARIO_TOML
 
