@@ -296,7 +296,7 @@ def _ceiling_note(r: ReportResult, room: str) -> str:
     c = r.ceilings.get(room)
     if c is None or not c.ceiling_exceeds:
         return ""
-    return f"above band: exceeds at ceiling ({dr.format_value(c.max_field_T * 1e3)} mT)"
+    return f"above band: exceeds at ceiling ({dr.format_field(c.max_field_T)})"
 
 
 def _plan_marks(r: ReportResult, name: str) -> tuple[list, list]:
@@ -366,7 +366,7 @@ def _plan_notes(r: ReportResult, name: str, fm) -> list[str]:
                f", attraction zone {whole.attraction_area_m2:.2f} m²")
         notes.append(f"Whole storey, floor level to ceiling ({z1 - z0:g} m above the floor; "
                      f"not used for verdicts): largest |B| "
-                     f"{dr.format_value(whole.max_field_T * 1e3)} mT, "
+                     f"{dr.format_field(whole.max_field_T)}, "
                      f"{r.boundary.value_mT:g} mT area {whole.boundary_area_m2:.2f} m²{att}.")
     if clipped:
         notes.append(f"The {', '.join(clipped)} mT footprint(s) reach the edge of the "
