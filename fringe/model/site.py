@@ -17,6 +17,7 @@ from fringe.model.building import BOUNDARY_CHOICES, Boundary, Equipment, Floor, 
 from fringe.model.constants import DEFAULT_GRADIENT_LINES_T_PER_M, DEFAULT_THRESHOLDS_MT
 from fringe.model.errors import ArgumentError, must_be
 from fringe.model.magnet import Magnet
+from fringe.model.steel import InducedField, MovingSteel, SteelPart
 
 __all__ = ["Site", "SitePlan", "PlanSettings", "RoomDrawing", "QuenchInputs", "site_plan",
            "default_settings", "with_boundary", "DEFAULT_BOUNDARY", "DEFAULT_GRID_STEP_M",
@@ -174,9 +175,19 @@ class Site:
     room_drawings : tuple of RoomDrawing
         The CAD drawings rooms were read from (``[[room_file]] format = "dxf"``).
     quench : tuple of QuenchInputs
+        ``[[quench]]`` tables, at most one per magnet.
     implant_conditions : tuple of ImplantCondition
         ``[[implant_condition]]`` tables (docs/implants.md).
-        ``[[quench]]`` tables, at most one per magnet.
+    steel : tuple of SteelPart
+        ``[[steel]]`` parts fixed in the building (docs/steel.md).
+    moving_steel : tuple of MovingSteel
+        ``[[moving_steel]]`` objects and their paths.
+    background_field_uT : tuple of 3 float or None
+        ``[site] background_field_uT``: a uniform background field (the Earth's) in µT,
+        site frame; None when not given.
+    induced : InducedField or None
+        The solved response of :attr:`steel` to the magnets (None until solved:
+        a loaded scenario is free space until the analysis solves its steel).
     """
 
     name: str
@@ -189,6 +200,10 @@ class Site:
     room_drawings: tuple[RoomDrawing, ...] = ()
     quench: tuple[QuenchInputs, ...] = ()
     implant_conditions: tuple[ImplantCondition, ...] = ()
+    steel: tuple[SteelPart, ...] = ()
+    moving_steel: tuple[MovingSteel, ...] = ()
+    background_field_uT: tuple[float, float, float] | None = None
+    induced: InducedField | None = field(default=None, compare=False, repr=False)
 
     def magnet(self, name: str) -> Magnet:
         """The magnet called ``name``; :class:`ArgumentError` (argument ``magnet``) listing
