@@ -45,3 +45,32 @@ def format_energy_J(value_J: float, digits: int = 4) -> str:
         if a >= factor:
             return f"{value_J / factor:.{digits}g} {unit}"
     return f"{value_J:.{digits}g} J"
+
+
+def format_small_field_T(value_T: float, digits: int = 4) -> str:
+    """A (small, signed) field in T, mT, µT, nT or pT by size: ``"-3.21 nT"``, ``"0 T"``."""
+    if not math.isfinite(value_T):
+        return f"{value_T} T"
+    if value_T == 0:
+        return "0 T"
+    a = abs(value_T)
+    for factor, unit in ((1.0, "T"), (1e-3, "mT"), (1e-6, "µT"), (1e-9, "nT")):
+        if a >= factor:
+            return f"{value_T / factor:.{digits}g} {unit}"
+    return f"{value_T / 1e-12:.{digits}g} pT"
+
+
+def aligned_table(header: list[str], rows: list[list[str]], right: tuple[bool, ...] | None = None
+                  ) -> list[str]:
+    """Lines of a plain text table: columns padded to their widest cell, a rule under the
+    header; ``right`` says which columns align right (all by default)."""
+    cols = len(header)
+    right = right or (True,) * cols
+    width = [max(len(str(r[i])) for r in [header, *rows]) for i in range(cols)]
+
+    def line(cells: list[str]) -> str:
+        return "  ".join(str(c).rjust(w) if rj else str(c).ljust(w)
+                         for c, w, rj in zip(cells, width, right, strict=True)).rstrip()
+
+    head = line(header)
+    return [head, "-" * len(head)] + [line(r) for r in rows]

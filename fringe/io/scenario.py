@@ -29,6 +29,8 @@ from fringe.io.reader import Reader
 from fringe.io.scenario_datasheet import DATASHEET_KEY, parse_datasheet
 from fringe.io.scenario_implants import SECTION_KEY as IMPLANT_KEY
 from fringe.io.scenario_implants import parse_implant_conditions
+from fringe.io.scenario_moving import SECTION_KEY as MOVING_KEY
+from fringe.io.scenario_moving import parse_background, parse_moving_steel
 from fringe.io.scenario_plan import (
     load_geojson_rooms,
     parse_equipment,
@@ -50,7 +52,7 @@ __all__ = ["load_site", "parse_site", "TOP_LEVEL_KEYS", "MAGNET_BUILDERS", "ROOM
 #: Every top-level key of a scenario, in the order its section is parsed (``room_file``
 #: is read together with ``room``). Any other key is refused with a "did you mean".
 TOP_LEVEL_KEYS: tuple[str, ...] = ("site", "magnet", "plan", "floor", "room", "room_file",
-                                   "equipment", QUENCH_KEY, IMPLANT_KEY)
+                                   "equipment", QUENCH_KEY, IMPLANT_KEY, MOVING_KEY)
 
 #: Parsers for alternative magnet descriptions (e.g. data-sheet numbers), keyed by the
 #: sub-table name that selects them. Each takes the magnet Reader and the magnet's name
@@ -196,7 +198,8 @@ def _parse_site_table(r: Reader | None) -> dict[str, Any]:
     if r is None:
         return {}
     out = {"name": r.string("name", "unnamed site"),
-           "description": r.string("description", "", nonempty=False)}
+           "description": r.string("description", "", nonempty=False),
+           "background_field_uT": parse_background(r)}
     r.finish()
     return out
 
@@ -237,10 +240,12 @@ def parse_site(data: dict, file: str | Path = "<scenario>") -> Site:
     equipment = parse_equipment(root, floors)
     quench = parse_quench_section(root, mags)
     implants = parse_implant_conditions(root)
+    moving = parse_moving_steel(root)
     root.finish()
     return Site(site_info.get("name", "unnamed site"), mags, file, plan=plan, floors=floors,
                 rooms=rooms, equipment=equipment, room_drawings=drawings, quench=quench,
-                implant_conditions=implants)
+                implant_conditions=implants, moving_steel=moving,
+                background_field_uT=site_info.get("background_field_uT"))
 
 
 def load_site(path: str | Path) -> Site:

@@ -52,7 +52,7 @@ def _run(argv: list) -> dict:
 
 def test_every_command_is_checked():
     assert set(COMMANDS) == {"probe", "demo", "report", "quench", "energy", "map", "fit",
-                             "place"}
+                             "place", "disturbance"}
 
 
 def test_help_imports_no_heavy_library():
@@ -69,6 +69,9 @@ def test_command_help_alone_imports_no_heavy_library(command):
 
 def test_usage_error_exits_2_without_heavy_library():
     r = _run(["--main", "probe"])  # no scenario
+    assert r["codes"] == [2] and r["heavy"] == []
+    r = _run(["--main", "disturbance", "x.toml", "--mass-kg", "1", "--from", "1", "2",
+              "--to", "1", "2", "3"])  # --from with 2 numbers
     assert r["codes"] == [2] and r["heavy"] == []
     r = _run(["--main", "map", "x.toml", "--step", "nan-ish"])  # --box missing, bad --step
     assert r["codes"] == [2] and r["heavy"] == []
