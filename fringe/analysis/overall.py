@@ -1,7 +1,8 @@
 """The one overall verdict of a report: everything checked, and what exceeds.
 
 :func:`overall_verdict` gathers every verdict a :class:`fringe.analysis.report.ReportResult`
-holds — rooms, equipment, floors (the boundary line leaving the controlled rooms) — into
+holds — rooms, equipment, floors (the boundary line leaving the controlled rooms), moving
+steel paths with a limit (docs/disturbance.md) — into
 one :class:`OverallVerdict`. The report's ``exceeds`` flag, the closing terminal line and
 the exit code of ``fringe report`` all come from it, so they cannot disagree.
 """
@@ -17,7 +18,8 @@ __all__ = ["ExceedingItem", "OverallVerdict", "overall_verdict", "KINDS"]
 #: The kinds of item that carry a verdict, in the order the closing line names them,
 #: as (kind, plural).
 KINDS: tuple[tuple[str, str], ...] = (("room", "rooms"), ("equipment", "equipment"),
-                                      ("floor", "floors"))
+                                      ("floor", "floors"),
+                                      ("moving steel path", "moving steel paths"))
 
 
 @dataclass(frozen=True)
@@ -27,7 +29,8 @@ class ExceedingItem:
     Attributes
     ----------
     kind : str
-        ``"room"``, ``"equipment"`` or ``"floor"`` (see :data:`KINDS`).
+        ``"room"``, ``"equipment"``, ``"floor"`` or ``"moving steel path"``
+        (see :data:`KINDS`).
     name : str
     reason : str
         Short reason, e.g. ``"0.5 mT line outside the controlled rooms"``.
@@ -98,6 +101,15 @@ def overall_verdict(result) -> OverallVerdict:
         if result.floor_verdict(f) == Verdict.EXCEEDS:
             items.append(ExceedingItem("floor", f, f"{result.boundary.value_mT:g} mT line "
                                                    "outside the controlled rooms"))
+    moving = [c for c in getattr(result, "moving_steel", ()) if c.verdict is not None]
+    for c in moving:  # paths with a limit (fringe.analysis.moving_steel)
+        if c.verdict == Verdict.EXCEEDS:
+            items.append(ExceedingItem("moving steel path", c.name,
+                                       f"{c.max_abs_delta_B_ppm:.3g} ppm ≥ limit "
+                                       f"{c.limit_ppm:g} ppm at the isocentre of "
+                                       f"{c.disturbance.magnet}"))
     checked = (("room", len(result.rooms)), ("equipment", len(result.equipment)),
                ("floor", len(floors)))
+    if moving:  # named only on sites that check moving steel
+        checked += (("moving steel path", len(moving)),)
     return OverallVerdict(tuple(items), checked)

@@ -19,6 +19,7 @@ import numpy as np
 from fringe.analysis.attraction import SiteAttraction, site_attraction
 from fringe.analysis.implants import SiteImplants, site_implants
 from fringe.analysis.overall import OverallVerdict, overall_verdict
+from fringe.analysis.moving_steel import MovingSteelCheck, check_moving_steel
 from fringe.analysis.quench import budget_for_site
 from fringe.analysis.storey import FullHeight, RoomCeiling, full_height, room_ceilings
 from fringe.analysis.verdicts import (
@@ -130,6 +131,9 @@ class ReportResult:
     full_height: dict[str, FullHeight] = field(default_factory=dict, compare=False, repr=False)
     #: Each room over its whole storey, by room name (fringe.analysis.storey.RoomCeiling).
     ceilings: dict[str, RoomCeiling] = field(default_factory=dict, compare=False, repr=False)
+    #: Each [[moving_steel]] path checked against its limit
+    #: (fringe.analysis.moving_steel.MovingSteelCheck).
+    moving_steel: tuple[MovingSteelCheck, ...] = field(default=(), compare=False, repr=False)
 
     def floor_verdict(self, floor: str) -> Verdict:
         """``exceeds`` when the boundary footprint on ``floor`` reaches beyond its
@@ -280,9 +284,13 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     ceilings = room_ceilings(site, plan.rooms, rooms, fmaps,
                              {name: w.map for name, w in whole.items()})
     say("whole storeys up to each ceiling done")
+    moving = check_moving_steel(site)
+    if moving:
+        say("moving steel paths done")
     return ReportResult(site.name, site.source_file, plan, s.boundary, thr_mT, step, extent,
                         tuple(mags), fmaps, fps, outside, tuple(secs), rooms, equip, _now_utc(),
-                        __version__, site, quench, attraction, implants, whole, ceilings)
+                        __version__, site, quench, attraction, implants, whole, ceilings,
+                        moving)
 
 
 #: Largest plan grid step as a fraction of the boundary line's smallest extent. Marching

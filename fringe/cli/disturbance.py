@@ -70,14 +70,18 @@ def result_dict(d, source: str) -> dict:
 
 def text_summary(site, d, source: str) -> str:
     """The text printed by ``fringe disturbance``."""
+    import math
+
     from fringe.cli.textfmt import aligned_table, format_small_field_T
     from fringe.physics.disturbance import DEFAULT_STEEL, sphere_radius_m
 
     bg = ", ".join(f"{v * 1e6:g}" for v in d.background_T)
     where = {"option": "--background-uT", "scenario": "[site] background_field_uT",
              "none": "none given: zero"}[source]
+    big = d.max_abs_delta_B_ppm  # one fixed number of decimals: 4 digits on the largest
+    nd = min(12, max(0, 3 - math.floor(math.log10(big)))) if big > 0 else 0
     rows = [[f"{p[0]:.3f}", f"{p[1]:.3f}", f"{p[2]:.3f}", format_small_field_T(b),
-             f"{q:.4g}"] for p, b, q in zip(d.positions_m, d.delta_B_T, d.delta_B_ppm,
+             f"{q:.{nd}f}"] for p, b, q in zip(d.positions_m, d.delta_B_T, d.delta_B_ppm,
                                             strict=True)]
     k = d.worst_index
     w = d.positions_m[k]

@@ -102,7 +102,8 @@ def summary_dict(r: ReportResult) -> dict:
     """The content of ``summary.json`` (see docs/zones.md for every field)."""
     counts: dict[str, int] = {}  # every item with a verdict: rooms, equipment, floors
     for v in ([x.verdict for x in r.rooms] + [e.verdict for e in r.equipment]
-              + [r.floor_verdict(f) for f in r.floor_maps]):
+              + [r.floor_verdict(f) for f in r.floor_maps]
+              + [c.verdict for c in r.moving_steel if c.verdict is not None]):
         counts[v] = counts.get(v, 0) + 1
     att = r.attraction
     out = {
@@ -164,7 +165,23 @@ def summary_dict(r: ReportResult) -> dict:
         "exceeds": r.exceeds,
     }
     _add_implant_figures(out, r)
+    out["moving_steel"] = moving_steel_rows(r)
     return out
+
+
+def moving_steel_rows(r: ReportResult) -> list[dict]:
+    """``moving_steel`` of summary.json: each path's largest disturbance of the isocentre
+    field of the magnet nearest it, its limit and verdict (null: no limit, not checked);
+    docs/disturbance.md."""
+    rows = []
+    for c in r.moving_steel:
+        d = c.disturbance
+        rows.append({"name": c.name, "max_abs_delta_B_ppm": num(d.max_abs_delta_B_ppm, 9),
+                     "limit_ppm": c.limit_ppm, "verdict": c.verdict, "magnet": d.magnet,
+                     "mass_kg": d.mass_kg,
+                     "worst_position_m": [num(v, 5) for v in d.positions_m[d.worst_index]],
+                     "background_field_uT": [num(v * 1e6, 6) for v in d.background_T]})
+    return rows
 
 
 def _add_implant_figures(out: dict, r: ReportResult) -> None:
