@@ -18,8 +18,8 @@ import numpy as np
 
 from fringe.analysis.attraction import SiteAttraction, site_attraction
 from fringe.analysis.implants import SiteImplants, site_implants
-from fringe.analysis.overall import OverallVerdict, overall_verdict
 from fringe.analysis.moving_steel import MovingSteelCheck, check_moving_steel
+from fringe.analysis.overall import OverallVerdict, overall_verdict
 from fringe.analysis.quench import budget_for_site
 from fringe.analysis.storey import FullHeight, RoomCeiling, full_height, room_ceilings
 from fringe.analysis.verdicts import (

@@ -134,6 +134,12 @@ def terminal_summary(result, out_dir: str | Path) -> str:
                      + (f" — falls below {', '.join(below)} oxygen if the vent fails: the quench "
                         "vent and oxygen monitoring must be in place per local code and the "
                         "supplier" if below else ""))
+    for c in r.moving_steel:
+        d = c.disturbance
+        lim = "no limit given" if c.limit_ppm is None else f"limit {c.limit_ppm:g} ppm  " \
+            f"{c.verdict}"
+        lines.append(f"moving steel {c.name} ({d.mass_kg:g} kg): up to "
+                     f"{d.max_abs_delta_B_ppm:.3g} ppm at the isocentre of {d.magnet}  {lim}")
     spill = [i.name for i in r.overall().items if i.kind == "floor"]
     if spill:
         lines.append(f"the {r.boundary.value_mT:g} mT line reaches beyond the controlled rooms "

@@ -46,6 +46,7 @@ from fringe.analysis.geometry import footprint_rectangle
 from fringe.model.constants import DEFAULT_THRESHOLDS_MT
 from fringe.model.errors import FringeInputError, must_be
 from fringe.model.verdict import Verdict
+from fringe.render.paths import MovingSteelMark, draw_moving_steel, mark_geometries
 from fringe.render.sheet import (
     _HALO,
     _INK,
@@ -1192,7 +1193,8 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
               windings: Sequence = (),
               band_alpha: float = 0.62, log_contours: bool | None = None,
               x_label: str = "x (east), m", y_label: str = "y (north), m",
-              north_arrow: bool = True, palette=None, show_gauss: bool = False) -> Figure:
+              north_arrow: bool = True, palette=None, show_gauss: bool = False,
+              moving_steel: Sequence[MovingSteelMark] = ()) -> Figure:
     """A plan sheet of any scalar map: filled bands between levels and labelled lines.
 
     Parameters
@@ -1238,6 +1240,8 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     show_gauss : bool
         With ``unit`` "mT": levels in the legend and on the lines also in gauss, in
         brackets (``[plan] show_gauss``; 1 mT = 10 G).
+    moving_steel : sequence of MovingSteelMark
+        Moving-steel paths coloured by their disturbance (:mod:`fringe.render.paths`).
 
     Returns
     -------
@@ -1281,6 +1285,7 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     basic = shapely.union_all(keep_clear) if keep_clear else None
     # also keep room names off extra layers and off the boundary line and what it encloses
     features = [g.buffer(6.0 / sx) for g in _overlay_geometries(overlays)]
+    features += [g.buffer(9.0 / sx) for g in mark_geometries(moving_steel)]
     features += _line_hulls(line_sets[0], 8.0 / sx) if line_sets and line_sets[0].beside \
         else []
     strict = shapely.union_all(features + ([basic] if basic is not None else [])) \
@@ -1292,13 +1297,14 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     occupied.append(_draw_scale_bar(ax, (x[0], x[-1]), (y[0], y[-1]), renderer))
     if north_arrow:
         occupied.append(_draw_north_arrow(ax, renderer))
+    entries += draw_moving_steel(ax, renderer, moving_steel, occupied)
     for e in equipment:
         if isinstance(e, EquipmentMark):
             p = ax.transData.transform(np.asarray(e.xy_m, float).ravel()[:2])
             occupied.append(Bbox.from_bounds(p[0] - 6, p[1] - 6, 12, 12))
     walls = shapely.union_all([r.polygon.boundary for r in rooms]) if rooms else None
     lines_to_avoid = [g.boundary if g.geom_type in ("Polygon", "MultiPolygon") else g
-                      for g in _overlay_geometries(overlays)]
+                      for g in _overlay_geometries(overlays) + mark_geometries(moving_steel)]
     if walls is not None:
         lines_to_avoid.append(walls)
     label_walls = shapely.union_all(lines_to_avoid) if lines_to_avoid else None
@@ -1327,7 +1333,8 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
                boundary_mT: float | None = 0.5, boundary_label: str | None = None,
                rooms: Sequence[RoomMark] = (), equipment: Sequence[EquipmentMark] = (),
                magnets: Sequence = (), overlays: Sequence = (), notes: Sequence[str] = (),
-               cmap: str | None = None, show_gauss: bool = False) -> Figure:
+               cmap: str | None = None, show_gauss: bool = False,
+               moving_steel: Sequence[MovingSteelMark] = ()) -> Figure:
     """Floor plan of the field magnitude in mT, with rooms, equipment and the boundary.
 
     Parameters
@@ -1355,6 +1362,8 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
     show_gauss : bool
         Levels in the legend, on the lines and in the boundary label also in gauss, in
         brackets, e.g. "0.5 to 1 mT (5 to 10 G)" (``[plan] show_gauss``; 1 mT = 10 G).
+    moving_steel : sequence of MovingSteelMark
+        Moving-steel paths on this floor, as :func:`map_sheet`.
 
     Returns
     -------
@@ -1380,7 +1389,7 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
                      equipment=equipment, magnets=magnets, overlays=overlays, notes=notes,
                      cmap=cmap, log_contours=True,
                      palette=threshold_color if cmap is None else None,
-                     show_gauss=show_gauss)
+                     show_gauss=show_gauss, moving_steel=moving_steel)
 
 
 def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,

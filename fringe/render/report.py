@@ -374,6 +374,34 @@ def _plan_notes(r: ReportResult, name: str, fm) -> list[str]:
     return notes
 
 
+def _plan_moving_steel(r: ReportResult, name: str) -> tuple[list, list[str]]:
+    """The moving-steel paths on floor ``name`` (their points whose storey it is) and a
+    note for each (docs/disturbance.md)."""
+    from fringe.render.paths import MovingSteelMark
+
+    marks, notes = [], []
+    for c in r.moving_steel:
+        d = c.disturbance
+        here = np.array([r.plan.floor_of_point(float(z)).name == name
+                         for z in d.positions_m[:, 2]])
+        if not here.any():
+            continue
+        ppm = np.abs(d.delta_B_ppm[here])
+        top = float(np.max(ppm))
+        lim = "no limit given" if c.limit_ppm is None else (
+            f"limit {c.limit_ppm:g} ppm: {c.verdict}")
+        scale = c.limit_ppm if c.limit_ppm is not None else d.max_abs_delta_B_ppm
+        marks.append(MovingSteelMark(
+            c.name, d.positions_m[here, :2], ppm, scale,
+            f"{c.name}: up to {top:.2g} ppm\n({lim})",
+            c.verdict == Verdict.EXCEEDS))
+        notes.append(f"Moving steel {c.name!r} ({d.mass_kg:g} kg, as a solid steel sphere): "
+                     f"changes the field at the isocentre of {d.magnet} by up to "
+                     f"{top:.2g} ppm on this storey, {d.max_abs_delta_B_ppm:.2g} ppm along "
+                     f"its whole path ({lim}); docs/disturbance.md.")
+    return marks, notes
+
+
 def _plan_sheet(r: ReportResult, name: str, fm, base: dict, site_mags: dict, room_drawings):
     """The plan sheet of floor ``name``."""
     from fringe.render import drawing as dr
@@ -381,6 +409,7 @@ def _plan_sheet(r: ReportResult, name: str, fm, base: dict, site_mags: dict, roo
     fl = fm.floor
     rooms, equip = _plan_marks(r, name)
     mags, overlays = _plan_magnets(r, name, site_mags, room_drawings)
+    moving, moving_notes = _plan_moving_steel(r, name)
     floor_word = name if name.lower().endswith("floor") else f"{name} floor"
     info = dr.SheetInfo(title=f"Floor plan: {floor_word}",
                         subtitle=f"Floor level {fl.elevation_m:g} m. Largest |B| over the "
@@ -389,8 +418,8 @@ def _plan_sheet(r: ReportResult, name: str, fm, base: dict, site_mags: dict, roo
     return dr.plan_sheet(fm.x_m, fm.y_m, fm.envelope_T, info,
                          thresholds_mT=r.thresholds_mT, boundary_mT=r.boundary.value_mT,
                          rooms=rooms, equipment=equip, magnets=mags, overlays=overlays,
-                         notes=_plan_notes(r, name, fm),
-                         show_gauss=r.plan.settings.show_gauss)
+                         notes=_plan_notes(r, name, fm) + moving_notes,
+                         show_gauss=r.plan.settings.show_gauss, moving_steel=moving)
 
 
 def _reversal_note(sec, magnet) -> list[str]:
