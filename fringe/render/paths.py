@@ -22,7 +22,13 @@ from matplotlib.colors import Normalize
 from matplotlib.lines import Line2D
 from matplotlib.transforms import Bbox
 
-__all__ = ["MovingSteelMark", "PATH_CMAP", "draw_moving_steel", "mark_geometries"]
+__all__ = ["MovingSteelMark", "PATH_CMAP", "MOVING_STEEL_LAYER", "END_ON_RADIUS_M",
+           "draw_moving_steel", "mark_geometries", "dxf_path_lines"]
+
+#: DXF layer of the moving-steel paths in the zone drawings (``zones-<floor>.dxf``).
+MOVING_STEEL_LAYER: str = "FRINGE-MOVING-STEEL"
+#: Radius of the circle that stands for a path seen end-on in DXF drawings, m.
+END_ON_RADIUS_M: float = 0.3
 
 #: Colormap of |ΔB| along moving-steel paths (perceptually uniform; not the bands' map).
 PATH_CMAP: str = "plasma"
@@ -66,6 +72,21 @@ def mark_geometries(marks: Sequence[MovingSteelMark]) -> list:
         pts = np.unique(xy, axis=0)
         out.append(shapely.Point(pts[0]) if len(pts) == 1 else shapely.LineString(xy))
     return out
+
+
+def dxf_path_lines(marks: Sequence[MovingSteelMark]):
+    """The paths for the DXF layer, one MultiLineString in plan metres (a circle of
+    :data:`END_ON_RADIUS_M` for a path seen end-on), and their labels [(text, (x, y))]."""
+    lines, texts = [], []
+    for m, g in zip(marks, mark_geometries(marks), strict=True):
+        if g.geom_type == "Point":
+            g = shapely.LineString(g.buffer(END_ON_RADIUS_M, quad_segs=8).exterior.coords)
+        lines.append(g)
+        xy = np.asarray(m.xy_m, dtype=float).reshape(-1, 2)
+        k = int(np.argmax(np.abs(np.asarray(m.abs_ppm, dtype=float))))
+        texts.append((m.label.replace("\n", " "), (float(xy[k, 0]) + END_ON_RADIUS_M,
+                                                   float(xy[k, 1]) + END_ON_RADIUS_M)))
+    return shapely.MultiLineString(lines), texts
 
 
 def _halo(width: float) -> list:

@@ -89,7 +89,8 @@ def write_zone_drawings(r: ReportResult, folder: str | Path) -> list[Path]:
     (:mod:`fringe.render.style`) and a value label on each line; the boundary's layer is
     heavier. The floor's rooms, equipment, cryostat envelopes and magnet outlines go on
     layers of their own (``FRINGE-ROOMS``, ``FRINGE-EQUIPMENT``, ``FRINGE-ENVELOPE``,
-    ``FRINGE-MAGNET``) whatever the room source.
+    ``FRINGE-MAGNET``) whatever the room source, and the moving-steel paths that cross
+    the floor's storey on ``FRINGE-MOVING-STEEL`` (a circle for a path seen end-on).
     """
     site_drawings = () if r.site is None else r.site.room_drawings
     taken: set[str] = set()
@@ -152,6 +153,11 @@ def _plan_layers(r: ReportResult, name: str) -> tuple[dict, dict]:
         zones[ENVELOPE_LAYER] = shapely.GeometryCollection(envs)
     if mags:
         zones[MAGNET_LAYER] = shapely.GeometryCollection(mags)
+    moving = _plan_moving_steel(r, name)[0]
+    if moving:
+        from fringe.render.paths import MOVING_STEEL_LAYER, dxf_path_lines
+
+        zones[MOVING_STEEL_LAYER], texts[MOVING_STEEL_LAYER] = dxf_path_lines(moving)
     return zones, texts
 
 
