@@ -74,7 +74,8 @@ def mark_geometries(marks: Sequence[MovingSteelMark]) -> list:
     return out
 
 
-def dxf_path_lines(marks: Sequence[MovingSteelMark]):
+def dxf_path_lines(marks: Sequence[MovingSteelMark]
+                   ) -> tuple[shapely.MultiLineString, list[tuple[str, tuple[float, float]]]]:
     """The paths for the DXF layer, one MultiLineString in plan metres (a circle of
     :data:`END_ON_RADIUS_M` for a path seen end-on), and their labels [(text, (x, y))]."""
     lines, texts = [], []

@@ -95,7 +95,9 @@ def test_summary_counts_agree_with_the_closing_line(demo_site):
     r = compute_report(demo_site)
     s = summary_dict(r)
     v = r.overall()
-    n_items = len(r.rooms) + len(r.equipment) + len(r.floor_maps)
+    n_items = len(r.rooms) + len(r.equipment) + len(r.floor_maps) + sum(
+        c.verdict is not None for c in r.moving_steel)  # moving steel with a limit
     assert sum(s["verdict_counts"].values()) == n_items
+    assert [c.verdict for c in r.moving_steel] == ["within"]  # the demo's lift
     assert s["verdict_counts"].get("exceeds", 0) == len(v.items) == 2  # plant room, basement
     assert f"{len(v.items)} items exceed" in v.line()
