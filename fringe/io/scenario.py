@@ -6,7 +6,9 @@ Unknown keys are errors with a "did you mean" suggestion.
 
 The top-level sections are parsed in a fixed order (:data:`TOP_LEVEL_KEYS`) by the
 parsers of :mod:`fringe.io.scenario_plan` (``plan``, ``floor``, ``room`` and
-``room_file``, ``equipment``) and :mod:`fringe.io.scenario_quench` (``quench``); magnets
+``room_file``, ``equipment``), :mod:`fringe.io.scenario_quench` (``quench``),
+:mod:`fringe.io.scenario_implants` (``implant_condition``) and
+:mod:`fringe.io.scenario_moving` (``moving_steel``, and ``[site] background_field_uT``); magnets
 given by data-sheet numbers by :mod:`fringe.io.scenario_datasheet`
 (:data:`MAGNET_BUILDERS`); room files by the loaders of :data:`ROOM_LOADERS`. Each of
 those modules reads its tables with :class:`fringe.io.reader.Reader` and knows nothing
