@@ -106,7 +106,7 @@ def sphere_magnetization_A_per_m(applied_B_T, saturation_A_per_m: float =
     Jackson, *Classical Electrodynamics*, 3rd ed., Sec. 5.11 (M = 3H₀ for μ → ∞);
     Cullity & Graham (2009), saturation.
 
-    >>> float(sphere_magnetization_A_per_m([0.0, 0.0, 4e-7 * math.pi])[2])  # H0 = 1 A/m
+    >>> float(sphere_magnetization_A_per_m([0.0, 0.0, MU0_T_M_PER_A])[2])  # H0 = 1 A/m
     3.0
     """
     b = np.asarray(applied_B_T, dtype=float)

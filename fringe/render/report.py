@@ -273,6 +273,11 @@ def _cover_findings(r: ReportResult) -> list[str]:
         where = "position" if e.outline is None else "volume, largest"
         findings.append(f"Equipment {e.name}: {dr.format_field(e.field_T)} at its "
                         f"{where} (limit {e.limit_T * 1e3:g} mT): {e.verdict}")
+    for c in r.moving_steel:
+        lim = "no limit given" if c.limit_ppm is None else f"limit {c.limit_ppm:g} ppm"
+        findings.append(f"Moving steel {c.name}: up to {c.max_abs_delta_B_ppm:.2g} ppm at the "
+                        f"isocentre of {c.disturbance.magnet} ({lim})"
+                        + ("" if c.verdict is None else f": {c.verdict}"))
     findings[1:1] = implant_findings(r.implants)  # after the overall verdict
     if len(findings) > 24:  # keep the cover to one sheet; the tables list everything
         keep = [f for f in findings if Verdict.EXCEEDS in f or "outside the controlled" in f
@@ -550,6 +555,16 @@ def _tables(r: ReportResult) -> list[tuple[str, list[str], list[list]]]:
             ["magnet or floor", "along the axis, m", "across the axis, m", "zone area, m²"],
             [[n, a, rr, "-"] for n, a, rr in r.attraction.extents_m]
             + [[f"{n} floor", "-", "-", fa.area_m2] for n, fa in r.attraction.floors.items()]))
+    if r.moving_steel:
+        tables.append((
+            "Moving steel: change of the field at the isocentre (docs/disturbance.md)",
+            ["path", "mass, kg", "magnet", "largest |ΔB|, ppm", "limit, ppm", "verdict",
+             "worst at x, y, z, m"],
+            [[c.name, c.disturbance.mass_kg, c.disturbance.magnet, c.max_abs_delta_B_ppm,
+              "-" if c.limit_ppm is None else c.limit_ppm,
+              "not checked" if c.verdict is None else c.verdict,
+              ", ".join(f"{v:.2f}" for v in c.disturbance.positions_m[
+                  c.disturbance.worst_index])] for c in r.moving_steel]))
     tables.append((
         "Footprint areas per floor",
         ["floor", "threshold, mT", "area, m²", "area from sampled levels only, m²",
