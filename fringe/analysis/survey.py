@@ -66,6 +66,7 @@ class PointComparison:
     ratio: float
     flag: str
     line: int
+    model_calibrated_T: float = math.nan
 
 
 @dataclass(frozen=True)
@@ -467,12 +468,15 @@ def survey(site: Site, readings: Readings, *, calibrate: bool = False,
     return _calibrated_result(site, readings, model, fit, y, ratio, model_T, notes)
 
 
-def _points(readings: Readings, model_T, ratio, kept) -> tuple[PointComparison, ...]:
+def _points(readings: Readings, model_T, ratio, kept,
+            calibrated_T=None) -> tuple[PointComparison, ...]:
+    cal = np.full(len(readings), np.nan) if calibrated_T is None else calibrated_T
     return tuple(PointComparison(readings.labels[i],
                                  tuple(float(v) for v in readings.points_m[i]),
                                  float(readings.field_T[i]), float(model_T[i]),
                                  float(ratio[i]), "ok" if kept[i] else "outlier",
-                                 readings.lines[i]) for i in range(len(readings)))
+                                 readings.lines[i], float(cal[i]))
+                 for i in range(len(readings)))
 
 
 def _calibrated_result(site, readings, model: _Model, fit: _Fit, y, ratio, model_T,
@@ -511,6 +515,7 @@ def _calibrated_result(site, readings, model: _Model, fit: _Fit, y, ratio, model
     rms_before = float(np.sqrt(np.mean(np.log(ratio[kept]) ** 2)))
     rms_after = float(np.sqrt(np.mean(res_after[kept] ** 2)))
     rel = max((c.current_scale_std / c.current_scale for c in cals), default=0.0)
-    return SurveyResult(_points(readings, model_T, ratio, kept), rms_before, tuple(cals),
+    return SurveyResult(_points(readings, model_T, ratio, kept, np.exp(log_after)), rms_before,
+                        tuple(cals),
                         bounds, suggested_uncertainty(rms_after, rel), cal_site,
                         readings.source_file, fit.dof, tuple(notes))
