@@ -77,7 +77,10 @@ def all_outputs(outputs, run_cli, demo_file):
     for name, argv in (("energy", ("energy", demo_file, "--json", "--radius-m", 5)),
                        ("quench", ("quench", demo_file, "--json", "--dump-ohm", 0.5,
                                    "--vent-diameter-mm", 100)),
-                       ("probe", ("probe", demo_file, "--at", 1, 0, 0, "--json"))):
+                       ("probe", ("probe", demo_file, "--at", 1, 0, 0, "--json")),
+                       ("survey", ("survey", demo_file, "--readings",
+                                   demo_file.with_name("demo_readings.csv"), "--calibrate",
+                                   "--json"))):
         code, text, _err = run_cli(*argv)
         assert code == 0
         out[name] = json.loads(text)
