@@ -297,6 +297,23 @@ def _robust_sigma(r: np.ndarray) -> float:
     return 1.4826 * float(np.median(np.abs(r - np.median(r))))
 
 
+def _flags_about_centre(r: np.ndarray) -> np.ndarray:
+    """Readings kept (bool) when comparing without a fit: |r − centre| ≤ FLAG_SIGMAS·s,
+    first about the median with the robust spread, then about the mean and standard
+    deviation of the readings kept, until the flags settle (as :func:`_fit_with_flags`
+    does with a fitted scale in place of the mean)."""
+    s = _robust_sigma(r)
+    kept = np.abs(r - np.median(r)) <= FLAG_SIGMAS * s if s > 0 else np.ones(len(r), bool)
+    for _ in range(_FLAG_ITERATIONS):
+        if kept.sum() < 3:
+            break
+        new = np.abs(r - r[kept].mean()) <= FLAG_SIGMAS * r[kept].std(ddof=1)
+        if np.array_equal(new, kept) or new.sum() < 3:
+            break
+        kept = new
+    return kept
+
+
 def _fit_with_flags(model: _Model, y, sigma) -> _Fit:
     """Fit; flag readings beyond FLAG_SIGMAS; refit without them until the flags settle.
 
@@ -450,13 +467,11 @@ def survey(site: Site, readings: Readings, *, calibrate: bool = False,
     _unit_slip_warning(readings, ratio)
     notes: list[str] = []
     if not calibrate:
-        r = np.log(ratio) / sigma
-        s = _robust_sigma(r)
-        kept = (np.abs(r - np.median(r)) <= FLAG_SIGMAS * s) if s > 0 else np.ones(len(r), bool)
+        kept = _flags_about_centre(np.log(ratio) / sigma)
         rms = float(np.sqrt(np.mean(np.log(ratio[kept]) ** 2)))
         return SurveyResult(_points(readings, model_T, ratio, kept), rms, (), (),
                             suggested_uncertainty(rms), None, readings.source_file,
-                            notes=("flags: spread of ln(measured/model) about its median",))
+                            notes=("flags: spread of ln(measured/model) about its mean",))
     if len(readings) < len(fitted) + 2:
         raise ArgumentError(must_be("readings", f"at least {len(fitted) + 2} readings to fit "
                                     f"{len(fitted)} current scale(s)", len(readings)),
