@@ -28,7 +28,8 @@ from fringe.model.site import Site, site_plan
 
 __all__ = ["PointComparison", "MagnetCalibration", "CalibratedBoundary", "SurveyResult",
            "survey", "check_positions", "suggested_uncertainty", "FLAG_SIGMAS",
-           "VIF_LIMIT", "OFFSET_STD_LIMIT_M", "COVERAGE_FACTOR", "AXES"]
+           "VIF_LIMIT", "OFFSET_STD_LIMIT_M", "COVERAGE_FACTOR", "AXES", "EARTH_FIELD_T",
+           "NOMINAL_REL_UNCERTAINTY", "BACKGROUND_STD_LIMIT_T", "background_T"]
 
 #: A reading whose residual exceeds this many standard deviations is flagged and left
 #: out of the fit (the common 3σ rule; common practice, no source).
@@ -44,9 +45,23 @@ OFFSET_STD_LIMIT_M: float = 0.05
 #: Coverage factor of :func:`suggested_uncertainty` (k = 2, about 95 % for normal
 #: residuals: JCGM 100:2008 (GUM), Sec. 6.3).
 COVERAGE_FACTOR: float = 2.0
+#: A background-field component is fitted only if the readings would give it a standard
+#: error at or below this, T (common practice, no source: the Earth's field is 25–65 µT,
+#: so a background known worse than 10 µT tells nothing).
+BACKGROUND_STD_LIMIT_T: float = 10e-6
+#: Size of the Earth's field taken when the scenario gives no background field, T: a
+#: typical mid-latitude value (the surface field is 25–65 µT: NOAA/BGS World Magnetic
+#: Model 2025).
+EARTH_FIELD_T: float = 50e-6
+#: Relative uncertainty of a reading without ``uncertainty_mT`` when no reading gives one
+#: (common practice, no source: a Hall gaussmeter is good to 1–2 % of reading).
+NOMINAL_REL_UNCERTAINTY: float = 0.02
 #: Site axes of a centre offset.
 AXES: tuple[str, ...] = ("x", "y", "z")
 _FLAG_ITERATIONS = 8
+#: Bounds of a centre offset (m) and of a background-field component (T) in the fit.
+_OFFSET_BOUND_M = 1.0
+_BACKGROUND_BOUND_T = 1e-3
 #: Magnets whose field is below this fraction of |B| at every reading cannot be fitted.
 _MIN_SHARE = 0.01
 
@@ -56,7 +71,8 @@ class PointComparison:
     """One reading against the model (``model_T`` always the scenario's model).
 
     ``flag`` is ``"outlier"`` for a reading beyond :data:`FLAG_SIGMAS` (left out of the
-    fit), else ``"ok"``.
+    fit), else ``"ok"``; ``model_calibrated_T`` the calibrated model's |B| (NaN without
+    calibration); ``sigma_rel`` the relative uncertainty the reading was weighted with.
     """
 
     label: str
@@ -67,6 +83,7 @@ class PointComparison:
     flag: str
     line: int
     model_calibrated_T: float = math.nan
+    sigma_rel: float = math.nan
 
 
 @dataclass(frozen=True)
@@ -119,7 +136,7 @@ class SurveyResult:
     points : tuple of PointComparison
     rms_log_residual : float
         Root mean square of ln(measured/model) over the readings not flagged, against the
-        scenario's model.
+        scenario's model, each weighted by 1/σ_i² (:func:`_weights`).
     calibration : tuple of MagnetCalibration
         Empty without calibration.
     boundaries_calibrated : tuple of CalibratedBoundary
@@ -132,6 +149,10 @@ class SurveyResult:
     dof : int
         Readings kept minus parameters fitted (0 without calibration).
     notes : tuple of str
+    background_field_uT, background_field_std_uT : tuple of (float or None), or None
+        The uniform background field (the Earth's) fitted along site x, y, z and its
+        standard error, µT, when the scenario gives none and the readings constrain it
+        (None on an axis not fitted; None without calibration or with a given background).
     """
 
     points: tuple[PointComparison, ...]
@@ -143,6 +164,8 @@ class SurveyResult:
     readings_file: str
     dof: int = 0
     notes: tuple[str, ...] = ()
+    background_field_uT: tuple[float | None, ...] | None = None
+    background_field_std_uT: tuple[float | None, ...] | None = None
 
     @property
     def n_flagged(self) -> int:
@@ -169,7 +192,10 @@ def check_positions(site, readings: Readings) -> None:
 def suggested_uncertainty(rms_log: float, scale_rel_std: float = 0.0) -> float:
     """The ``[plan] field_uncertainty`` the residuals support.
 
-    ``u = exp(k·sqrt(rms_log² + scale_rel_std²)) − 1`` with k = :data:`COVERAGE_FACTOR`,
+    ``u = exp(k·sqrt(rms_log² + scale_rel_std²)) − 1`` with k = :data:`COVERAGE_FACTOR`
+    (``rms_log``: the rms of ln(measured/model) over the readings not flagged whose
+    Earth's-field share is at most the meter's uncertainty, when the scenario gives no
+    background field),
     rounded up to 0.01 and at most 0.99: the fraction by which |B| can exceed the model
     for about 95 % of readings like these (the band below, 1 − exp(−k·…), is narrower).
 
@@ -191,9 +217,11 @@ def suggested_uncertainty(rms_log: float, scale_rel_std: float = 0.0) -> float:
 class _Model:
     """|B| of the site at the readings as a function of the fitted parameters.
 
-    Parameters: the current scale of each fitted magnet, then the chosen offset axes
-    ``(magnet index, axis)``. Magnets not fitted, and the rest of the site's field
-    (``field_at(site) − Σ magnets``: nothing yet, induced fields to come), stay fixed.
+    Parameters: the current scale of each fitted magnet, then the chosen extra
+    parameters: centre offsets ``(magnet index, axis)`` (m) in :attr:`offsets` and
+    components of a uniform background field (T) in :attr:`background_axes`. Magnets not
+    fitted, and the rest of the site's field (``field_at(site) − Σ magnets`` and a
+    background the scenario gives), stay fixed.
     """
 
     def __init__(self, site, readings: Readings, fitted: list[int]) -> None:
@@ -202,17 +230,25 @@ class _Model:
         self.p = readings.points_m
         self.fitted = fitted
         self.B_each = [field_at(m, self.p) for m in self.mags]
-        self.B_site = field_at(site, self.p)
+        self.B_site = field_at(site, self.p) + background_T(site)
         self.fixed = self.B_site - sum(self.B_each[k] for k in fitted)
         self.offsets: list[tuple[int, int]] = []
+        self.background_axes: list[int] = []
         self._cache: tuple[bytes, np.ndarray, np.ndarray] | None = None
+
+    def set_extras(self, offsets: list[tuple[int, int]], background_axes: list[int]) -> None:
+        """Choose the centre-offset and background parameters (after the scales)."""
+        self.offsets = list(offsets)
+        self.background_axes = list(background_axes)
+        self._cache = None
 
     @property
     def n_params(self) -> int:
-        return len(self.fitted) + len(self.offsets)
+        return len(self.fitted) + len(self.offsets) + len(self.background_axes)
 
     def start(self) -> np.ndarray:
-        return np.concatenate([np.ones(len(self.fitted)), np.zeros(len(self.offsets))])
+        return np.concatenate([np.ones(len(self.fitted)),
+                               np.zeros(len(self.offsets) + len(self.background_axes))])
 
     def centre_shift(self, theta: np.ndarray, k: int) -> np.ndarray:
         d = np.zeros(3)
@@ -241,6 +277,10 @@ class _Model:
                 Bk = self.B_each[k]
             B += theta[j] * Bk
             dB[:, :, j] = Bk
+        first_bg = len(self.fitted) + len(self.offsets)
+        for c, a in enumerate(self.background_axes):
+            B[:, a] += theta[first_bg + c]
+            dB[:, a, first_bg + c] = 1.0
         b2 = np.einsum("ni,ni->n", B, B)
         log_b = 0.5 * np.log(b2)
         dlog = np.einsum("ni,nij->nj", B, dB) / b2[:, None]
@@ -257,15 +297,31 @@ class _Fit:
     dof: int
 
 
-def _weights(readings: Readings) -> np.ndarray:
-    """Relative standard uncertainty σ_i of ln|B| per reading: u_i/B_i where given, the
-    median of the given ones elsewhere, 1 for all when none is given (then only the
-    residuals set the scale)."""
+def background_T(site) -> np.ndarray:
+    """The uniform background field of the site (``[site] background_field_uT``) in T,
+    shape (3,); zero when the scenario gives none."""
+    bg = getattr(site, "background_field_uT", None)
+    return np.zeros(3) if bg is None else np.asarray(bg, dtype=float) * 1e-6
+
+
+def _weights(readings: Readings, background_known: bool) -> np.ndarray:
+    """Relative standard uncertainty σ_i of ln|B| per reading.
+
+    The meter's ``u_i/B_i`` where given; the median of the given ones elsewhere, or
+    :data:`NOMINAL_REL_UNCERTAINTY` when none is given (the residuals then set the
+    absolute size anyway). When the scenario gives no background field, the Earth's field
+    (:data:`EARTH_FIELD_T`, direction unknown) is added in quadrature as
+    ``EARTH_FIELD_T/√3/B_i``: a fixed vector of random direction changes |B| by its
+    projection on B, whose standard deviation is 1/√3 of its size (uniform directions on
+    the sphere: ⟨cos²θ⟩ = 1/3). Readings near the Earth's field then count little.
+    """
     rel = readings.uncertainty_T / readings.field_T
     given = np.isfinite(rel)
-    if not given.any():
-        return np.ones(len(rel))
-    return np.where(given, rel, float(np.median(rel[given])))
+    fill = float(np.median(rel[given])) if given.any() else NOMINAL_REL_UNCERTAINTY
+    base = np.where(given, rel, fill)
+    if background_known:
+        return base
+    return np.hypot(base, EARTH_FIELD_T / math.sqrt(3.0) / readings.field_T)
 
 
 def _solve(model: _Model, y: np.ndarray, sigma: np.ndarray, kept: np.ndarray,
@@ -277,8 +333,12 @@ def _solve(model: _Model, y: np.ndarray, sigma: np.ndarray, kept: np.ndarray,
         return (-model.evaluate(t)[1] / sigma[:, None])[kept]
 
     n_fit = len(model.fitted)
-    lo = np.concatenate([np.full(n_fit, 1e-6), np.full(len(model.offsets), -np.inf)])
-    sol = least_squares(res, theta0, jac=jac, bounds=(lo, np.inf), method="trf",
+    n_off, n_bg = len(model.offsets), len(model.background_axes)
+    lo = np.concatenate([np.full(n_fit, 1e-6), np.full(n_off, -_OFFSET_BOUND_M),
+                         np.full(n_bg, -_BACKGROUND_BOUND_T)])
+    hi = np.concatenate([np.full(n_fit, np.inf), np.full(n_off, _OFFSET_BOUND_M),
+                         np.full(n_bg, _BACKGROUND_BOUND_T)])
+    sol = least_squares(res, np.clip(theta0, lo, hi), jac=jac, bounds=(lo, hi), method="trf",
                         x_scale="jac", xtol=1e-12, ftol=1e-12, gtol=1e-12)
     dof = int(kept.sum()) - model.n_params
     r = sol.fun
@@ -352,37 +412,55 @@ def _vif_and_std(J: np.ndarray, s: float) -> tuple[np.ndarray, np.ndarray]:
     return np.diag(C).copy(), s * np.sqrt(np.abs(np.diag(cov)))
 
 
-def _choose_offsets(model: _Model, y, sigma, fit: _Fit) -> list[str]:
-    """Pick the offset axes the readings constrain (VIF ≤ VIF_LIMIT and a predicted
-    standard error ≤ OFFSET_STD_LIMIT_M, dropping the worst axis until all pass); set
-    them on ``model``; return a note per axis left out."""
+def _candidates(model: _Model, fit_background: bool) -> list[tuple[str, int, int]]:
+    """Every extra parameter: each fitted magnet's centre along x, y, z, and (with
+    ``fit_background``) the background field's x, y, z; set on ``model``."""
+    cand: list[tuple[str, int, int]] = [("centre", k, a) for k in model.fitted
+                                        for a in range(3)]
+    if fit_background:
+        cand += [("background", -1, a) for a in range(3)]
+    model.set_extras([(k, a) for kind, k, a in cand if kind == "centre"],
+                     [a for kind, _, a in cand if kind == "background"])
+    return cand
+
+
+def _choose_extras(model: _Model, sigma, fit: _Fit,
+                   cand: list[tuple[str, int, int]]) -> list[str]:
+    """Pick the extra parameters ``cand`` (set on ``model`` and fitted in ``fit``) the
+    readings constrain: every parameter's VIF ≤ VIF_LIMIT and a predicted standard error
+    (the fit's s with the parameters kept) ≤ OFFSET_STD_LIMIT_M (offsets) or
+    BACKGROUND_STD_LIMIT_T (background), dropping the worst until all pass. Sets them on
+    ``model``; returns a note per parameter left out."""
     names = [m.name for m in model.mags]
-    cand = [(k, a) for k in model.fitted for a in range(3)]
-    model.offsets = cand
-    theta = np.concatenate([fit.theta, np.zeros(len(cand))])
-    J = (-model.evaluate(theta)[1] / sigma[:, None])[fit.kept]
+    J = (-model.evaluate(fit.theta)[1] / sigma[:, None])[fit.kept]
     n_fit = len(model.fitted)
     s = fit.s if math.isfinite(fit.s) and fit.s > 0 else 1.0
+    limits = np.array([OFFSET_STD_LIMIT_M if kind == "centre" else BACKGROUND_STD_LIMIT_T
+                       for kind, _, _ in cand])
     notes: list[str] = []
-    cols = list(range(n_fit)) + [n_fit + c for c in range(len(cand))]
+    cols = list(range(n_fit + len(cand)))
     while len(cols) > n_fit:
         vif, std = _vif_and_std(J[:, cols], s)
-        badness = np.maximum(vif / VIF_LIMIT, std / OFFSET_STD_LIMIT_M)
+        lim = np.concatenate([np.full(n_fit, np.inf), limits[np.array(cols[n_fit:]) - n_fit]])
+        badness = np.maximum(vif / VIF_LIMIT, std / lim)
         badness[:n_fit] = 0.0
         worst = int(np.argmax(badness))
         if badness[worst] <= 1.0:
             break
-        k, a = cand[cols[worst] - n_fit]
+        kind, k, a = cand[cols[worst] - n_fit]
+        unit = "m" if kind == "centre" else "T"
         why = (f"collinear with the other parameters (VIF {vif[worst]:.3g} > {VIF_LIMIT:g})"
                if vif[worst] > VIF_LIMIT else
-               f"predicted standard error {std[worst]:.3g} m > {OFFSET_STD_LIMIT_M:g} m")
-        notes.append(f"{names[k]}: centre offset along {AXES[a]} not fitted: the readings do "
-                     f"not constrain it ({why})")
+               f"predicted standard error {std[worst]:.3g} {unit} > {lim[worst]:g} {unit}")
+        what = (f"{names[k]}: centre offset along {AXES[a]}" if kind == "centre"
+                else f"background field along {AXES[a]}")
+        notes.append(f"{what} not fitted: the readings do not constrain it ({why})")
         del cols[worst]
-    model.offsets = [cand[c - n_fit] for c in cols[n_fit:]]
-    if len(model.offsets) + n_fit > int(fit.kept.sum()) - 1:
-        model.offsets = []
-    model._cache = None
+    chosen = [cand[c - n_fit] for c in cols[n_fit:]]
+    if len(chosen) + n_fit > int(fit.kept.sum()) - 1:
+        chosen = []
+    model.set_extras([(k, a) for kind, k, a in chosen if kind == "centre"],
+                     [a for kind, _, a in chosen if kind == "background"])
     return notes
 
 
@@ -461,41 +539,87 @@ def survey(site: Site, readings: Readings, *, calibrate: bool = False,
     fitted = [k for k, n in enumerate(names) if magnet is None or n == magnet]
     model = _Model(site, readings, fitted if calibrate else [])
     y = np.log(readings.field_T)
-    sigma = _weights(readings)
+    known = getattr(site, "background_field_uT", None) is not None
+    sigma = _weights(readings, known)
     model_T = np.linalg.norm(model.B_site, axis=1)
     ratio = readings.field_T / model_T
     _unit_slip_warning(readings, ratio)
     notes: list[str] = []
+    low = int(np.sum(EARTH_FIELD_T / math.sqrt(3.0) / readings.field_T
+                     > _weights(readings, True))) if not known else 0
+    if low:
+        notes.append(f"the scenario gives no background field ([site] background_field_uT): "
+                     f"the Earth's field ({EARTH_FIELD_T * 1e6:g} µT, direction unknown) is "
+                     f"taken as an uncertainty of each reading; {low} reading(s) weak enough "
+                     "for it to dominate count less")
     if not calibrate:
         kept = _flags_about_centre(np.log(ratio) / sigma)
-        rms = float(np.sqrt(np.mean(np.log(ratio[kept]) ** 2)))
-        return SurveyResult(_points(readings, model_T, ratio, kept), rms, (), (),
-                            suggested_uncertainty(rms), None, readings.source_file,
-                            notes=("flags: spread of ln(measured/model) about its mean",))
+        rms = _wrms(np.log(ratio), sigma, kept)
+        u = suggested_uncertainty(_model_rms(np.log(ratio), _earth_sigma(site, readings),
+                                             _weights(readings, True), kept))
+        return SurveyResult(_points(readings, model_T, ratio, kept, sigma), rms, (), (),
+                            u, None, readings.source_file,
+                            notes=tuple(notes))
     if len(readings) < len(fitted) + 2:
         raise ArgumentError(must_be("readings", f"at least {len(fitted) + 2} readings to fit "
                                     f"{len(fitted)} current scale(s)", len(readings)),
                             "readings", readings.source_file or None)
     _check_fittable(model, y, sigma, names)
+    # every candidate fitted at once, weighted by the meter alone when the background is
+    # among them: the spread of that fit sets the predicted standard errors
+    cand = _candidates(model, fit_background=not known)
+    meter = _weights(readings, True)
+    sel_sigma = meter if not known else sigma
+    notes += _choose_extras(model, sel_sigma, _fit_with_flags(model, y, sel_sigma), cand)
+    sigma_cmp = sigma  # the scenario's model against the readings: as in the comparison
+    if len(model.background_axes) == 3:  # the Earth's field is a parameter now
+        sigma = meter
+        notes = [n for n in notes if not n.startswith("the scenario gives no background")]
     fit = _fit_with_flags(model, y, sigma)
-    notes += _choose_offsets(model, y, sigma, fit)
-    fit = _fit_with_flags(model, y, sigma) if model.offsets else fit
-    return _calibrated_result(site, readings, model, fit, y, ratio, model_T, notes)
+    return _calibrated_result(site, readings, model, fit, y, (sigma, sigma_cmp), ratio,
+                              model_T, notes)
 
 
-def _points(readings: Readings, model_T, ratio, kept,
+def _wrms(r: np.ndarray, sigma: np.ndarray, mask: np.ndarray) -> float:
+    """Root mean square of ``r`` over ``mask``, each weighted by 1/σ² (the plain rms when
+    every σ is the same; readings dominated by the Earth's field count little)."""
+    if not mask.any():
+        return math.nan
+    w = 1.0 / sigma[mask] ** 2
+    return float(np.sqrt(np.sum(w * r[mask] ** 2) / np.sum(w)))
+
+
+def _earth_sigma(site, readings: Readings) -> np.ndarray:
+    """The Earth's part of each reading's relative uncertainty (0 with a known background)."""
+    if getattr(site, "background_field_uT", None) is not None:
+        return np.zeros(len(readings))
+    return EARTH_FIELD_T / math.sqrt(3.0) / readings.field_T
+
+
+def _model_rms(r: np.ndarray, sigma_earth: np.ndarray, sigma_meter: np.ndarray,
+               mask: np.ndarray) -> float:
+    """The plain rms of ``r`` over the readings of ``mask`` whose Earth's-field share is at
+    most the meter's (all of ``mask`` when fewer than 3 are): the spread of the magnets'
+    field about the model, the Earth's field being stated apart on every output."""
+    strong = mask & (sigma_earth <= sigma_meter)
+    use = strong if strong.sum() >= 3 else mask
+    return float(np.sqrt(np.mean(r[use] ** 2))) if use.any() else math.nan
+
+
+def _points(readings: Readings, model_T, ratio, kept, sigma,
             calibrated_T=None) -> tuple[PointComparison, ...]:
     cal = np.full(len(readings), np.nan) if calibrated_T is None else calibrated_T
     return tuple(PointComparison(readings.labels[i],
                                  tuple(float(v) for v in readings.points_m[i]),
                                  float(readings.field_T[i]), float(model_T[i]),
                                  float(ratio[i]), "ok" if kept[i] else "outlier",
-                                 readings.lines[i], float(cal[i]))
+                                 readings.lines[i], float(cal[i]), float(sigma[i]))
                  for i in range(len(readings)))
 
 
-def _calibrated_result(site, readings, model: _Model, fit: _Fit, y, ratio, model_T,
+def _calibrated_result(site, readings, model: _Model, fit: _Fit, y, sigmas, ratio, model_T,
                        notes: list[str]) -> SurveyResult:
+    sigma, sigma_cmp = sigmas
     log_after = model.evaluate(fit.theta)[0]
     res_after = y - log_after
     kept = fit.kept
@@ -518,7 +642,7 @@ def _calibrated_result(site, readings, model: _Model, fit: _Fit, y, ratio, model
         cal = replace(m.scaled(scale), center_m=tuple(float(v) for v in
                                                       np.asarray(m.center_m) + d))
         mine = kept & (owner == k)
-        rms = float(np.sqrt(np.mean(res_after[mine] ** 2))) if mine.any() else math.nan
+        rms = _wrms(res_after, sigma, mine)
         axis_notes = tuple(n for n in notes if n.startswith(f"{m.name}:"))
         cals.append(MagnetCalibration(m.name, scale, float(std[j]), tuple(off), tuple(off_std),
                                       rms, cal, axis_notes))
@@ -527,10 +651,20 @@ def _calibrated_result(site, readings, model: _Model, fit: _Fit, y, ratio, model
     thr = site_plan(site).settings.thresholds_mT
     bounds = tuple(CalibratedBoundary(c.magnet, t, *threshold_extents_m(c.calibrated, t * 1e-3))
                    for c in cals for t in thr)
-    rms_before = float(np.sqrt(np.mean(np.log(ratio[kept]) ** 2)))
-    rms_after = float(np.sqrt(np.mean(res_after[kept] ** 2)))
+    rms_before = _wrms(np.log(ratio), sigma_cmp, kept)
+    earth = (np.zeros(len(y)) if len(model.background_axes) == 3
+             else _earth_sigma(site, readings))
+    rms_after = _model_rms(res_after, earth, _weights(readings, True), kept)
+    first_bg = n_fit + len(model.offsets)
+    bg: list[float | None] = [None, None, None]
+    bg_std: list[float | None] = [None, None, None]
+    for c, a in enumerate(model.background_axes):
+        bg[a] = float(fit.theta[first_bg + c]) * 1e6
+        bg_std[a] = float(std[first_bg + c]) * 1e6
+    fitted_bg = (tuple(bg), tuple(bg_std)) if model.background_axes else (None, None)
     rel = max((c.current_scale_std / c.current_scale for c in cals), default=0.0)
-    return SurveyResult(_points(readings, model_T, ratio, kept, np.exp(log_after)), rms_before,
+    return SurveyResult(_points(readings, model_T, ratio, kept, sigma, np.exp(log_after)),
+                        rms_before,
                         tuple(cals),
                         bounds, suggested_uncertainty(rms_after, rel), cal_site,
-                        readings.source_file, fit.dof, tuple(notes))
+                        readings.source_file, fit.dof, tuple(notes), *fitted_bg)

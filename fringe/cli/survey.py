@@ -51,6 +51,10 @@ def _r(v, nd: int = 6):
     return float(f"{v:.{nd}g}") if math.isfinite(v) else None
 
 
+def _opt(values, nd: int):
+    return None if values is None else [_r(v, nd) for v in values]
+
+
 def result_dict(result) -> dict:
     """The JSON document of ``fringe survey --json`` (and survey.json)."""
     return {
@@ -70,6 +74,8 @@ def result_dict(result) -> dict:
                                    "axial_extent_m": _r(b.axial_extent_m, 5),
                                    "radial_extent_m": _r(b.radial_extent_m, 5)}
                                   for b in result.boundaries_calibrated],
+        "background_field_uT": _opt(result.background_field_uT, 4),
+        "background_field_std_uT": _opt(result.background_field_std_uT, 3),
         "suggested_field_uncertainty": _r(result.suggested_field_uncertainty),
         "notes": list(result.notes),
     }
@@ -104,6 +110,12 @@ def text_summary(site, result, out_dir: str | None) -> str:
                                                       "readings)" if v is None else
                                                       f"{v * 1e3:+.1f} ± {s * 1e3:.1f} mm"))
         lines.append(f"  rms of ln(measured/model) after: {c.rms_log_residual_after:.4f}")
+    if result.background_field_uT is not None:
+        parts = [f"{ax} " + ("not fitted" if v is None else f"{v:.1f} ± {sd:.1f}")
+                 for ax, v, sd in zip("xyz", result.background_field_uT,
+                                      result.background_field_std_uT, strict=True)]
+        lines.append("background field fitted (the Earth's; not written to the scenario), "
+                     "µT: " + ", ".join(parts))
     if result.calibration:
         lines.append(f"degrees of freedom of the fit: {result.dof}")
         bnd = site.plan.boundary.value_mT

@@ -31,13 +31,18 @@ SURVEY_MARKER = "survey.json"
 _OUTLIER_COLOR = "#3d0b57"  # fringe.render.style.HAZARD_COLOR
 
 
-def _ratio_norm(ratios, flagged):
-    """Log scale symmetric about 1, spanning the readings not flagged (flagged ones take
-    the end colours)."""
+#: Readings weighted with a relative uncertainty above this (mostly the Earth's field)
+#: do not set the colour scale of the plan; they take its end colours.
+_SCALE_SIGMA_MAX = 0.1
+
+
+def _ratio_norm(ratios, flagged, sigmas):
+    """Log scale symmetric about 1, spanning the readings not flagged and not dominated
+    by the Earth's field (the others take the end colours)."""
     from matplotlib.colors import LogNorm
 
-    r = np.asarray([v for v, f in zip(ratios, flagged, strict=True)
-                    if math.isfinite(v) and v > 0 and not f])
+    r = np.asarray([v for v, f, sg in zip(ratios, flagged, sigmas, strict=True)
+                    if math.isfinite(v) and v > 0 and not f and not sg > _SCALE_SIGMA_MAX])
     span = float(np.max(np.abs(np.log(r)))) if r.size else 0.1
     span = min(max(span, math.log(1.05)), math.log(10.0))
     return LogNorm(vmin=math.exp(-span), vmax=math.exp(span))
@@ -150,7 +155,7 @@ def survey_plan_sheet(site, result) -> Figure:
     for m in site.magnets:
         dr._add_polygon(ax, magnet_plan_outline(m), facecolor="0.75", edgecolor="0.2",
                         linewidth=1.0, zorder=3)
-    norm = _ratio_norm(ratio, out)
+    norm = _ratio_norm(ratio, out, [p.sigma_rel for p in result.points])
     on_floor = np.array([f == floor for f in floors_of])
     kw = {"c": ratio, "cmap": RATIO_CMAP, "norm": norm, "s": 70, "edgecolors": "0.1",
           "linewidths": 0.8, "zorder": 5}
@@ -167,8 +172,8 @@ def survey_plan_sheet(site, result) -> Figure:
                         0.5 * pos.width, 0.012), label="ratio scale")
     cb = fig.colorbar(ScalarMappable(norm=norm, cmap=RATIO_CMAP), cax=cax,
                       orientation="horizontal")
-    cb.set_label("measured / model (log scale; flagged readings take the end colours)",
-                 fontsize=8)
+    cb.set_label("measured / model (log scale; flagged readings and readings near the "
+                 "Earth's field take the end colours)", fontsize=8)
     ticks = [t for t in (0.5, 0.8, 0.9, 0.95, 1.0, 1.05, 1.1, 1.25, 2.0)
              if norm.vmin <= t <= norm.vmax]
     cb.set_ticks(ticks, labels=[f"{t:g}" for t in ticks])
@@ -209,11 +214,12 @@ def measured_model_sheet(site, result) -> Figure:
     ax = fig.add_axes((left + 0.04, bottom + 0.02, side * 0.92,
                        0.92 * side * fig.get_figwidth() / fig.get_figheight()),
                       label="measured-model")
-    allv = np.concatenate([meas, model, cal[np.isfinite(cal)]])
+    allv = np.concatenate([meas, model, cal[np.isfinite(cal)], [0.02]])
     lo, hi = float(np.min(allv)) / 1.6, float(np.max(allv)) * 1.6
     line = np.array([lo, hi])
     u = result.suggested_field_uncertainty
     ax.plot(line, line, color="0.1", lw=1.2, zorder=2)
+    ax.axhspan(0.025, 0.065, color="#e8e0f0", zorder=0.5)  # NOAA/BGS WMM: 25-65 µT
     if math.isfinite(u) and u > 0:
         ax.fill_between(line, line * (1 - u), line * (1 + u), color="0.85", zorder=1)
     ax.scatter(model[~out], meas[~out], s=36, facecolor="#1f3b73", edgecolor="white",
@@ -240,9 +246,11 @@ def measured_model_sheet(site, result) -> Figure:
     ax.grid(True, which="both", color="0.85", lw=0.5)
     ax.tick_params(labelsize=8)
     handles = [Line2D([], [], color="0.1", lw=1.2),
-               Line2D([], [], color="0.85", lw=8),
+               Line2D([], [], color="0.85", lw=8), Line2D([], [], color="#e8e0f0", lw=8),
                Line2D([], [], marker="o", ls="", mfc="#1f3b73", mec="white", ms=7)]
     labels = ["measured = model", f"model ± {u:.0%} (the suggested field_uncertainty)",
+              "the Earth's field, 0.025-0.065 mT (a meter reads it too; the model has it "
+              "only with [site] background_field_uT)",
               "reading against the scenario's model"]
     if has_cal:
         handles.append(Line2D([], [], marker="s", ls="", mfc="none", mec="#2a9d8f", mew=1.2,

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import math
 import tomllib
+from dataclasses import replace
 
 import numpy as np
 import pytest
@@ -20,7 +21,10 @@ from tests.conftest import SMALL_SCENARIO_TOML
 
 @pytest.fixture(scope="module")
 def site():
-    return parse_site(tomllib.loads(SMALL_SCENARIO_TOML), "small.toml")
+    """The small site with its background field known to be zero (readings made from the
+    model alone), so that no Earth's-field term enters the weights."""
+    return replace(parse_site(tomllib.loads(SMALL_SCENARIO_TOML), "small.toml"),
+                   background_field_uT=(0.0, 0.0, 0.0))
 
 
 def around(n: int, rng, r=(1.0, 3.0), z_spread=1.5) -> np.ndarray:
@@ -186,3 +190,35 @@ def test_magnet_option_errors(site):
         sv.survey(site, r, magnet="m1")
     with pytest.raises(ArgumentError, match="`readings` must be at least 3 readings"):
         sv.survey(site, Readings.of(r.points_m[:2], r.field_T[:2]), calibrate=True)
+
+
+def test_a_known_background_field_is_part_of_the_model(site):
+    """A meter reads |B_magnet + B_background|; with the background given the model is the
+    same sum and the scale comes back exactly (vector superposition, Jackson Sec. 5.3)."""
+    bg_uT = (0.0, 19.0, -45.0)
+    s_bg = replace(site, background_field_uT=bg_uT)
+    rng = np.random.default_rng(8)
+    pts = around(20, rng, r=(2.0, 5.0))
+    b = np.linalg.norm(field_at(site.magnets[0].scaled(0.9), pts) + np.array(bg_uT) * 1e-6,
+                       axis=1)
+    res = sv.survey(s_bg, Readings.of(pts, b), calibrate=True)
+    assert res.calibration[0].current_scale == pytest.approx(0.9, rel=1e-6)
+    model = np.linalg.norm(field_at(site, pts) + np.array(bg_uT) * 1e-6, axis=1)
+    np.testing.assert_allclose([p.model_T for p in res.points], model, rtol=1e-12)
+
+
+def test_an_unknown_earth_field_widens_the_weak_readings_uncertainty(site):
+    """No background given: each reading's relative uncertainty gains the Earth's field
+    50 µT/√3/|B| in quadrature (a vector of random direction changes |B| by its projection,
+    ⟨cos²θ⟩ = 1/3; Earth's field 25–65 µT: NOAA/BGS World Magnetic Model)."""
+    no_bg = replace(site, background_field_uT=None)
+    rng = np.random.default_rng(6)
+    pts = around(12, rng, r=(1.0, 6.0))
+    r = readings_from(site.magnets[0], pts, 0.0, rng)
+    r = Readings(r.points_m, r.field_T, r.components_T, 0.01 * r.field_T, r.labels, r.notes,
+                 r.lines)
+    res = sv.survey(no_bg, r)
+    want = np.hypot(0.01, 50e-6 / math.sqrt(3.0) / r.field_T)
+    np.testing.assert_allclose([p.sigma_rel for p in res.points], want, rtol=1e-12)
+    assert any("Earth's field" in n for n in res.notes)
+    assert all(p.sigma_rel == pytest.approx(0.01) for p in sv.survey(site, r).points)
