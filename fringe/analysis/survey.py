@@ -556,7 +556,7 @@ def survey(site: Site, readings: Readings, *, calibrate: bool = False,
         kept = _flags_about_centre(np.log(ratio) / sigma)
         rms = _wrms(np.log(ratio), sigma, kept)
         u = suggested_uncertainty(_model_rms(np.log(ratio), _earth_sigma(site, readings),
-                                             _weights(readings, True), kept))
+                                             _weights(readings, True), sigma, kept))
         return SurveyResult(_points(readings, model_T, ratio, kept, sigma), rms, (), (),
                             u, None, readings.source_file,
                             notes=tuple(notes))
@@ -597,13 +597,15 @@ def _earth_sigma(site, readings: Readings) -> np.ndarray:
 
 
 def _model_rms(r: np.ndarray, sigma_earth: np.ndarray, sigma_meter: np.ndarray,
-               mask: np.ndarray) -> float:
+               sigma: np.ndarray, mask: np.ndarray) -> float:
     """The plain rms of ``r`` over the readings of ``mask`` whose Earth's-field share is at
-    most the meter's (all of ``mask`` when fewer than 3 are): the spread of the magnets'
-    field about the model, the Earth's field being stated apart on every output."""
+    most the meter's; when fewer than 3 are, :func:`_wrms` over ``mask`` with ``sigma``.
+    The spread of the magnets' field about the model (the Earth's field is stated apart
+    on every output)."""
     strong = mask & (sigma_earth <= sigma_meter)
-    use = strong if strong.sum() >= 3 else mask
-    return float(np.sqrt(np.mean(r[use] ** 2))) if use.any() else math.nan
+    if strong.sum() >= 3:
+        return float(np.sqrt(np.mean(r[strong] ** 2)))
+    return _wrms(r, sigma, mask)
 
 
 def _points(readings: Readings, model_T, ratio, kept, sigma,
@@ -654,7 +656,7 @@ def _calibrated_result(site, readings, model: _Model, fit: _Fit, y, sigmas, rati
     rms_before = _wrms(np.log(ratio), sigma_cmp, kept)
     earth = (np.zeros(len(y)) if len(model.background_axes) == 3
              else _earth_sigma(site, readings))
-    rms_after = _model_rms(res_after, earth, _weights(readings, True), kept)
+    rms_after = _model_rms(res_after, earth, _weights(readings, True), sigma, kept)
     first_bg = n_fit + len(model.offsets)
     bg: list[float | None] = [None, None, None]
     bg_std: list[float | None] = [None, None, None]

@@ -222,3 +222,23 @@ def test_an_unknown_earth_field_widens_the_weak_readings_uncertainty(site):
     np.testing.assert_allclose([p.sigma_rel for p in res.points], want, rtol=1e-12)
     assert any("Earth's field" in n for n in res.notes)
     assert all(p.sigma_rel == pytest.approx(0.01) for p in sv.survey(site, r).points)
+
+
+def test_an_unknown_background_is_fitted_where_the_readings_constrain_it(site):
+    """Readings of the total field (magnet × 0.96 plus an invented Earth's field) reaching
+    out to where the Earth's field is comparable: the three background components and the
+    scale come back within 3σ (vector superposition; least-squares theory as above)."""
+    no_bg = replace(site, background_field_uT=None)
+    bg_T = np.array([4e-6, 19e-6, -45e-6])
+    rng = np.random.default_rng(12)
+    pts = around(40, rng, r=(1.2, 6.0))
+    b = np.linalg.norm(field_at(site.magnets[0].scaled(0.96), pts) + bg_T, axis=1)
+    r = Readings.of(pts, b * np.exp(rng.normal(0.0, 0.01, len(b))))
+    res = sv.survey(no_bg, r, calibrate=True)
+    c = res.calibration[0]
+    assert abs(c.current_scale - 0.96) < 3 * c.current_scale_std
+    assert res.background_field_uT is not None
+    for got, s, want in zip(res.background_field_uT, res.background_field_std_uT,
+                            bg_T * 1e6, strict=True):
+        assert got is not None and abs(got - want) < 3 * s
+    assert res.n_flagged == 0

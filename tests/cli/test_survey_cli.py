@@ -79,7 +79,7 @@ def test_demo_text_table_calibration_and_uncertainty_line(run_cli, demo_files):
 
 def test_demo_json_keys_and_figures(run_cli, demo_files):
     """The invented truth of the demo readings: currents × 0.97, centre moved by
-    (+0.04, −0.02, 0) m, 2 % noise (see the file's header)."""
+    (+0.04, −0.02, 0) m, an Earth's field (0, 19, −45) µT, 2 % noise (the file's header)."""
     scen, rd = demo_files
     code, out, _ = run_cli("survey", scen, "--readings", rd, "--calibrate", "--json")
     assert code == 0
@@ -99,6 +99,10 @@ def test_demo_json_keys_and_figures(run_cli, demo_files):
     assert set(d["boundaries_calibrated"][0]) == {"magnet", "threshold_mT",
                                                   "axial_extent_m", "radial_extent_m"}
     assert 0 < d["suggested_field_uncertainty"] < 0.2
+    # the invented Earth's field of the file, (0, 19, -45) µT, fitted
+    for got, sd, want in zip(d["background_field_uT"], d["background_field_std_uT"],
+                             (0.0, 19.0, -45.0), strict=True):
+        assert abs(got - want) < 3 * sd
 
 
 def test_compare_only_has_no_calibration(run_cli, demo_files):
