@@ -67,6 +67,12 @@ def _notes(result) -> list[str]:
         out.append(f"Calibrated {c.magnet}: current scale {c.current_scale:.4f} ± "
                    f"{c.current_scale_std:.4f}; centre offset x, y, z: {off} "
                    "(- : not constrained by the readings, not fitted).")
+    if result.background_field_uT is not None:
+        bg = ", ".join("-" if v is None else f"{v:.1f} ± {sd:.1f}" for v, sd in
+                       zip(result.background_field_uT, result.background_field_std_uT,
+                           strict=True))
+        out.append(f"Background (the Earth's) field fitted, x, y, z: {bg} µT; a meter reads "
+                   "it too, the calibrated scenario holds the magnets only.")
     out.append(f"Flagged: residual beyond 3 standard deviations, left out of the fit "
                f"({result.n_flagged}).")
     u = result.suggested_field_uncertainty
@@ -255,7 +261,9 @@ def measured_model_sheet(site, result) -> Figure:
     if has_cal:
         handles.append(Line2D([], [], marker="s", ls="", mfc="none", mec="#2a9d8f", mew=1.2,
                               ms=7))
-        labels.append("reading against the calibrated model")
+        labels.append("reading against the calibrated model"
+                      + (" and the fitted background" if result.background_field_uT is not None
+                         else ""))
     handles.append(Line2D([], [], marker="x", ls="", color=_OUTLIER_COLOR, mew=2, ms=9))
     labels.append("flagged (against the scenario's model)")
     _draw_key_column(fig, handles, labels, "Readings", _notes(result))
