@@ -38,6 +38,7 @@ COMMAND_MODULES: tuple[str, ...] = (
     "fringe.cli.fit",
     "fringe.cli.place",
     "fringe.cli.disturbance",
+    "fringe.cli.survey",
 )
 
 

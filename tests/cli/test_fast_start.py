@@ -52,7 +52,7 @@ def _run(argv: list) -> dict:
 
 def test_every_command_is_checked():
     assert set(COMMANDS) == {"probe", "demo", "report", "quench", "energy", "map", "fit",
-                             "place", "disturbance"}
+                             "place", "disturbance", "survey"}
 
 
 def test_help_imports_no_heavy_library():
@@ -74,4 +74,6 @@ def test_usage_error_exits_2_without_heavy_library():
               "--to", "1", "2", "3"])  # --from with 2 numbers
     assert r["codes"] == [2] and r["heavy"] == []
     r = _run(["--main", "map", "x.toml", "--step", "nan-ish"])  # --box missing, bad --step
+    assert r["codes"] == [2] and r["heavy"] == []
+    r = _run(["--main", "survey", "x.toml"])  # --readings missing
     assert r["codes"] == [2] and r["heavy"] == []

@@ -80,7 +80,10 @@ def all_outputs(outputs, run_cli, demo_file):
                        ("probe", ("probe", demo_file, "--at", 1, 0, 0, "--json")),
                        ("disturbance", ("disturbance", demo_file, "--mass-kg", 1000,
                                         "--from", 10.8, 9, -2.5, "--to", 10.8, 9, 5,
-                                        "--json"))):
+                                        "--json")),
+                       ("survey", ("survey", demo_file, "--readings",
+                                   demo_file.with_name("demo_readings.csv"), "--calibrate",
+                                   "--json"))):
         code, text, _err = run_cli(*argv)
         assert code == 0
         out[name] = json.loads(text)
