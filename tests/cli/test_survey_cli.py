@@ -99,7 +99,25 @@ def test_demo_json_keys_and_figures(run_cli, demo_files):
     assert set(d["boundaries_calibrated"][0]) == {"magnet", "threshold_mT",
                                                   "axial_extent_m", "radial_extent_m"}
     assert 0 < d["suggested_field_uncertainty"] < 0.2
-    # the invented Earth's field of the file, (0, 19, -45) µT, fitted
+    # the demo scenario states the readings' Earth's field ([site] background_field_uT),
+    # so it is part of the model and not fitted
+    assert d["background_field_uT"] is None
+
+
+def test_demo_background_fitted_when_the_scenario_gives_none(run_cli, demo_files, tmp_path):
+    """Without `[site] background_field_uT` the invented Earth's field of the readings,
+    (0, 19, −45) µT, is fitted, each component within 3σ (least-squares theory)."""
+    scen, rd = demo_files
+    text = scen.read_text(encoding="utf-8")
+    assert "background_field_uT = [0.0, 19.0, -45.0]" in text
+    bare = tmp_path / "demo_no_background.toml"
+    bare.write_text(text.replace("background_field_uT = [0.0, 19.0, -45.0]", ""),
+                    encoding="utf-8")
+    code, out, _ = run_cli("survey", bare, "--readings", rd, "--calibrate", "--json")
+    assert code == 0
+    d = json.loads(out)
+    c = d["calibration"][0]
+    assert abs(c["current_scale"] - 0.97) < 3 * c["current_scale_std"]
     for got, sd, want in zip(d["background_field_uT"], d["background_field_std_uT"],
                              (0.0, 19.0, -45.0), strict=True):
         assert abs(got - want) < 3 * sd
