@@ -108,12 +108,32 @@ def write_zone_drawings(r: ReportResult, folder: str | Path) -> list[Path]:
             zones[ATTRACTION_LAYER] = fa.geometry
             notes.append(f"{ATTRACTION_LAYER}: {fa.criterion}")
         source = next((d for d in site_drawings if name in d.floors), None)
+        if source is not None and source.rotation_deg:
+            zones, texts = _unturned(zones, texts, source)
         path = Path(folder) / f"zones-{slug(name, taken)}.dxf"
         write_zones_dxf(path, zones, template=None if source is None else source.path,
                         offset_m=(0.0, 0.0) if source is None else source.offset_m,
                         notes="\n".join(notes), boundary_layer=zones_b, texts=texts)
         written.append(path)
     return written
+
+
+def _unturned(zones: dict, texts: dict, source) -> tuple[dict, dict]:
+    """Site geometries turned back by the drawing's ``rotation_deg`` about its offset
+    point, so that the template's own transform (scale and offset) puts them in its frame:
+    ``drawing = R(−rotation)·(site − offset) / metres_per_unit``."""
+    import shapely.affinity
+
+    ang, origin = -source.rotation_deg, tuple(source.offset_m)
+    turned = {k: shapely.affinity.rotate(g, ang, origin=origin) for k, g in zones.items()}
+    a = math.radians(ang)
+    c, s_ = math.cos(a), math.sin(a)
+
+    def back(xy):
+        dx, dy = xy[0] - origin[0], xy[1] - origin[1]
+        return (origin[0] + c * dx - s_ * dy, origin[1] + s_ * dx + c * dy)
+
+    return turned, {k: [(t, back(xy)) for t, xy in v] for k, v in texts.items()}
 
 
 #: Half-diagonal of the diamond drawn for point equipment in the DXF drawings, m.
