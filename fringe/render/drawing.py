@@ -90,6 +90,7 @@ __all__ = [
 _EXPOSURE_COLOR = HAZARD_COLOR
 _EXPOSURE_STYLES = [(0, (7, 2, 1.5, 2)), (0, (4, 1.5)), (0, (1.2, 1.5)), (0, (9, 3))]
 _MAIN = (0.042, 0.185, 0.670, 0.775)
+_KEY_LEFT = 0.738  # left edge of the key column (fringe.render.sheet), figure fraction
 
 
 @dataclass(frozen=True)
@@ -1161,8 +1162,16 @@ def _draw_north_arrow(ax, renderer, north_deg: float = 0.0) -> Bbox:
     fig = ax.get_figure()
     a = math.radians(north_deg)
     ux, uy = -math.sin(a), math.cos(a)  # unit vector of north on the sheet
-    half, r_n = 0.17, 0.30  # inches: half the arrow's length, distance of the "N"
-    cx = 0.30 - 0.12 * max(ux, 0.0)  # pointing right: closer to the drawing
+    half, r_n, n_w = 0.17, 0.30, 0.07  # inches: half the arrow, centre to "N", half its width
+    # centred between the drawing and the key column (at most 0.75 in right of the
+    # drawing), shrunk down to 55 % when an arrow pointing sideways would not fit
+    gap_l = 0.06
+    gap_r = min(0.75, (_KEY_LEFT - ax.get_position().x1) * fig.get_figwidth() - 0.06)
+    lo = min(-half * ux, half * ux, r_n * ux - n_w)
+    hi = max(-half * ux, half * ux, r_n * ux + n_w)
+    f = max(0.55, min(1.0, (gap_r - gap_l) / (hi - lo)))
+    half, r_n = half * f, r_n * f
+    cx = (gap_l + gap_r) / 2 - (lo + hi) * f / 2
     cy = -0.42
 
     def at(dx: float, dy: float):
