@@ -86,12 +86,13 @@ PAPER_SIZES_MM: dict[str, tuple[float, float]] = {
     "A3": (297.0, 420.0), "A4": (210.0, 297.0)}
 #: Paper of the sheets when ``[drawing] paper`` is not given.
 DEFAULT_PAPER: str = "A3"
-#: Drawing scales (the n of 1:n) the sheets choose from, largest drawing first. ISO 5455
-#: (1979) recommends full size 1:1 and the reductions 1:2, 1:5, 1:10 and their multiples
-#: by 10 (1:20, 1:50, 1:100, 1:200, 1:500, 1:1000, 1:2000, 1:5000, 1:10000); 1:25 and
-#: 1:250 are not in its list but are common practice on building drawings (no source),
-#: so they are offered too. Plans and sections of a building take 1:20 to 1:1000; the
-#: smaller n serve close-ups (the gradient maps round a bore).
+#: Drawing scales (the n of 1:n) the sheets choose from, largest drawing first. ISO
+#: 5455:1979, clause 5.1 (table of recommended scales): full size 1:1 and the reductions
+#: 1:2, 1:5, 1:10, 1:20, 1:50, 1:100, 1:200, 1:500, 1:1000, 1:2000, 1:5000, 1:10000.
+#: 1:25 and 1:250 are intermediate scales, which its note allows "in exceptional cases";
+#: building drawings use them often (common practice, no source), so they are offered
+#: too. Plans and sections of a building take 1:20 to 1:1000; the smaller n serve
+#: close-ups (the gradient maps round a bore).
 STANDARD_SCALES: tuple[int, ...] = (1, 2, 5, 10, 20, 25, 50, 100, 200, 250, 500, 1000, 2000,
                                     5000, 10000)
 
