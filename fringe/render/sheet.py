@@ -1,14 +1,16 @@
 """Sheet frame and the non-map sheets: curves, tables, cover; saving and PDF sets.
 
-Every sheet fringe draws is an A3-landscape :class:`matplotlib.figure.Figure` built
-without pyplot (no global state, Agg canvas attached) and carries the same frame:
+Every sheet fringe draws is a landscape ISO 216 sheet (A3 unless ``SheetInfo.drawing.paper``
+says otherwise), a :class:`matplotlib.figure.Figure` of that size built without pyplot (no
+global state, Agg canvas attached), and carries the same frame:
 
 * a drawing area on the left;
 * a key column on the right (legend, contents, numbered notes);
 * the advisory notice (:data:`fringe.model.constants.ADVISORY_NOTICE`) in a boxed strip along
   the bottom left;
 * a title block in the bottom right (drawing title, subtitle, site, magnets, boundary
-  value and its source, date, tool version, sheet number).
+  value and its source; sign-off boxes for drawn, checked and approved, each with a date
+  box; drawing number, revision, status and scale; date, tool version, "k of N").
 
 Maps (plans and sections) live in :mod:`fringe.render.drawing`, which builds on this module and
 re-exports everything public here; import from :mod:`fringe.render.drawing`.
@@ -20,8 +22,9 @@ Public functions
 ``tables_sheets``   several tables stacked on as few sheets as they need
 ``cover_sheet``     the first sheet of a set
 ``save_figure``     one sheet to PNG/SVG/PDF, atomically
-``write_pdf``       a sheet set to one PDF, atomically, numbered "Sheet k of n"
-``number_sheets``   write "Sheet k of n" where a sheet number was left unset
+``write_pdf``       a sheet set to one PDF, atomically, numbered "k of n", one bookmark
+                    per sheet
+``number_sheets``   write "k of n" where a sheet number was left unset
 """
 
 from __future__ import annotations
