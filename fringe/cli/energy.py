@@ -140,7 +140,7 @@ def format_magnet(e: MagnetEnergy) -> str:
 
 
 def _write_maps(site, magnets, out_dir: Path, levels) -> list[Path]:
-    from fringe.render.drawing import save_figure
+    from fringe.render.drawing import number_sheets, save_figure
     from fringe.render.energy import energy_density_sheets
 
     try:
@@ -148,8 +148,9 @@ def _write_maps(site, magnets, out_dir: Path, levels) -> list[Path]:
     except OSError as e:
         raise FringeIOError(must_be("--maps", "a directory that can be created or written",
                                     f"{out_dir} ({e.strerror or e})")) from None
-    return [save_figure(fig, out_dir / f"{stem}.png")
-            for stem, fig in energy_density_sheets(site, magnets, levels)]
+    sheets = energy_density_sheets(site, magnets, levels)
+    number_sheets([fig for _, fig in sheets])  # "k of n" over the maps written together
+    return [save_figure(fig, out_dir / f"{stem}.png") for stem, fig in sheets]
 
 
 def _check_maps_folder(maps) -> None:

@@ -222,7 +222,7 @@ def run(args) -> int:
 
         if not str(args.pdf).lower().endswith(".pdf"):
             raise ScenarioError(must_be("--pdf", "a file name ending in .pdf", args.pdf))
-        write_quench_pdf(budget, site.name, args.pdf)
+        write_quench_pdf(budget, site.name, args.pdf, drawing=site.drawing)
         sys.stderr.write(f"wrote the quench budget sheets to {args.pdf}\n")
     if args.json:
         out = {"site": site.name}

@@ -8,9 +8,10 @@ layer holds: ``"controlled"`` or ``"open"`` rooms (the access class of
 :data:`fringe.model.building.ACCESS_CLASSES`), ``"wall"`` outlines (kept for drawing, never
 checked) or ``"ignore"``. A room's name is the topmost TEXT/MTEXT whose anchor lies
 inside it (the smallest containing outline wins when outlines nest), else its layer
-name. Drawing units come from the ``$INSUNITS`` header and are scaled to metres; an
-``offset_m`` then moves drawing coordinates into the site frame:
-``site_xy = drawing_xy × metres_per_unit + offset_m``.
+name. Drawing units come from the ``$INSUNITS`` header and are scaled to metres; a
+``rotation_deg`` (counter-clockwise, about the drawing origin) then turns the drawing and
+an ``offset_m`` moves it into the site frame:
+``site_xy = R(rotation_deg) · drawing_xy × metres_per_unit + offset_m``.
 
 :func:`load_dxf_rooms` is the room-file loader registered as
 ``fringe.io.scenario.ROOM_LOADERS["dxf"]``; its options are the keys of
@@ -54,7 +55,8 @@ __all__ = ["DxfPlan", "read_dxf_plan", "load_dxf_rooms", "read_dxf_polygons",
 
 #: Option keys understood by the DXF room loader (the ``[[room_file]]`` keys that the
 #: scenario passes through when ``format = "dxf"``).
-DXF_ROOM_OPTION_KEYS: tuple[str, ...] = ("floor", "layers", "units", "offset_m", "name_from")
+DXF_ROOM_OPTION_KEYS: tuple[str, ...] = ("floor", "layers", "units", "offset_m", "name_from",
+                                         "rotation_deg")
 
 #: What a layer can hold: room access classes, wall outlines, or nothing of interest.
 LAYER_ROLES: tuple[str, ...] = (*ACCESS_CLASSES, "wall", "ignore")
@@ -100,6 +102,8 @@ class DxfPlan:
     offset_m : (float, float)
     layers : tuple of str
         Every layer name the drawing declares (for messages and mapping help).
+    rotation_deg : float
+        Turn of the drawing about its origin before the offset, degrees counter-clockwise.
     """
 
     rooms: tuple[Room, ...]
@@ -108,6 +112,7 @@ class DxfPlan:
     metres_per_unit: float
     offset_m: tuple[float, float]
     layers: tuple[str, ...]
+    rotation_deg: float = 0.0
 
 
 def _read_doc(path: Path, file_for_errors: str):
@@ -155,7 +160,12 @@ def _options(options: Mapping | None, file: str):
     floor = o.get("floor")
     if floor is not None and (not isinstance(floor, str) or not floor):
         raise ScenarioError(must_be("room_file.floor", "a floor name", floor), file)
-    return floor, layers, units, (float(off[0]), float(off[1])), name_from
+    rot = o.get("rotation_deg", 0.0)
+    if (isinstance(rot, bool) or not isinstance(rot, (int, float)) or not math.isfinite(rot)
+            or abs(rot) > 360.0):
+        raise ScenarioError(must_be("room_file.rotation_deg", "a number of degrees from -360 "
+                                    "to 360 (counter-clockwise)", rot), file)
+    return floor, layers, units, (float(off[0]), float(off[1])), name_from, float(rot)
 
 
 def _role(layer: str, layers: Mapping[str, str] | None) -> str:
@@ -323,7 +333,9 @@ def read_dxf_plan(path: str | Path, options: Mapping | None = None,
         → role in :data:`LAYER_ROLES`; without it every layer holds ``"open"`` rooms;
         layers named ``FRINGE-…`` — the ones fringe writes — are always ignored),
         ``units`` (a key of :data:`UNIT_CHOICES`, overriding ``$INSUNITS``; required
-        when the drawing is unitless), ``offset_m`` ([x, y] added after scaling),
+        when the drawing is unitless), ``rotation_deg`` (the drawing turned
+        counter-clockwise by this angle about its origin, after scaling; default 0),
+        ``offset_m`` ([x, y] added after scaling and turning),
         ``name_from`` (``"text"``, default, or ``"layer"``).
     file_for_errors : str, optional
         Name used in error messages (default: ``path``).
@@ -340,7 +352,7 @@ def read_dxf_plan(path: str | Path, options: Mapping | None = None,
     """
     p = Path(path)
     file = file_for_errors or str(p)
-    floor, layers, units, offset, name_from = _options(options, file)
+    floor, layers, units, offset, name_from, rot = _options(options, file)
     doc = _read_doc(p, file)
     insunits, mpu = _drawing_scale(doc, units, file)
     msp = doc.modelspace()
@@ -356,12 +368,12 @@ def read_dxf_plan(path: str | Path, options: Mapping | None = None,
         raise ScenarioError("`room_file.floor` is missing; rooms read from a DXF drawing need "
                             "the floor they stand on", file)
     names = _texts_by_outline(msp, outlines) if name_from == "text" else {}
-    rooms = tuple(Room(name, floor, shapely.normalize(_affine(poly, mpu, offset)), role)
+    rooms = tuple(Room(name, floor, shapely.normalize(_affine(poly, mpu, offset, rot)), role)
                   for name, (poly, _, role, _) in zip(_room_names(outlines, names), outlines,
                                                       strict=True))
     _check_scaled_sizes(rooms, insunits, mpu, file)
-    walls_site = tuple(_affine(w, mpu, offset) for w in walls)
-    return DxfPlan(rooms, walls_site, insunits, mpu, offset, all_layers)
+    walls_site = tuple(_affine(w, mpu, offset, rot) for w in walls)
+    return DxfPlan(rooms, walls_site, insunits, mpu, offset, all_layers, rot)
 
 
 def load_dxf_rooms(path: str | Path, options: dict, file_for_errors: str) -> DxfPlan:
@@ -377,9 +389,11 @@ load_dxf_rooms.option_keys = DXF_ROOM_OPTION_KEYS  # type: ignore[attr-defined]
 
 # -- geometry helpers ---------------------------------------------------------------------
 
-def _affine(geom, scale: float, offset: tuple[float, float]):
-    """x' = scale·x + offset (x and y)."""
-    return shapely.affinity.affine_transform(geom, [scale, 0.0, 0.0, scale, offset[0], offset[1]])
+def _affine(geom, scale: float, offset: tuple[float, float], rotation_deg: float = 0.0):
+    """p' = R(rotation_deg)·scale·p + offset (R counter-clockwise about the origin)."""
+    a = math.radians(rotation_deg)
+    c, s = scale * math.cos(a), scale * math.sin(a)
+    return shapely.affinity.affine_transform(geom, [c, -s, s, c, offset[0], offset[1]])
 
 
 def _polygons(geom) -> list:
@@ -398,7 +412,7 @@ def _ring_xy(ring) -> np.ndarray:
 
 
 def read_dxf_polygons(path: str | Path, layer: str, *, offset_m: tuple[float, float] = (0.0, 0.0),
-                      units: str | None = None) -> shapely.Geometry:
+                      units: str | None = None, rotation_deg: float = 0.0) -> shapely.Geometry:
     """Closed LWPOLYLINEs of one layer as a shapely MultiPolygon in site metres.
 
     Rings are nested by the even-odd rule (a ring inside an odd number of others is a
@@ -431,5 +445,5 @@ def read_dxf_polygons(path: str | Path, layer: str, *, offset_m: tuple[float, fl
         if depth[i] % 2 == 0:
             holes = [rings[k].exterior for k in range(len(rings)) if parent[k] == i]
             shells.append(shapely.Polygon(r.exterior, holes))
-    return _affine(shapely.MultiPolygon(shells), mpu, offset_m)
+    return _affine(shapely.MultiPolygon(shells), mpu, offset_m, rotation_deg)
 

@@ -7,8 +7,9 @@ Unknown keys are errors with a "did you mean" suggestion.
 The top-level sections are parsed in a fixed order (:data:`TOP_LEVEL_KEYS`) by the
 parsers of :mod:`fringe.io.scenario_plan` (``plan``, ``floor``, ``room`` and
 ``room_file``, ``equipment``), :mod:`fringe.io.scenario_quench` (``quench``),
-:mod:`fringe.io.scenario_implants` (``implant_condition``) and
-:mod:`fringe.io.scenario_moving` (``moving_steel``, and ``[site] background_field_uT``); magnets
+:mod:`fringe.io.scenario_implants` (``implant_condition``),
+:mod:`fringe.io.scenario_moving` (``moving_steel``, and ``[site] background_field_uT``) and
+:mod:`fringe.io.scenario_drawing` (``drawing``); magnets
 given by data-sheet numbers by :mod:`fringe.io.scenario_datasheet`
 (:data:`MAGNET_BUILDERS`); room files by the loaders of :data:`ROOM_LOADERS`. Each of
 those modules reads its tables with :class:`fringe.io.reader.Reader` and knows nothing
@@ -29,6 +30,8 @@ from typing import Any
 from fringe.io.dxf import load_dxf_rooms
 from fringe.io.reader import Reader
 from fringe.io.scenario_datasheet import DATASHEET_KEY, parse_datasheet
+from fringe.io.scenario_drawing import SECTION_KEY as DRAWING_KEY
+from fringe.io.scenario_drawing import parse_drawing
 from fringe.io.scenario_implants import SECTION_KEY as IMPLANT_KEY
 from fringe.io.scenario_implants import parse_implant_conditions
 from fringe.io.scenario_moving import SECTION_KEY as MOVING_KEY
@@ -54,7 +57,8 @@ __all__ = ["load_site", "parse_site", "TOP_LEVEL_KEYS", "MAGNET_BUILDERS", "ROOM
 #: Every top-level key of a scenario, in the order its section is parsed (``room_file``
 #: is read together with ``room``). Any other key is refused with a "did you mean".
 TOP_LEVEL_KEYS: tuple[str, ...] = ("site", "magnet", "plan", "floor", "room", "room_file",
-                                   "equipment", QUENCH_KEY, IMPLANT_KEY, MOVING_KEY)
+                                   "equipment", QUENCH_KEY, IMPLANT_KEY, MOVING_KEY,
+                                   DRAWING_KEY)
 
 #: Parsers for alternative magnet descriptions (e.g. data-sheet numbers), keyed by the
 #: sub-table name that selects them. Each takes the magnet Reader and the magnet's name
@@ -243,11 +247,13 @@ def parse_site(data: dict, file: str | Path = "<scenario>") -> Site:
     quench = parse_quench_section(root, mags)
     implants = parse_implant_conditions(root)
     moving = parse_moving_steel(root)
+    drawing = parse_drawing(root)
     root.finish()
     return Site(site_info.get("name", "unnamed site"), mags, file, plan=plan, floors=floors,
                 rooms=rooms, equipment=equipment, room_drawings=drawings, quench=quench,
                 implant_conditions=implants, moving_steel=moving,
-                background_field_uT=site_info.get("background_field_uT"))
+                background_field_uT=site_info.get("background_field_uT"),
+                drawing=drawing)
 
 
 def load_site(path: str | Path) -> Site:

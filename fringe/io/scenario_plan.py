@@ -117,10 +117,11 @@ def parse_plan(root: Reader) -> PlanSettings:
         exposure = tuple(dict.fromkeys(ex))
     gradient_lines = _gradient_lines(r)
     show_gauss = r.boolean("show_gauss", False)
+    north = r.number("north_deg", 0.0, low=-360.0, high=360.0)
     r.finish()
     return PlanSettings(boundary, with_boundary(th, boundary.value_mT), step, band_step,
                         band, extent, exposure, gradient_lines_T_per_m=gradient_lines,
-                        show_gauss=show_gauss)
+                        show_gauss=show_gauss, north_deg=float(north))
 
 
 def _positive_numbers(r: Reader, key: str, default, unit: str) -> list:
@@ -418,7 +419,8 @@ def parse_rooms(root: Reader, file: Path, floors: tuple[Floor, ...],
         loaded = list(getattr(result, "rooms", result))
         if fmt == "dxf":  # the report draws its walls and writes its zones back into it
             drawings.append(RoomDrawing(str(p), tuple(sorted({rm.floor for rm in loaded})),
-                                        tuple(result.offset_m), tuple(result.walls)))
+                                        tuple(result.offset_m), tuple(result.walls),
+                                        float(getattr(result, "rotation_deg", 0.0))))
         for j, room in enumerate(loaded):
             check_floor(room.floor, f"{fr.key('path')} → room {room.name!r} floor", fr.file)
             rooms.append((room, f"{fr.key('path')} → features[{j}].properties.name"))

@@ -20,6 +20,7 @@ from fringe.model.magnet import Magnet
 from fringe.model.steel import InducedField, MovingSteel, SteelPart
 
 __all__ = ["Site", "SitePlan", "PlanSettings", "RoomDrawing", "QuenchInputs", "site_plan",
+           "DrawingSettings", "PAPER_SIZES_MM", "STANDARD_SCALES", "DEFAULT_PAPER",
            "default_settings", "with_boundary", "DEFAULT_BOUNDARY", "DEFAULT_GRID_STEP_M",
            "DEFAULT_BAND_STEP_M", "DEFAULT_BAND_M", "DEFAULT_FLOOR"]
 
@@ -61,6 +62,10 @@ class PlanSettings:
         ``fringe.physics.exposure.EXPOSURE_LIMITS``); None for all of them, ``()`` for none.
     show_gauss : bool
         Print field values on the sheets also in gauss, in brackets (``[plan] show_gauss``).
+    north_deg : float
+        Direction of true (or project) north on the plans, degrees from the site +y axis,
+        counter-clockwise positive (``[plan] north_deg``; 0: north is +y, 90: north
+        points to −x). Only the north arrow turns; the site frame stays as it is.
     """
 
     boundary: Boundary
@@ -72,6 +77,53 @@ class PlanSettings:
     exposure_lines: tuple[str, ...] | None = None
     gradient_lines_T_per_m: tuple[float, ...] = DEFAULT_GRADIENT_LINES_T_PER_M
     show_gauss: bool = False
+    north_deg: float = 0.0
+
+
+#: ISO 216 A-series paper sizes, (short side, long side) in mm. The sheets are landscape.
+PAPER_SIZES_MM: dict[str, tuple[float, float]] = {
+    "A0": (841.0, 1189.0), "A1": (594.0, 841.0), "A2": (420.0, 594.0),
+    "A3": (297.0, 420.0), "A4": (210.0, 297.0)}
+#: Paper of the sheets when ``[drawing] paper`` is not given.
+DEFAULT_PAPER: str = "A3"
+#: Drawing scales (the n of 1:n) the sheets choose from, largest drawing first. ISO
+#: 5455:1979, clause 5.1 (table of recommended scales): full size 1:1 and the reductions
+#: 1:2, 1:5, 1:10, 1:20, 1:50, 1:100, 1:200, 1:500, 1:1000, 1:2000, 1:5000, 1:10000.
+#: 1:25 and 1:250 are intermediate scales, which its note allows "in exceptional cases";
+#: building drawings use them often (common practice, no source), so they are offered
+#: too. Plans and sections of a building take 1:20 to 1:1000; the smaller n serve
+#: close-ups (the gradient maps round a bore).
+STANDARD_SCALES: tuple[int, ...] = (1, 2, 5, 10, 20, 25, 50, 100, 200, 250, 500, 1000, 2000,
+                                    5000, 10000)
+
+
+@dataclass(frozen=True)
+class DrawingSettings:
+    """The ``[drawing]`` table: what the title block of every sheet says, and the paper.
+
+    Attributes
+    ----------
+    number, revision, status : str
+        Drawing number, revision and status (e.g. "FR-0101", "B", "for approval");
+        empty when not given (the title block then leaves the box blank).
+    drawn_by, checked_by, approved_by : str
+        Names printed in the sign-off boxes; empty: the box is left blank to be filled
+        in by hand. The date boxes beside them are always left blank for signing.
+    paper : str
+        ISO 216 paper of the sheets, a key of :data:`PAPER_SIZES_MM` (landscape).
+    scale : int or None
+        The n of the stated drawing scale 1:n for plans and sections; None: each sheet
+        takes the largest drawing (smallest n of :data:`STANDARD_SCALES`) that fits.
+    """
+
+    number: str = ""
+    revision: str = ""
+    status: str = ""
+    drawn_by: str = ""
+    checked_by: str = ""
+    approved_by: str = ""
+    paper: str = DEFAULT_PAPER
+    scale: int | None = None
 
 
 def with_boundary(thresholds_mT: Iterable[float], boundary_mT: float) -> tuple[float, ...]:
@@ -101,12 +153,16 @@ class RoomDrawing:
         Its ``offset_m`` (drawing origin in the site frame, m).
     walls : tuple of shapely geometry
         Lines and outlines on its wall layers, site metres (drawn on the plan sheets).
+    rotation_deg : float
+        Its ``rotation_deg`` (turn about the drawing origin before the offset, degrees
+        counter-clockwise).
     """
 
     path: str
     floors: tuple[str, ...]
     offset_m: tuple[float, float]
     walls: tuple = ()
+    rotation_deg: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -185,6 +241,8 @@ class Site:
     background_field_uT : tuple of 3 float or None
         ``[site] background_field_uT``: a uniform background field (the Earth's) in µT,
         site frame; None when not given.
+    drawing : DrawingSettings
+        The ``[drawing]`` table (title-block fields, paper and scale; defaults when absent).
     induced : InducedField or None
         The solved response of :attr:`steel` to the magnets (None until solved:
         a loaded scenario is free space until the analysis solves its steel).
@@ -203,6 +261,7 @@ class Site:
     steel: tuple[SteelPart, ...] = ()
     moving_steel: tuple[MovingSteel, ...] = ()
     background_field_uT: tuple[float, float, float] | None = None
+    drawing: DrawingSettings = field(default_factory=DrawingSettings)
     induced: InducedField | None = field(default=None, compare=False, repr=False)
 
     def magnet(self, name: str) -> Magnet:

@@ -45,6 +45,7 @@ from shapely.ops import polylabel
 from fringe.analysis.geometry import footprint_rectangle
 from fringe.model.constants import DEFAULT_THRESHOLDS_MT
 from fringe.model.errors import FringeInputError, must_be
+from fringe.model.site import STANDARD_SCALES
 from fringe.model.verdict import Verdict
 from fringe.render.paths import MovingSteelMark, draw_moving_steel, mark_geometries
 from fringe.render.sheet import (
@@ -66,7 +67,9 @@ from fringe.render.sheet import (
     format_mT,
     format_value,
     number_sheets,
+    paper_size_in,
     save_figure,
+    sheet_title,
     table_sheet,
     tables_sheets,
     write_pdf,
@@ -81,13 +84,14 @@ __all__ = [
     "section_sheet", "curve_sheet", "table_sheet", "tables_sheets", "cover_sheet",
     "save_figure", "write_pdf", "number_sheets", "footprint_rectangle", "format_value",
     "format_field", "format_mT",
-    "scale_bar_length_m",
+    "scale_bar_length_m", "drawing_scale", "paper_size_in", "sheet_title",
 ]
 
 
 _EXPOSURE_COLOR = HAZARD_COLOR
 _EXPOSURE_STYLES = [(0, (7, 2, 1.5, 2)), (0, (4, 1.5)), (0, (1.2, 1.5)), (0, (9, 3))]
-_MAIN = (0.055, 0.185, 0.655, 0.775)
+_MAIN = (0.042, 0.185, 0.670, 0.775)
+_KEY_LEFT = 0.738  # left edge of the key column (fringe.render.sheet), figure fraction
 
 
 @dataclass(frozen=True)
@@ -1110,12 +1114,13 @@ def _below_axes(ax, fig):
         ax.transData, Affine2D().translate(0, bottom_in) + fig.dpi_scale_trans)
 
 
-def _draw_scale_bar(ax, x_range, y_range, renderer) -> Bbox:
+def _draw_scale_bar(ax, x_range, y_range, renderer, scale_text: str = "") -> Bbox:
     """Scale bar under the lower-left corner of the drawing, outside it.
 
     The bar is ``scale_bar_length_m`` long in the drawing's data metres (x follows the
     map's data transform exactly), in four alternating segments (artists with gid
-    "scale-bar-0" ... "scale-bar-3"), so it stays true at any print size. Returns its
+    "scale-bar-0" ... "scale-bar-3"), so it stays true at any print size; beside it the
+    stated scale ("scale 1:100 at A3, printed at 100 %", gid "scale-ratio"). Returns its
     box in display px.
     """
     del y_range
@@ -1137,31 +1142,85 @@ def _draw_scale_bar(ax, x_range, y_range, renderer) -> Bbox:
     ax.text(x0, y0 + h + 0.03, "0", ha="center", va="bottom", **kw)
     ax.text(x0 + length, y0 + h + 0.03, f"{format_value(length)} m", ha="center",
             va="bottom", gid="scale-bar-label", **kw)
-    width_in = ax.get_position().width * fig.get_figwidth()
-    ratio = span / (width_in * 0.0254)  # metres of site per metre of paper on A3
-    ax.text(x0 + length + 0.02 * span, y0 + h / 2, f"scale about 1:{ratio:.0f} on A3 paper",
+    if not scale_text:  # not sized to a scale: say what it comes to on this paper
+        width_in = ax.get_position().width * fig.get_figwidth()
+        scale_text = f"about 1:{span / (width_in * 0.0254):.0f}"
+    ax.text(x0 + length + 0.02 * span, y0 + h / 2,
+            f"scale {scale_text}, printed at 100 %",
             ha="left", va="center", color="0.3", gid="scale-ratio", **{**kw,
                                                                       "fontsize": 6.5})
     return Bbox.union([r.get_window_extent(renderer) for r in segs])
 
 
-def _draw_north_arrow(ax, renderer) -> Bbox:
-    """North arrow (site y is north) just right of the drawing's top-right corner."""
+def _draw_north_arrow(ax, renderer, north_deg: float = 0.0) -> Bbox:
+    """North arrow just right of the drawing's top-right corner, outside it.
+
+    ``north_deg`` is the direction of north measured from the site's +y axis,
+    counter-clockwise positive (``[plan] north_deg``): 0 points the arrow up the sheet,
+    90 to the left (west of the sheet), -90 to the right. The "N" sits beyond the arrow
+    head and stays upright. Returns the box of the "N" in display px.
+    """
     fig = ax.get_figure()
-    tr = ax.transAxes + ScaledTranslation(0.16, 0, fig.dpi_scale_trans)
-    ax.annotate("", xy=(1.0, 1.0), xytext=(1.0, 1.0), xycoords=tr, textcoords=(
-        ax.transAxes + ScaledTranslation(0.16, -0.45, fig.dpi_scale_trans)),
-        arrowprops={"arrowstyle": "-|>,head_width=0.4,head_length=0.8", "color": _INK,
-                    "linewidth": 1.6, "shrinkA": 0, "shrinkB": 0},
-        zorder=11, annotation_clip=False)
-    t = ax.text(1.0, 1.0, "N", transform=ax.transAxes + ScaledTranslation(
-        0.16, -0.50, fig.dpi_scale_trans), ha="center", va="top", fontsize=10,
-        fontweight="bold", zorder=11, clip_on=False)
+    a = math.radians(north_deg)
+    ux, uy = -math.sin(a), math.cos(a)  # unit vector of north on the sheet
+    half, r_n, n_w = 0.17, 0.30, 0.07  # inches: half the arrow, centre to "N", half its width
+    # centred between the drawing and the key column (at most 0.75 in right of the
+    # drawing), shrunk down to 55 % when an arrow pointing sideways would not fit
+    gap_l = 0.06
+    gap_r = min(0.75, (_KEY_LEFT - ax.get_position().x1) * fig.get_figwidth() - 0.06)
+    lo = min(-half * ux, half * ux, r_n * ux - n_w)
+    hi = max(-half * ux, half * ux, r_n * ux + n_w)
+    f = max(0.55, min(1.0, (gap_r - gap_l) / (hi - lo)))
+    half, r_n = half * f, r_n * f
+    cx = (gap_l + gap_r) / 2 - (lo + hi) * f / 2
+    cy = -0.42
+
+    def at(dx: float, dy: float):
+        return ax.transAxes + ScaledTranslation(cx + dx, cy + dy, fig.dpi_scale_trans)
+
+    ax.annotate("", xy=(1.0, 1.0), xytext=(1.0, 1.0), xycoords=at(half * ux, half * uy),
+                textcoords=at(-half * ux, -half * uy),
+                arrowprops={"arrowstyle": "-|>,head_width=0.4,head_length=0.8",
+                            "color": _INK, "linewidth": 1.6, "shrinkA": 0, "shrinkB": 0},
+                zorder=11, annotation_clip=False, gid="north-arrow")
+    t = ax.text(1.0, 1.0, "N", transform=at(r_n * ux, r_n * uy), ha="center",
+                va="center", fontsize=10, fontweight="bold", zorder=11, clip_on=False,
+                gid="north-label")
     return t.get_window_extent(renderer)
 
 
-def _setup_map_axes(fig, x, y, x_label, y_label):
-    ax = fig.add_axes(_MAIN, label="map")
+def drawing_scale(info: SheetInfo, x_span_m: float, y_span_m: float
+                  ) -> tuple[int, str]:
+    """The scale 1:n a map of ``x_span_m`` × ``y_span_m`` is drawn at, and a note.
+
+    The stated ``info.drawing.scale`` when the map fits the drawing area of the paper at
+    it; otherwise (or when none is stated) the smallest n of
+    :data:`fringe.model.site.STANDARD_SCALES` (the largest drawing) at which it fits. The
+    note (empty when the stated scale is kept or none was stated) says why another scale
+    was taken. Beyond 1:10000 n is rounded up to a whole number.
+    """
+    paper = info.drawing.paper
+    w_in, h_in = paper_size_in(paper)
+    need = max(x_span_m / (_MAIN[2] * w_in * 0.0254), y_span_m / (_MAIN[3] * h_in * 0.0254))
+    stated = info.drawing.scale
+    if stated is not None and stated >= need * (1 - 1e-9):
+        return stated, ""
+    n = next((v for v in STANDARD_SCALES if v >= need * (1 - 1e-9)), math.ceil(need))
+    note = ("" if stated is None else f"Drawn at 1:{n}: at the stated 1:{stated} this "
+            f"drawing ({x_span_m:.3g} m × {y_span_m:.3g} m) does not fit {paper} paper.")
+    return n, note
+
+
+def _setup_map_axes(fig, x, y, x_label, y_label, scale_n: int | None = None):
+    """The map axes; with ``scale_n`` sized so that 1 m of the map is 1000/scale_n mm on
+    the paper (centred in the drawing area), else fitted to the area."""
+    if scale_n is None:
+        ax = fig.add_axes(_MAIN, label="map")
+    else:
+        w_fr = (x[-1] - x[0]) * 1000.0 / scale_n / 25.4 / fig.get_figwidth()
+        h_fr = (y[-1] - y[0]) * 1000.0 / scale_n / 25.4 / fig.get_figheight()
+        ax = fig.add_axes((_MAIN[0] + (_MAIN[2] - w_fr) / 2, _MAIN[1] + (_MAIN[3] - h_fr) / 2,
+                           w_fr, h_fr), label="map")
     ax.set_xlim(x[0], x[-1])
     ax.set_ylim(y[0], y[-1])
     ax.set_aspect("equal", adjustable="box", anchor="C")
@@ -1194,7 +1253,8 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
               band_alpha: float = 0.62, log_contours: bool | None = None,
               x_label: str = "x (east), m", y_label: str = "y (north), m",
               north_arrow: bool = True, palette=None, show_gauss: bool = False,
-              moving_steel: Sequence[MovingSteelMark] = ()) -> Figure:
+              moving_steel: Sequence[MovingSteelMark] = (),
+              north_deg: float = 0.0) -> Figure:
     """A plan sheet of any scalar map: filled bands between levels and labelled lines.
 
     Parameters
@@ -1242,11 +1302,16 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
         brackets (``[plan] show_gauss``; 1 mT = 10 G).
     moving_steel : sequence of MovingSteelMark
         Moving-steel paths coloured by their disturbance (:mod:`fringe.render.paths`).
+    north_deg : float
+        Direction of north from the +y axis, degrees counter-clockwise (``[plan]
+        north_deg``); turns the north arrow only.
 
     Returns
     -------
     matplotlib.figure.Figure
-        A3 landscape; no pyplot state is touched.
+        On ``info.drawing.paper`` (landscape), drawn to scale: the map axes measure
+        1000/n mm per metre at the scale 1:n of :func:`drawing_scale`, stated in the
+        title block and beside the scale bar; no pyplot state is touched.
 
     Raises
     ------
@@ -1265,9 +1330,11 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     elif log_contours and np.any(lv <= 0):
         raise FringeInputError(must_be("levels", "all positive when log_contours is True",
                                        list(lv)))
-    fig = _new_figure()
-    _draw_frame(fig, info, kind="plan")
-    ax = _setup_map_axes(fig, x, y, x_label, y_label)
+    scale_n, scale_note = drawing_scale(info, x[-1] - x[0], y[-1] - y[0])
+    scale_text = f"1:{scale_n} at {info.drawing.paper}"
+    fig = _new_figure(info)
+    _draw_frame(fig, info, kind="plan", scale_text=scale_text)
+    ax = _setup_map_axes(fig, x, y, x_label, y_label, scale_n)
     renderer = _renderer(fig)
     entries, line_sets = _draw_bands(ax, x, y, v, list(lv), unit=unit,
                                      boundary_level=boundary_level,
@@ -1294,9 +1361,9 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     entries += room_entries + mag_entries
     occupied = [t.get_window_extent(renderer) for t in room_texts + mag_texts
                 if t.get_text()]
-    occupied.append(_draw_scale_bar(ax, (x[0], x[-1]), (y[0], y[-1]), renderer))
+    occupied.append(_draw_scale_bar(ax, (x[0], x[-1]), (y[0], y[-1]), renderer, scale_text))
     if north_arrow:
-        occupied.append(_draw_north_arrow(ax, renderer))
+        occupied.append(_draw_north_arrow(ax, renderer, north_deg))
     entries += draw_moving_steel(ax, renderer, moving_steel, occupied)
     for e in equipment:
         if isinstance(e, EquipmentMark):
@@ -1316,7 +1383,8 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     _eq_texts, eq_entries = _draw_equipment(ax, renderer, equipment, occupied, walls)
     entries += eq_entries
     _draw_key_column(fig, [h for h, _ in entries], [lb for _, lb in entries],
-                     f"{quantity} in {unit}", list(info.notes) + list(notes))
+                     f"{quantity} in {unit}", list(info.notes) + list(notes)
+                     + ([scale_note] if scale_note else []))
     return fig
 
 
@@ -1334,7 +1402,8 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
                rooms: Sequence[RoomMark] = (), equipment: Sequence[EquipmentMark] = (),
                magnets: Sequence = (), overlays: Sequence = (), notes: Sequence[str] = (),
                cmap: str | None = None, show_gauss: bool = False,
-               moving_steel: Sequence[MovingSteelMark] = ()) -> Figure:
+               moving_steel: Sequence[MovingSteelMark] = (),
+               north_deg: float = 0.0) -> Figure:
     """Floor plan of the field magnitude in mT, with rooms, equipment and the boundary.
 
     Parameters
@@ -1364,6 +1433,8 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
         brackets, e.g. "0.5 to 1 mT (5 to 10 G)" (``[plan] show_gauss``; 1 mT = 10 G).
     moving_steel : sequence of MovingSteelMark
         Moving-steel paths on this floor, as :func:`map_sheet`.
+    north_deg : float
+        As :func:`map_sheet`.
 
     Returns
     -------
@@ -1389,7 +1460,8 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
                      equipment=equipment, magnets=magnets, overlays=overlays, notes=notes,
                      cmap=cmap, log_contours=True,
                      palette=threshold_color if cmap is None else None,
-                     show_gauss=show_gauss, moving_steel=moving_steel)
+                     show_gauss=show_gauss, moving_steel=moving_steel,
+                     north_deg=north_deg)
 
 
 def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
@@ -1439,9 +1511,11 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
                  + ": controlled access area boundary")
     vm = v * 1e3
     info = _with_boundary_note(info, boundary_mT)
-    fig = _new_figure()
-    _draw_frame(fig, info, kind="section")
-    ax = _setup_map_axes(fig, s, z, s_label, "z (up), m")
+    scale_n, scale_note = drawing_scale(info, s[-1] - s[0], z[-1] - z[0])
+    scale_text = f"1:{scale_n} at {info.drawing.paper}"
+    fig = _new_figure(info)
+    _draw_frame(fig, info, kind="section", scale_text=scale_text)
+    ax = _setup_map_axes(fig, s, z, s_label, "z (up), m", scale_n)
     renderer = _renderer(fig)
     entries, line_sets = _draw_bands(ax, s, z, vm, list(lv), unit="mT",
                                      boundary_level=boundary_mT, boundary_label=label,
@@ -1457,11 +1531,12 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
     exposure_entries, exposure_sets, sources = _draw_exposure_lines(ax, s, z, vm,
                                                                     exposure_lines)
     entries += exposure_entries
-    occupied.append(_draw_scale_bar(ax, (s[0], s[-1]), (z[0], z[-1]), renderer))
+    occupied.append(_draw_scale_bar(ax, (s[0], s[-1]), (z[0], z[-1]), renderer, scale_text))
     _label_lines(ax, renderer, line_sets[:1] + exposure_sets + line_sets[1:], occupied)
     src_notes = [f"Exposure lines: {src}." for src in sources]
     _draw_key_column(fig, [h for h, _ in entries], [lb for _, lb in entries],
-                     "|B| in mT", list(info.notes) + list(notes) + src_notes)
+                     "|B| in mT", list(info.notes) + list(notes) + src_notes
+                     + ([scale_note] if scale_note else []))
     return fig
 
 

@@ -73,12 +73,12 @@ def energy_density_sheets(site, magnets=None, levels=DEFAULT_ENERGY_LEVELS_J_PER
                              subtitle=("horizontal plane at the magnet centre height"
                                        if kind == "plan" else
                                        "vertical plane through the centre along the axis"),
-                             magnets=(m.name,))
+                             magnets=(m.name,), drawing=site.drawing)
             fig = map_sheet(mp.u_m, mp.v_m, mp.energy_density_J_per_m3, levels, info,
                             unit="J/m³", quantity="u", notes=notes_for[kind],
                             magnets=outlines if kind == "plan" else (),
                             windings=windings if kind == "section" else (),
                             x_label=labels[0], y_label=labels[1],
-                            north_arrow=kind == "plan")
+                            north_arrow=kind == "plan", north_deg=site.plan.north_deg)
             sheets.append((f"energy-{kind}-{name}", fig))
     return sheets

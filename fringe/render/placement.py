@@ -133,12 +133,13 @@ def placement_sheet(site, result, equipment: list[dict]) -> Figure:
                                  f"{result.region_label}",
                         magnets=(result.magnet.name,),
                         boundary_note=f"Controlled access area boundary: "
-                                      f"{result.boundary_mT:g} mT")
+                                      f"{result.boundary_mT:g} mT",
+                        drawing=site.drawing)
     return dr.plan_sheet(fm.x_m, fm.y_m, fm.envelope_T, info,
                          thresholds_mT=result.levels_mT, boundary_mT=result.boundary_mT,
                          rooms=rooms, equipment=eq,
                          magnets=[dr.MagnetOutline(mb.name, magnet_plan_outline(mb))],
-                         overlays=overlays, notes=notes)
+                         overlays=overlays, notes=notes, north_deg=site.plan.north_deg)
 
 
 def write_placement_outputs(site, result, equipment: list[dict], doc: dict,
@@ -146,10 +147,11 @@ def write_placement_outputs(site, result, equipment: list[dict], doc: dict,
     """Write place.json (``doc``), best-magnet.toml (``doc["magnet_block"]``) and the plan
     sheet place-plan.png/.svg into ``out_dir``, replaced whole and atomically; returns the
     file names."""
-    from fringe.render.drawing import save_figure
+    from fringe.render.drawing import number_sheets, save_figure
 
     check_output_folder(out_dir, scenario_file=site.source_file, marker="place.json")
     fig = placement_sheet(site, result, equipment)
+    number_sheets([fig])  # a set of one: "1 of 1"
     with atomic_directory(out_dir) as tmp:
         (tmp / "place.json").write_text(json.dumps(doc, indent=2, ensure_ascii=False)
                                         + "\n", "utf-8")

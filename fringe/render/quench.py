@@ -35,15 +35,21 @@ _MODEL_NOTES: tuple[str, ...] = (
 
 
 def _info(b: QuenchBudget, site_name: str, title: str, subtitle: str,
-          date_iso: str | None) -> SheetInfo:
-    kw = {} if date_iso is None else {"date_iso": date_iso}
+          date_iso: str | None, drawing=None) -> SheetInfo:
+    kw: dict = {} if date_iso is None else {"date_iso": date_iso}
+    if drawing is not None:
+        kw["drawing"] = drawing
+    if b.magnet:  # one budget per magnet: each sheet's title names it
+        title = f"{title} of {b.magnet}"
     return SheetInfo(site_name=site_name, title=title, subtitle=subtitle,
                      magnets=(b.magnet,) if b.magnet else (), notes=_MODEL_NOTES, **kw)
 
 
 def quench_decay_sheet(b: QuenchBudget, site_name: str, *, date_iso: str | None = None,
-                       n_points: int = 301) -> Figure | None:
+                       n_points: int = 301, drawing=None) -> Figure | None:
     """The dump-resistor decay: I(t) and the energy left in the magnet and dumped.
+
+    ``drawing`` (a :class:`fringe.model.site.DrawingSettings`) fills the title block.
 
     Returns
     -------
@@ -74,25 +80,30 @@ def quench_decay_sheet(b: QuenchBudget, site_name: str, *, date_iso: str | None 
     ]
     info = _info(b, site_name, "Quench: dump-resistor decay",
                  f"R_dump = {d.dump_ohm:g} Ω, R_magnet = {d.magnet_resistance_ohm:g} Ω, "
-                 f"L = {d.inductance_H:.4g} H", date_iso)
+                 f"L = {d.inductance_H:.4g} H", date_iso, drawing)
     return curve_sheet(panels, info, notes=list(b.cautions))
 
 
-def quench_sheets(b: QuenchBudget, site_name: str, *, date_iso: str | None = None) -> list:
-    """The budget table sheet(s) and, with a dump circuit, the decay sheet."""
+def quench_sheets(b: QuenchBudget, site_name: str, *, date_iso: str | None = None,
+                  drawing=None) -> list:
+    """The budget table sheet(s) and, with a dump circuit, the decay sheet.
+
+    ``drawing`` (a :class:`fringe.model.site.DrawingSettings`) fills the title blocks.
+    """
     info = _info(b, site_name, "Quench release budget",
-                 f"{b.helium_L:g} L liquid helium, room {b.room_volume_m3:g} m³", date_iso)
+                 f"{b.helium_L:g} L liquid helium, room {b.room_volume_m3:g} m³", date_iso,
+                 drawing)
     figs = list(table_sheet("Quench release budget (advisory estimate)",
                             ("quantity", "value", "unit", "basis"),
                             budget_table_rows(b), info, notes=list(b.cautions)))
-    decay = quench_decay_sheet(b, site_name, date_iso=date_iso)
+    decay = quench_decay_sheet(b, site_name, date_iso=date_iso, drawing=drawing)
     if decay is not None:
         figs.append(decay)
     return figs
 
 
 def write_quench_pdf(b: QuenchBudget, site_name: str, path, *,
-                     date_iso: str | None = None) -> Path:
+                     date_iso: str | None = None, drawing=None) -> Path:
     """Write :func:`quench_sheets` to one PDF (atomically); returns the path."""
-    return write_pdf(quench_sheets(b, site_name, date_iso=date_iso), path,
+    return write_pdf(quench_sheets(b, site_name, date_iso=date_iso, drawing=drawing), path,
                      title=f"Quench release budget — {site_name}")

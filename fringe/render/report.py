@@ -109,12 +109,32 @@ def write_zone_drawings(r: ReportResult, folder: str | Path) -> list[Path]:
             zones[ATTRACTION_LAYER] = fa.geometry
             notes.append(f"{ATTRACTION_LAYER}: {fa.criterion}")
         source = next((d for d in site_drawings if name in d.floors), None)
+        if source is not None and source.rotation_deg:
+            zones, texts = _unturned(zones, texts, source)
         path = Path(folder) / f"zones-{slug(name, taken)}.dxf"
         write_zones_dxf(path, zones, template=None if source is None else source.path,
                         offset_m=(0.0, 0.0) if source is None else source.offset_m,
                         notes="\n".join(notes), boundary_layer=zones_b, texts=texts)
         written.append(path)
     return written
+
+
+def _unturned(zones: dict, texts: dict, source) -> tuple[dict, dict]:
+    """Site geometries turned back by the drawing's ``rotation_deg`` about its offset
+    point, so that the template's own transform (scale and offset) puts them in its frame:
+    ``drawing = R(−rotation)·(site − offset) / metres_per_unit``."""
+    import shapely.affinity
+
+    ang, origin = -source.rotation_deg, tuple(source.offset_m)
+    turned = {k: shapely.affinity.rotate(g, ang, origin=origin) for k, g in zones.items()}
+    a = math.radians(ang)
+    c, s_ = math.cos(a), math.sin(a)
+
+    def back(xy):
+        dx, dy = xy[0] - origin[0], xy[1] - origin[1]
+        return (origin[0] + c * dx - s_ * dy, origin[1] + s_ * dx + c * dy)
+
+    return turned, {k: [(t, back(xy)) for t, xy in v] for k, v in texts.items()}
 
 
 #: Half-diagonal of the diamond drawn for point equipment in the DXF drawings, m.
@@ -215,9 +235,12 @@ def _sheet_base(r: ReportResult) -> dict:
     mag_names = tuple(m.name for m in r.magnets)
     model_notes = tuple(f"{m.name}: {m.description}" for m in r.magnets
                         if m.origin != "coils" and m.description)
-    return dict(site_name=r.site_name, magnets=mag_names, date_iso=r.created_utc[:10],
+    base = dict(site_name=r.site_name, magnets=mag_names, date_iso=r.created_utc[:10],
                 tool_version=f"fringe {r.version}", boundary_note=_boundary_note(r),
                 notes=model_notes)
+    if r.site is not None:  # the [drawing] table: title-block fields, paper, scale
+        base["drawing"] = r.site.drawing
+    return base
 
 
 def _cover_facts(r: ReportResult) -> list[tuple[str, str]]:
@@ -287,17 +310,20 @@ def _cover_findings(r: ReportResult) -> list[str]:
     return findings
 
 
-def _cover_sheet(r: ReportResult, base: dict):
-    """The cover: key facts and findings."""
+_COVER_TITLE = "Static stray field: controlled-zone drawings and checks"
+
+
+def _cover_sheet(r: ReportResult, base: dict, contents=()):
+    """The cover: key facts, findings and the contents (every sheet's title, numbered)."""
     from fringe.render import drawing as dr
 
     return dr.cover_sheet(
-        dr.SheetInfo(title="Static stray field: controlled-zone drawings and checks",
+        dr.SheetInfo(title=_COVER_TITLE,
                      subtitle="Footprints are the largest |B| over each floor's occupied "
                               "band, outside the cryostat; verdicts per room, equipment "
                               "item and floor; the storey up to its ceiling is checked too",
                      **base),
-        _cover_facts(r), _cover_findings(r))
+        _cover_facts(r), _cover_findings(r), contents=contents)
 
 
 def _ceiling_note(r: ReportResult, room: str) -> str:
@@ -430,7 +456,8 @@ def _plan_sheet(r: ReportResult, name: str, fm, base: dict, site_mags: dict, roo
                          thresholds_mT=r.thresholds_mT, boundary_mT=r.boundary.value_mT,
                          rooms=rooms, equipment=equip, magnets=mags, overlays=overlays,
                          notes=_plan_notes(r, name, fm) + moving_notes,
-                         show_gauss=r.plan.settings.show_gauss, moving_steel=moving)
+                         show_gauss=r.plan.settings.show_gauss, moving_steel=moving,
+                         north_deg=r.plan.settings.north_deg)
 
 
 def _reversal_note(sec, magnet) -> list[str]:
@@ -588,7 +615,7 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
     say = say or (lambda msg: None)
     base = _sheet_base(r)
     site_mags = {m.name: m for m in r.site.magnets} if r.site is not None else {}
-    sheets: list[tuple[str | None, object]] = [(None, _cover_sheet(r, base))]
+    sheets: list[tuple[str | None, object]] = []  # the cover goes first, made last
     room_drawings = () if r.site is None else r.site.room_drawings
     taken: set[str] = set()
     for name, fm in r.floor_maps.items():
@@ -608,9 +635,13 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
     for b in r.quench:
         say(f"drawing the quench release budget of {b.magnet!r}")
         sheets.extend((None, f) for f in quench_sheets(b, r.site_name,
-                                                      date_iso=r.created_utc[:10]))
+                                                      date_iso=r.created_utc[:10],
+                                                      drawing=base.get("drawing")))
     info_t = dr.SheetInfo(title="Tables: rooms, equipment, field-line extents", **base)
-    return sheets + [(None, f) for f in dr.tables_sheets(_tables(r), info_t)]
+    sheets += [(None, f) for f in dr.tables_sheets(_tables(r), info_t)]
+    # the cover lists every sheet by its number ("1" is the cover itself)
+    contents = [_COVER_TITLE] + [dr.sheet_title(f) for _, f in sheets]
+    return [(None, _cover_sheet(r, base, contents))] + sheets
 
 
 def _write_drawings(r: ReportResult, folder: Path, say) -> None:

@@ -1,14 +1,16 @@
 """Sheet frame and the non-map sheets: curves, tables, cover; saving and PDF sets.
 
-Every sheet fringe draws is an A3-landscape :class:`matplotlib.figure.Figure` built
-without pyplot (no global state, Agg canvas attached) and carries the same frame:
+Every sheet fringe draws is a landscape ISO 216 sheet (A3 unless ``SheetInfo.drawing.paper``
+says otherwise), a :class:`matplotlib.figure.Figure` of that size built without pyplot (no
+global state, Agg canvas attached), and carries the same frame:
 
 * a drawing area on the left;
 * a key column on the right (legend, contents, numbered notes);
 * the advisory notice (:data:`fringe.model.constants.ADVISORY_NOTICE`) in a boxed strip along
   the bottom left;
 * a title block in the bottom right (drawing title, subtitle, site, magnets, boundary
-  value and its source, date, tool version, sheet number).
+  value and its source; sign-off boxes for drawn, checked and approved, each with a date
+  box; drawing number, revision, status and scale; date, tool version, "k of N").
 
 Maps (plans and sections) live in :mod:`fringe.render.drawing`, which builds on this module and
 re-exports everything public here; import from :mod:`fringe.render.drawing`.
@@ -20,13 +22,16 @@ Public functions
 ``tables_sheets``   several tables stacked on as few sheets as they need
 ``cover_sheet``     the first sheet of a set
 ``save_figure``     one sheet to PNG/SVG/PDF, atomically
-``write_pdf``       a sheet set to one PDF, atomically, numbered "Sheet k of n"
-``number_sheets``   write "Sheet k of n" where a sheet number was left unset
+``write_pdf``       a sheet set to one PDF, atomically, numbered "k of n", one bookmark
+                    per sheet
+``number_sheets``   write "k of n" where a sheet number was left unset
 """
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as _dt
+import io
 import math
 import re
 import textwrap
@@ -43,9 +48,11 @@ from matplotlib.backends.backend_pdf import PdfPages
 from matplotlib.figure import Figure
 from matplotlib.patches import Rectangle
 
-from fringe.io.atomic import atomic_file
+from fringe.io.atomic import atomic_file, write_bytes_atomic
+from fringe.io.pdf_outline import add_outline
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import FringeInputError, must_be
+from fringe.model.site import PAPER_SIZES_MM, DrawingSettings
 from fringe.model.verdict import Verdict
 from fringe.render.style import INK_COLOR
 
@@ -53,7 +60,7 @@ __all__ = [
     "SheetInfo", "Curve", "CurvePanel", "A3_LANDSCAPE_IN", "PNG_DPI",
     "curve_sheet", "table_sheet", "tables_sheets", "cover_sheet", "save_figure",
     "write_pdf", "number_sheets", "format_value", "format_field",
-    "format_mT",
+    "format_mT", "paper_size_in", "sheet_title",
 ]
 
 
@@ -67,8 +74,8 @@ _INK = INK_COLOR  # near-black ink of text and lines (fringe.render.style)
 _SHEET_NUMBER_GID = "fringe-sheet-number"
 # Layout of every sheet, in figure fractions (left, bottom, width, height).
 _FRAME = (0.012, 0.015, 0.976, 0.97)
-_KEY = (0.738, 0.285, 0.238, 0.675)
-_TITLE = (0.738, 0.03, 0.238, 0.235)
+_KEY = (0.738, 0.38, 0.238, 0.58)
+_TITLE = (0.738, 0.03, 0.238, 0.33)
 _ADVISORY = (0.03, 0.03, 0.69, 0.085)
 _WIDE = (0.045, 0.16, 0.67, 0.79)  # table/curve area without map axis labels
 _TITLE_LINES = 2.2  # height of a table title, in table lines
@@ -112,7 +119,11 @@ class SheetInfo:
         Numbered notes printed in the key column (model assumptions, sources).
     sheet_number : str or None
         Printed as given; ``None`` lets :func:`write_pdf` / :func:`number_sheets` write
-        "Sheet k of n".
+        "k of n".
+    drawing : DrawingSettings
+        The ``[drawing]`` table: drawing number, revision, status and sign-off names for
+        the title block, the paper (ISO 216, landscape; the figure is that size) and the
+        stated scale of plans and sections (:class:`fringe.model.site.DrawingSettings`).
     """
 
     site_name: str
@@ -124,8 +135,15 @@ class SheetInfo:
     boundary_note: str = ""
     notes: tuple[str, ...] = ()
     sheet_number: str | None = None
+    drawing: DrawingSettings = field(default_factory=DrawingSettings)
 
     def __post_init__(self) -> None:
+        if not isinstance(self.drawing, DrawingSettings):
+            raise FringeInputError(must_be("drawing", "a fringe.model.site.DrawingSettings",
+                                           type(self.drawing).__name__))
+        if self.drawing.paper not in PAPER_SIZES_MM:
+            raise FringeInputError(must_be("drawing.paper", f"one of {list(PAPER_SIZES_MM)}",
+                                           self.drawing.paper))
         for name in ("magnets", "notes"):
             value = getattr(self, name)
             if isinstance(value, str):
@@ -227,19 +245,39 @@ def format_field(field_T: float, digits: int | None = None, show_gauss: bool = F
     return f"{num(b * 1e3)} mT{gauss}"
 
 
-def _new_figure() -> Figure:
-    fig = Figure(figsize=A3_LANDSCAPE_IN)
+def paper_size_in(paper: str = "A3") -> tuple[float, float]:
+    """Width and height of an ISO 216 sheet in landscape, inches.
+
+    >>> [round(v, 2) for v in paper_size_in("A3")]
+    [16.54, 11.69]
+    """
+    short, long = PAPER_SIZES_MM[paper]
+    return (long / 25.4, short / 25.4)
+
+
+def _new_figure(info: SheetInfo | None = None) -> Figure:
+    """A blank sheet of the paper ``info.drawing.paper`` (A3 without ``info``)."""
+    paper = info.drawing.paper if isinstance(info, SheetInfo) else "A3"
+    fig = Figure(figsize=paper_size_in(paper))
     FigureCanvasAgg(fig)
+    if isinstance(info, SheetInfo):
+        fig.set_label(info.title)  # the PDF bookmark and the cover's contents read it
     return fig
+
+
+def sheet_title(fig: Figure) -> str:
+    """The drawing title a sheet was made with (its PDF bookmark)."""
+    return str(fig.get_label() or "")
 
 
 def _renderer(fig: Figure):
     return fig.canvas.get_renderer()
 
 
-def _chars_for(width_frac: float, fontsize: float) -> int:
+def _chars_for(width_frac: float, fontsize: float, fig_width_in: float = A3_LANDSCAPE_IN[0]
+               ) -> int:
     """How many average characters of ``fontsize`` fit in a width (figure fraction)."""
-    width_pt = width_frac * A3_LANDSCAPE_IN[0] * 72
+    width_pt = width_frac * fig_width_in * 72
     return max(8, int(width_pt / (0.56 * fontsize)))
 
 
@@ -254,14 +292,18 @@ def _short(a) -> str:
     return f"array of shape {arr.shape}"
 
 
-def _draw_frame(fig: Figure, info: SheetInfo, *, kind: str) -> None:
-    """Border, title block and advisory strip: the parts every sheet shares."""
+def _draw_frame(fig: Figure, info: SheetInfo, *, kind: str, scale_text: str = "") -> None:
+    """Border, title block and advisory strip: the parts every sheet shares.
+
+    ``scale_text`` is the drawing scale the title block states ("1:100 at A3"); empty
+    for a sheet not drawn to scale (tables, curves, cover: "not to scale").
+    """
     if not isinstance(info, SheetInfo):
         raise FringeInputError(must_be("info", "a fringe.render.drawing.SheetInfo", type(info)))
     fig.patches.append(Rectangle(_FRAME[:2], _FRAME[2], _FRAME[3], transform=fig.transFigure,
                                  fill=False, edgecolor=_INK, linewidth=1.4, zorder=-10))
     _draw_advisory(fig)
-    _draw_title_block(fig, info, kind=kind)
+    _draw_title_block(fig, info, kind=kind, scale_text=scale_text)
 
 
 def _draw_advisory(fig: Figure) -> None:
@@ -272,20 +314,51 @@ def _draw_advisory(fig: Figure) -> None:
     ax.add_patch(Rectangle((0, 0), 0.012, 1, transform=ax.transAxes, facecolor=_INK,
                            edgecolor="none"))
     fs = 10.0
-    ax.text(0.024, 0.5, _wrap(ADVISORY_NOTICE, _chars_for(_ADVISORY[2] * 0.95, fs)),
+    ax.text(0.024, 0.5, _wrap(ADVISORY_NOTICE, _chars_for(_ADVISORY[2] * 0.95, fs,
+                                                          fig.get_figwidth())),
             transform=ax.transAxes, ha="left", va="center", fontsize=fs, color=_INK,
             linespacing=1.35, gid="fringe-advisory")
 
 
-def _draw_title_block(fig: Figure, info: SheetInfo, *, kind: str) -> None:
+#: Heights of the title block's boxes, pt: the bottom row (date, tool, sheet), the row of
+#: drawing number, revision, status and scale, and the sign-off name and date boxes.
+_ROW_PT = 24.0
+_SIGN_NAME_PT = 22.0
+_SIGN_DATE_PT = 16.0
+_SIGN_ROLES = (("drawn", "drawn_by"), ("checked", "checked_by"), ("approved", "approved_by"))
+
+
+def _cell(ax, x0: float, x1: float, y0: float, h: float, label: str, value: str, *,
+          h_pt: float, w_pt: float, gid: str | None = None, fs: float = 8.0):
+    """One boxed field of the title block: a small label at the top left, the value below
+    (shrunk to 5.5 pt if it would run over the box; the box stays even when empty)."""
+    ax.add_patch(Rectangle((x0, y0), x1 - x0, h, transform=ax.transAxes, fill=False,
+                           edgecolor=_INK, linewidth=0.8))
+    pad = 3.0 / w_pt
+    ax.text(x0 + pad, y0 + h - 2.5 / h_pt, label.upper(), transform=ax.transAxes,
+            fontsize=5.5, color="0.35", ha="left", va="top")
+    room_pt = (x1 - x0) * w_pt - 6.0
+    while fs > 5.5 and len(value) * 0.6 * fs > room_pt:
+        fs -= 0.5
+    return ax.text(x0 + pad, y0 + 3.5 / h_pt, value, transform=ax.transAxes, fontsize=fs,
+                   color=_INK, ha="left", va="bottom", fontweight="bold", gid=gid)
+
+
+def _draw_title_block(fig: Figure, info: SheetInfo, *, kind: str, scale_text: str = "") -> None:
+    """Title, subtitle, site, magnets and boundary, then boxed fields: sign-off (drawn,
+    checked, approved: name and date), drawing number, revision, status and scale, and
+    date, tool and sheet number. Unset fields leave their boxes empty for a pen."""
     ax = fig.add_axes(_TITLE, label="title block")
     ax.set_axis_off()
     ax.add_patch(Rectangle((0, 0), 1, 1, transform=ax.transAxes, fill=False,
                            edgecolor=_INK, linewidth=1.6))
-    h_pt = _TITLE[3] * A3_LANDSCAPE_IN[1] * 72
+    fig_w, fig_h = fig.get_size_inches()
+    h_pt = _TITLE[3] * fig_h * 72
+    w_pt = _TITLE[2] * fig_w * 72
     pad = 0.035
-    chars_small = _chars_for(_TITLE[2] * (1 - 2 * pad), 7.5)
-    chars_title = _chars_for(_TITLE[2] * (1 - 2 * pad), 11.5)
+    chars_small = _chars_for(_TITLE[2] * (1 - 2 * pad), 7.5, fig_w)
+    # bold 11.5 pt runs wider than the average character _chars_for assumes
+    chars_title = _chars_for(_TITLE[2] * (1 - 2 * pad), 12.8, fig_w)
     rows: list[tuple[str, str, float, str]] = [
         ("drawing", info.title, 11.5, "bold"),
         ("", info.subtitle, 8.0, "normal"),
@@ -305,24 +378,34 @@ def _draw_title_block(fig: Figure, info: SheetInfo, *, kind: str) -> None:
                     color="0.35", ha="left", va="top")
             y -= 7.0 / h_pt
         ax.text(pad, y, text, transform=ax.transAxes, fontsize=fs, fontweight=weight,
-                color=_INK, ha="left", va="top", linespacing=1.15)
+                color=_INK, ha="left", va="top", linespacing=1.15,
+                gid="fringe-sheet-title" if label == "drawing" else None)
         y -= (n_lines * fs * 1.2 + 4.0) / h_pt
-    # bottom row: date | tool | sheet, in three cells
-    row_h = 24.0 / h_pt
-    ax.plot([0, 1], [row_h, row_h], transform=ax.transAxes, color=_INK, linewidth=0.8)
-    for x in (0.30, 0.64):
-        ax.plot([x, x], [0, row_h], transform=ax.transAxes, color=_INK, linewidth=0.8)
-    sheet = info.sheet_number if info.sheet_number is not None else "Sheet -"
-    cells = (("date", info.date_iso or "(undated)", 0.0), ("computed with",
-             info.tool_version, 0.30), ("sheet", sheet, 0.64))
-    for label, value, x0 in cells:
-        ax.text(x0 + pad * 0.7, row_h - 3.0 / h_pt, label.upper(), transform=ax.transAxes,
-                fontsize=5.5, color="0.35", ha="left", va="top")
-        t = ax.text(x0 + pad * 0.7, 4.0 / h_pt, value, transform=ax.transAxes, fontsize=8.0,
-                    color=_INK, ha="left", va="bottom", fontweight="bold")
-        if label == "sheet":
-            t.set_gid(_SHEET_NUMBER_GID if info.sheet_number is not None
-                      else _SHEET_NUMBER_GID + "-auto")
+    d = info.drawing
+    kw = {"h_pt": h_pt, "w_pt": w_pt}
+    row = _ROW_PT / h_pt
+    # bottom row: date | tool | sheet
+    sheet = info.sheet_number if info.sheet_number is not None else "- of -"
+    _cell(ax, 0.0, 0.30, 0.0, row, "date", info.date_iso or "(undated)", **kw)
+    _cell(ax, 0.30, 0.64, 0.0, row, "computed with", info.tool_version, **kw)
+    _cell(ax, 0.64, 1.0, 0.0, row, "sheet", sheet, **kw,
+          gid=_SHEET_NUMBER_GID if info.sheet_number is not None
+          else _SHEET_NUMBER_GID + "-auto")
+    # drawing number | revision | status | scale
+    _cell(ax, 0.0, 0.34, row, row, "drawing no.", d.number, gid="fringe-drawing-number", **kw)
+    _cell(ax, 0.34, 0.46, row, row, "rev.", d.revision, gid="fringe-revision", **kw)
+    _cell(ax, 0.46, 0.70, row, row, "status", d.status, gid="fringe-status", **kw)
+    _cell(ax, 0.70, 1.0, row, row, "scale", scale_text or "not to scale", gid="fringe-scale",
+          **kw)
+    # sign-off: a name box over a date box for each role, the date left for the pen
+    y_date = 2 * row
+    y_name = y_date + _SIGN_DATE_PT / h_pt
+    for i, (role, attr) in enumerate(_SIGN_ROLES):
+        x0, x1 = i / 3, (i + 1) / 3
+        _cell(ax, x0, x1, y_name, _SIGN_NAME_PT / h_pt, role, getattr(d, attr),
+              gid=f"fringe-{role}-by", **kw)
+        _cell(ax, x0, x1, y_date, _SIGN_DATE_PT / h_pt, f"{role}: date", "",
+              gid=f"fringe-{role}-date", **kw)
 
 
 def _draw_key_column(fig: Figure, handles: list, labels: list[str], title: str,
@@ -331,10 +414,11 @@ def _draw_key_column(fig: Figure, handles: list, labels: list[str], title: str,
     ax = fig.add_axes(_KEY, label="key")
     ax.set_axis_off()
     fs = 8.0
-    width = _chars_for(_KEY[2] * 0.78, fs)
+    fw = fig.get_figwidth()
+    width = _chars_for(_KEY[2] * 0.78, fs, fw)
     top = 1.0
     if contents:
-        wc = _chars_for(_KEY[2] * 0.92, fs)
+        wc = _chars_for(_KEY[2] * 0.92, fs, fw)
         body = "\n".join(_wrap(f"{i}. {c}", wc) for i, c in enumerate(contents, 1))
         ax.text(0.0, top, "CONTENTS", transform=ax.transAxes, fontsize=8.5,
                 fontweight="bold", va="top", ha="left", color=_INK)
@@ -361,7 +445,7 @@ def _draw_key_column(fig: Figure, handles: list, labels: list[str], title: str,
         items = [f"{i}. {n}" for i, n in enumerate(notes, 1)]
         # shrink to fit above the title block; if even 6 pt is too long, cut the list
         for fs_n in (7.5, 7.0, 6.5, 6.0):
-            wn = _chars_for(_KEY[2] * 0.95, fs_n)
+            wn = _chars_for(_KEY[2] * 0.95, fs_n, fw)
             t.set_fontsize(fs_n)
             t.set_text("\n".join(_wrap(it, wn) for it in items))
             if t.get_window_extent(renderer).y0 >= floor:
@@ -402,7 +486,7 @@ def curve_sheet(panels: Sequence[CurvePanel], info: SheetInfo, *,
     panels = list(panels)
     if not panels:
         raise FringeInputError(must_be("panels", "a non-empty list of CurvePanel", panels))
-    fig = _new_figure()
+    fig = _new_figure(info)
     _draw_frame(fig, info, kind="curves")
     left, bottom, width, height = _WIDE
     n = len(panels)
@@ -584,13 +668,17 @@ def _table_pages(tables: list[_Table], info: SheetInfo, notes: Sequence[str],
     """Lay tables out line by line over sheets; each table starts with title + header."""
     left, bottom, width, height = _WIDE
     line_h_pt = font_size * 1.45
-    area_lines = int(height * A3_LANDSCAPE_IN[1] * 72 / line_h_pt) - 1
+    page_h_pt = height * paper_size_in(info.drawing.paper)[1] * 72
+    area_lines = int(page_h_pt / line_h_pt) - 1
     pages = _paginate_tables(tables, area_lines)
     figs = []
-    lh = line_h_pt / (height * A3_LANDSCAPE_IN[1] * 72)
-    for page in pages:
-        fig = _new_figure()
-        _draw_frame(fig, info, kind="table")
+    lh = line_h_pt / page_h_pt
+    for k, page in enumerate(pages, 1):
+        # every sheet of a set has a title of its own: parts of a long table are numbered
+        page_info = info if len(pages) == 1 else dataclasses.replace(
+            info, title=f"{info.title} (part {k} of {len(pages)})")
+        fig = _new_figure(page_info)
+        _draw_frame(fig, page_info, kind="table")
         ax = fig.add_axes((left, bottom, width, height), label="table")
         ax.set_axis_off()
         ax.set_xlim(0, 1)
@@ -695,7 +783,7 @@ def _cell_text(c: Any) -> str:
 def _table_cell(ax, xs, j, y, text, numeric, fs, *, bold):
     # Anchor on the first line's baseline so cells with and without ascenders line up.
     pad = 0.004
-    h_frac = fs / (_WIDE[3] * A3_LANDSCAPE_IN[1] * 72)
+    h_frac = fs / (_WIDE[3] * ax.get_figure().get_figheight() * 72)
     multi = "\n" in text  # matplotlib's "baseline" anchors the last line of a block
     yb = y if multi else y - 0.95 * h_frac
     kw = {"fontsize": fs, "color": _INK, "fontweight": "bold" if bold else "normal",
@@ -734,14 +822,14 @@ def cover_sheet(info: SheetInfo, key_facts: Sequence[tuple[str, str]],
     FringeInputError
         A key fact that is not a (label, value) pair.
     """
-    fig = _new_figure()
+    fig = _new_figure(info)
     _draw_frame(fig, info, kind="cover")
     left, bottom, width, height = _WIDE
     ax = fig.add_axes((left, bottom, width, height), label="cover")
     ax.set_axis_off()
     ax.set_xlim(0, 1)
     ax.set_ylim(0, 1)
-    h_pt = height * A3_LANDSCAPE_IN[1] * 72
+    h_pt = height * fig.get_figheight() * 72
     y = 1.0
     ax.text(0, y, _wrap(info.site_name, 48), fontsize=22, fontweight="bold", va="top",
             color=_INK)
@@ -803,7 +891,7 @@ def _flatten(figures) -> list[Figure]:
 
 
 def number_sheets(figures) -> list[Figure]:
-    """Write "Sheet k of n" into every title block whose sheet number was left unset.
+    """Write "k of n" into every title block whose sheet number was left unset.
 
     Parameters
     ----------
@@ -819,7 +907,7 @@ def number_sheets(figures) -> list[Figure]:
     for k, fig in enumerate(figs, 1):
         for t in fig.findobj(lambda a: getattr(a, "get_gid", lambda: None)()
                              == _SHEET_NUMBER_GID + "-auto"):
-            t.set_text(f"Sheet {k} of {n}")
+            t.set_text(f"{k} of {n}")
     return figs
 
 
@@ -873,7 +961,10 @@ def save_figure(fig: Figure, path: str | Path, *, dpi: int = PNG_DPI) -> Path:
 
 
 def write_pdf(figures, path: str | Path, *, title: str | None = None) -> Path:
-    """Write a sheet set to one PDF atomically, numbering unnumbered sheets "Sheet k of n".
+    """Write a sheet set to one PDF atomically, numbering unnumbered sheets "k of n".
+
+    The PDF carries a bookmark (outline entry) per sheet, "k. <drawing title>", and
+    opens with the bookmarks shown (:func:`fringe.io.pdf_outline.add_outline`).
 
     Parameters
     ----------
@@ -901,8 +992,11 @@ def write_pdf(figures, path: str | Path, *, title: str | None = None) -> Path:
     meta = {"Creator": "fringe", "Subject": ADVISORY_NOTICE}
     if title:
         meta["Title"] = title
-    with matplotlib.rc_context(_save_rc()), atomic_file(path) as tmp:
-        with PdfPages(tmp, metadata=meta) as pdf:
+    buf = io.BytesIO()
+    with matplotlib.rc_context(_save_rc()):
+        with PdfPages(buf, metadata=meta) as pdf:
             for fig in figs:
                 pdf.savefig(fig)
+    marks = [f"{k}. {sheet_title(fig) or 'sheet'}" for k, fig in enumerate(figs, 1)]
+    write_bytes_atomic(path, add_outline(buf.getvalue(), marks))
     return path

@@ -260,7 +260,9 @@ def test_cli_text_and_outputs(tmp_path, capsys):
     assert "[[magnet]]" in text and "ADVISORY" in text
     assert sorted(p.name for p in out.iterdir()) == ["best-magnet.toml", "place-plan.png",
                                                      "place-plan.svg", "place.json"]
-    assert "ADVISORY" in (out / "place-plan.svg").read_text("utf-8")
+    svg = (out / "place-plan.svg").read_text("utf-8")
+    assert "ADVISORY" in svg
+    assert ">1 of 1<" in svg and "- of -" not in svg  # a set of one sheet is numbered too
 
 
 @pytest.mark.parametrize("argv, words", [

@@ -101,7 +101,8 @@ def test_verdict_writes_as_its_word():
 
 def test_reader_has_fixed_tables_and_no_registries():
     assert TOP_LEVEL_KEYS == ("site", "magnet", "plan", "floor", "room", "room_file",
-                              "equipment", "quench", "implant_condition", "moving_steel")
+                              "equipment", "quench", "implant_condition", "moving_steel",
+                              "drawing")
     assert set(ROOM_LOADERS) == {"geojson", "dxf"} and set(MAGNET_BUILDERS) == {"datasheet"}
     with pytest.raises(TypeError):
         ROOM_LOADERS["x"] = None  # type: ignore[index]
@@ -121,6 +122,7 @@ def _imports(path: Path) -> set[str]:
 def test_section_parsers_do_not_import_the_scenario_reader():
     """The parsers share fringe.io.reader; only fringe.io.scenario imports them (no cycle)."""
     io_dir = Path(fringe.__file__).parent / "io"
-    for name in ("reader", "scenario_plan", "scenario_quench", "scenario_datasheet", "dxf"):
+    for name in ("reader", "scenario_plan", "scenario_quench", "scenario_datasheet", "dxf",
+                 "scenario_drawing"):
         assert "fringe.io.scenario" not in _imports(io_dir / f"{name}.py"), name
     assert not (io_dir / "sections.py").exists()
