@@ -117,10 +117,14 @@ def parse_plan(root: Reader) -> PlanSettings:
         exposure = tuple(dict.fromkeys(ex))
     gradient_lines = _gradient_lines(r)
     show_gauss = r.boolean("show_gauss", False)
+    uncertainty = r.number("field_uncertainty", 0.0, low=0.0)
+    if uncertainty >= 1.0:
+        r.fail(r.key("field_uncertainty"), "a fraction ≥ 0 and < 1 (0.10 for ±10 %)",
+               uncertainty)
     r.finish()
     return PlanSettings(boundary, with_boundary(th, boundary.value_mT), step, band_step,
                         band, extent, exposure, gradient_lines_T_per_m=gradient_lines,
-                        show_gauss=show_gauss)
+                        show_gauss=show_gauss, field_uncertainty=uncertainty)
 
 
 def _positive_numbers(r: Reader, key: str, default, unit: str) -> list:

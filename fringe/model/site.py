@@ -61,6 +61,11 @@ class PlanSettings:
         ``fringe.physics.exposure.EXPOSURE_LIMITS``); None for all of them, ``()`` for none.
     show_gauss : bool
         Print field values on the sheets also in gauss, in brackets (``[plan] show_gauss``).
+    field_uncertainty : float
+        Relative uncertainty u of the model's |B| (``[plan] field_uncertainty``, 0 ≤ u < 1):
+        the true field is taken to lie within model × (1 ± u). Each line then has an inner
+        limit (the model's line at threshold/(1 − u)) and an outer limit (at
+        threshold/(1 + u)); docs/uncertainty.md.
     """
 
     boundary: Boundary
@@ -72,6 +77,7 @@ class PlanSettings:
     exposure_lines: tuple[str, ...] | None = None
     gradient_lines_T_per_m: tuple[float, ...] = DEFAULT_GRADIENT_LINES_T_PER_M
     show_gauss: bool = False
+    field_uncertainty: float = 0.0
 
 
 def with_boundary(thresholds_mT: Iterable[float], boundary_mT: float) -> tuple[float, ...]:

@@ -378,11 +378,14 @@ class _LineSet:
 def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | None,
                 boundary_label: str | None, cmap: str | None, band_alpha: float,
                 log_contours: bool, palette=None,
-                show_gauss: bool = False) -> tuple[list, list[_LineSet]]:
+                show_gauss: bool = False,
+                uncertainty: float = 0.0) -> tuple[list, list[_LineSet]]:
     """Filled bands between consecutive levels, contour lines, emphasised boundary.
 
     Returns legend entries (handle, label) and the unlabelled line sets (boundary first).
     With ``show_gauss`` (and ``unit`` "mT") every level also reads in gauss, in brackets.
+    With ``uncertainty`` u > 0 the boundary's uncertainty band (values between
+    boundary/(1 + u) and boundary/(1 − u)) is shaded (:func:`_draw_uncertainty_band`).
     """
     def lab(lo: float, hi: float | None = None) -> str:
         if unit == "mT":
@@ -427,6 +430,9 @@ def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | 
         reached = vmin < boundary_level < vmax
         entries.append((Line2D([], [], color=_INK, linewidth=2.6),
                         blabel if reached else blabel + " (not reached on this sheet)"))
+        if uncertainty > 0:
+            entries += _draw_uncertainty_band(ax, x, y, Z, boundary_level, uncertainty,
+                                              log_contours)
     plain = [lv for lv in levels if vmin < lv < vmax and (boundary_level is None or not
              math.isclose(lv, boundary_level, rel_tol=1e-9))]
     if plain:
@@ -437,6 +443,33 @@ def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | 
     entries.append((Line2D([], [], color=_INK, linewidth=0.7),
                     f"threshold lines, labelled in {unit}"))
     return entries, sets
+
+
+#: The uncertainty band of the boundary: a translucent white veil with a sparse dot
+#: hatch in the ink colour, so the field bands under it stay readable (our own style).
+_UNCERTAINTY_STYLE: dict[str, Any] = {"facecolor": (1.0, 1.0, 1.0, 0.45), "hatch": "..",
+                                      "edgecolor": _INK}
+
+
+def _draw_uncertainty_band(ax, x, y, Z, boundary_level: float, uncertainty: float,
+                           log_contours: bool) -> list:
+    """Shade where the map lies between boundary/(1 + u) and boundary/(1 − u): the band
+    the true boundary line lies in when the field is known to ±u (docs/uncertainty.md).
+    Returns its legend entry."""
+    lo, hi = boundary_level / (1.0 + uncertainty), boundary_level / (1.0 - uncertainty)
+    finite = Z[np.isfinite(Z)]
+    zlo, zhi = _log_or_linear([lo, hi], log_contours)
+    if finite.size and finite.max() > zlo and finite.min() < zhi:
+        cs = ax.contourf(x, y, Z, levels=[zlo, zhi], colors=[_UNCERTAINTY_STYLE["facecolor"]],
+                         hatches=[_UNCERTAINTY_STYLE["hatch"]], zorder=3.6)
+        cs.set_edgecolor(_UNCERTAINTY_STYLE["edgecolor"])
+        cs.set_linewidth(0.0)
+        # both limits as fine dotted lines, so a narrow band still shows its edges
+        ax.contour(x, y, Z, levels=[zlo, zhi], colors=_INK, linewidths=0.8,
+                   linestyles=[(0, (1, 1.2))], zorder=3.7)
+    pct = f"{uncertainty * 100:.3g}"
+    return [(Patch(**_UNCERTAINTY_STYLE, linewidth=0.8, linestyle=(0, (1, 1.2))),
+             f"uncertainty band ±{pct} % (where the boundary may lie)")]
 
 
 def _text_size_px(ax, renderer, text: str, fontsize: float, weight: str) -> tuple[float, float]:
@@ -1192,7 +1225,8 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
               windings: Sequence = (),
               band_alpha: float = 0.62, log_contours: bool | None = None,
               x_label: str = "x (east), m", y_label: str = "y (north), m",
-              north_arrow: bool = True, palette=None, show_gauss: bool = False) -> Figure:
+              north_arrow: bool = True, palette=None, show_gauss: bool = False,
+              uncertainty: float = 0.0) -> Figure:
     """A plan sheet of any scalar map: filled bands between levels and labelled lines.
 
     Parameters
@@ -1238,6 +1272,10 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     show_gauss : bool
         With ``unit`` "mT": levels in the legend and on the lines also in gauss, in
         brackets (``[plan] show_gauss``; 1 mT = 10 G).
+    uncertainty : float
+        Relative field uncertainty u (0 ≤ u < 1, ``[plan] field_uncertainty``): with u > 0
+        and a ``boundary_level`` the band between the boundary's inner and outer limits
+        (values boundary/(1 − u) and boundary/(1 + u)) is shaded.
 
     Returns
     -------
@@ -1269,7 +1307,8 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
                                      boundary_level=boundary_level,
                                      boundary_label=boundary_label, cmap=cmap,
                                      band_alpha=band_alpha, log_contours=log_contours,
-                                     palette=palette, show_gauss=show_gauss)
+                                     palette=palette, show_gauss=show_gauss,
+                                     uncertainty=_check_uncertainty(uncertainty))
     entries += _draw_overlays(ax, overlays)
     mag_texts, mag_entries = _draw_magnets(ax, magnets)
     mag_entries += _draw_magnets(ax, windings, section=True)[1]
@@ -1314,6 +1353,14 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     return fig
 
 
+def _check_uncertainty(uncertainty) -> float:
+    """``uncertainty`` as a float in [0, 1); FringeInputError otherwise."""
+    u = float(uncertainty) if isinstance(uncertainty, (int, float)) else math.nan
+    if not (math.isfinite(u) and 0.0 <= u < 1.0):
+        raise FringeInputError(must_be("uncertainty", "a fraction ≥ 0 and < 1", uncertainty))
+    return u
+
+
 def _with_boundary_note(info: SheetInfo, boundary_mT: float | None) -> SheetInfo:
     """Every field sheet states its boundary value: fill the note in if the caller did not."""
     if info.boundary_note or boundary_mT is None:
@@ -1327,7 +1374,8 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
                boundary_mT: float | None = 0.5, boundary_label: str | None = None,
                rooms: Sequence[RoomMark] = (), equipment: Sequence[EquipmentMark] = (),
                magnets: Sequence = (), overlays: Sequence = (), notes: Sequence[str] = (),
-               cmap: str | None = None, show_gauss: bool = False) -> Figure:
+               cmap: str | None = None, show_gauss: bool = False,
+               uncertainty: float = 0.0) -> Figure:
     """Floor plan of the field magnitude in mT, with rooms, equipment and the boundary.
 
     Parameters
@@ -1355,6 +1403,8 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
     show_gauss : bool
         Levels in the legend, on the lines and in the boundary label also in gauss, in
         brackets, e.g. "0.5 to 1 mT (5 to 10 G)" (``[plan] show_gauss``; 1 mT = 10 G).
+    uncertainty : float
+        As :func:`map_sheet`: shade the boundary's uncertainty band.
 
     Returns
     -------
@@ -1380,7 +1430,7 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
                      equipment=equipment, magnets=magnets, overlays=overlays, notes=notes,
                      cmap=cmap, log_contours=True,
                      palette=threshold_color if cmap is None else None,
-                     show_gauss=show_gauss)
+                     show_gauss=show_gauss, uncertainty=uncertainty)
 
 
 def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
@@ -1389,7 +1439,8 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
                   floors: Sequence = (), windings: Sequence = (),
                   exposure_lines: Sequence[ExposureLine] = (), overlays: Sequence = (),
                   notes: Sequence[str] = (), s_label: str = "s along the section line, m",
-                  cmap: str | None = None, show_gauss: bool = False) -> Figure:
+                  cmap: str | None = None, show_gauss: bool = False,
+                  uncertainty: float = 0.0) -> Figure:
     """Vertical section of |B| in mT: bands, labelled lines, floors, windings, exposure.
 
     Parameters
@@ -1411,7 +1462,7 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
     exposure_lines : sequence of ExposureLine
         Drawn as dashed labelled lines where |B| equals their value; their sources are
         printed in the notes (e.g. :data:`ICNIRP_2009_EXPOSURE_LINES`).
-    overlays, notes, s_label, cmap, show_gauss
+    overlays, notes, s_label, cmap, show_gauss, uncertainty
         As :func:`map_sheet` and :func:`plan_sheet`; ``s_label`` names the horizontal axis.
 
     Returns
@@ -1438,7 +1489,8 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
                                      boundary_level=boundary_mT, boundary_label=label,
                                      cmap=cmap, band_alpha=0.62, log_contours=True,
                                      palette=threshold_color if cmap is None else None,
-                                     show_gauss=show_gauss)
+                                     show_gauss=show_gauss,
+                                     uncertainty=_check_uncertainty(uncertainty))
     entries += _draw_overlays(ax, overlays)
     occupied: list[Bbox] = []
     entries += _draw_floor_levels(ax, renderer, floors, s, z, occupied)
