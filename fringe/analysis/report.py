@@ -12,11 +12,12 @@ import datetime as _dt
 import math
 import os
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from fringe.analysis.attraction import SiteAttraction, site_attraction
+from fringe.analysis.fit_spread import magnet_fit_spread, outermost_magnet
 from fringe.analysis.implants import SiteImplants, site_implants
 from fringe.analysis.overall import OverallVerdict, overall_verdict
 from fringe.analysis.quench import budget_for_site
@@ -50,7 +51,8 @@ from fringe.model.site import SitePlan, site_plan
 from fringe.model.verdict import Verdict
 from fringe.physics.energy import stored_energy_J
 
-__all__ = ["MagnetSummary", "ReportResult", "compute_report", "magnet_summary", "check_grid_step_m",
+__all__ = ["MagnetSummary", "ReportResult", "compute_report", "magnet_summary", "drawn_site",
+           "check_grid_step_m",
            "SPILL_TOLERANCE_M2"]
 
 Progress = Callable[[str], None] | None
@@ -238,6 +240,7 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     s = plan.settings
     step = check_grid_step_m(s.grid_step_m if grid_step_m is None else grid_step_m)
     thr_mT = s.thresholds_mT
+    site = drawn_site(site, thr_mT)  # data-sheet magnets: the outermost model of the spread
     thr_T = [t * 1e-3 for t in thr_mT]
     say = progress or (lambda msg: None)
     quench_inputs = tuple(site.quench)
@@ -327,7 +330,25 @@ def magnet_summary(site, m, thresholds_mT, uncertainty: float = 0.0) -> MagnetSu
 
 def _fit_spread(site, magnet, thresholds_mT):
     """The fit spread of a data-sheet magnet (None for a magnet given by coils)."""
-    return None
+    return magnet_fit_spread(magnet, thresholds_mT)
+
+
+def drawn_site(site, thresholds_mT) -> object:
+    """``site`` with each data-sheet magnet replaced by the model of its fit spread whose
+    outermost plan line reaches farthest (fringe.analysis.fit_spread.outermost_magnet):
+    the model the report's maps, sections and verdicts use. A site without data-sheet
+    magnets is returned as it is."""
+    if not any(m.datasheet is not None for m in site.magnets):
+        return site
+    mags = []
+    for m in site.magnets:
+        o = outermost_magnet(m, thresholds_mT)
+        if o is not m:
+            o = replace(o, description=o.description + (
+                " Drawn with the model of its fit spread whose outermost line reaches "
+                "farthest, not the best fit (docs/fit.md)."))
+        mags.append(o)
+    return replace(site, magnets=tuple(mags))
 
 
 #: Largest plan grid step as a fraction of the boundary line's smallest extent. Marching
