@@ -100,6 +100,7 @@ def test_zero_uncertainty_changes_nothing(reports):
     r0, _ = reports
     d = json.loads(json.dumps(summary_dict(r0)))
     assert d["field_uncertainty"] == 0.0
+    assert d["magnets"][0]["fit_spread"] is None  # a magnet given by coils has no spread
     for b in d["magnets"][0]["boundaries"]:
         assert b["axial_extent_range_m"] == [b["axial_extent_m"]] * 2
         assert b["radial_extent_range_m"] == [b["radial_extent_m"]] * 2
