@@ -85,8 +85,8 @@ def _spread_lines(m, format_energy_J) -> list[str]:
     sp = getattr(m, "fit_spread", None)
     if sp is None:
         return []
-    out = [f"  fit spread over {sp.models} model(s) meeting the data sheet within its "
-           "rounding (docs/fit.md):"]
+    out = [f"  fit spread over {sp.models} model{'' if sp.models == 1 else 's'} meeting the "
+           "data sheet within its rounding (docs/fit.md):"]
     for t, (a0, a1), (r0, r1) in sp.boundaries:
         out.append(f"    {t:g} mT line {a0:.2f}-{a1:.2f} m along, {r0:.2f}-{r1:.2f} m across")
     out.append(f"    stored energy {format_energy_J(sp.stored_energy_J[0], 3)} to "
