@@ -188,13 +188,15 @@ def accessible_maxima(m: ImplantMap) -> dict[str, AccessibleMaximum]:
     return out
 
 
-def _ratio(cond: ImplantCondition, b, g) -> np.ndarray:
-    """The largest of value/limit over the condition's limits (≤ 1 where it holds)."""
-    r = np.asarray(b, dtype=float) / cond.max_field_T
+def _ratio(cond: ImplantCondition, b, g, scale: float = 1.0) -> np.ndarray:
+    """The largest of value/limit over the condition's limits (≤ 1 where it holds), for
+    the field scaled by ``scale`` (|B| and |∇|B|| scale with it, the force product with
+    its square)."""
+    r = scale * np.asarray(b, dtype=float) / cond.max_field_T
     if cond.max_grad_abs_B_T_per_m is not None:
-        r = np.fmax(r, np.asarray(g, dtype=float) / cond.max_grad_abs_B_T_per_m)
+        r = np.fmax(r, scale * np.asarray(g, dtype=float) / cond.max_grad_abs_B_T_per_m)
     if cond.max_force_product_T2_per_m is not None:
-        r = np.fmax(r, np.asarray(b, dtype=float) * np.asarray(g, dtype=float)
+        r = np.fmax(r, scale ** 2 * np.asarray(b, dtype=float) * np.asarray(g, dtype=float)
                     / cond.max_force_product_T2_per_m)
     return r
 
@@ -215,14 +217,19 @@ class ConditionResult:
     worst_point_m: tuple[float, float, float]
     worst_ratio: float
     regions: dict
+    #: Holds everywhere accessible, but not for a field (1 + u) times the model's, u the
+    #: plan's field uncertainty (the rule of the verdict ``marginal``; docs/uncertainty.md).
+    marginal: bool = False
 
     def to_dict(self) -> dict:
         return {"name": self.condition.name, "holds_at_isocentre": self.holds_at_isocentre,
                 "holds_everywhere_accessible": self.holds_everywhere_accessible,
-                "worst_point_m": list(self.worst_point_m), "worst_ratio": self.worst_ratio}
+                "worst_point_m": list(self.worst_point_m), "worst_ratio": self.worst_ratio,
+                "marginal": self.marginal}
 
 
-def check_condition(cond: ImplantCondition, maps, centres_figures) -> ConditionResult:
+def check_condition(cond: ImplantCondition, maps, centres_figures,
+                    uncertainty: float = 0.0) -> ConditionResult:
     """Evaluate ``cond`` on the maps and at the isocentres.
 
     Parameters
@@ -231,18 +238,24 @@ def check_condition(cond: ImplantCondition, maps, centres_figures) -> ConditionR
     maps : sequence of ImplantMap
     centres_figures : (|B| (M,), |∇|B|| (M,))
         The figures at each magnet's centre.
+    uncertainty : float
+        Field uncertainty u: ``marginal`` when the condition holds everywhere accessible
+        but not for the field × (1 + u).
     """
     worst, worst_pt, regions = -math.inf, (math.nan,) * 3, {}
+    worst_up = -math.inf
     for m in maps:
         pts, b, g = _candidates(m)
         r = _ratio(cond, b, g)
+        worst_up = max(worst_up, float(np.nanmax(_ratio(cond, b, g, 1.0 + uncertainty))))
         i = int(np.nanargmax(r))
         if r[i] > worst:
             worst, worst_pt = float(r[i]), tuple(float(x) for x in pts[i])
         grid = np.where(m.accessible, _ratio(cond, m.field_T, m.grad_T_per_m), np.nan)
         regions[m.magnet] = superlevel_polygons(m.u_m, m.v_m, grid, 1.0)
     at_centres = bool(np.all(_ratio(cond, *centres_figures) <= 1.0))
-    return ConditionResult(cond, at_centres, worst <= 1.0, worst_pt, worst, regions)
+    return ConditionResult(cond, at_centres, worst <= 1.0, worst_pt, worst, regions,
+                           bool(worst <= 1.0 < worst_up))
 
 
 @dataclass(frozen=True)
@@ -262,6 +275,8 @@ def site_implants(site, levels_T_per_m=DEFAULT_GRADIENT_LEVELS_T_PER_M) -> SiteI
     maxima = {m.magnet: accessible_maxima(m) for m in maps}
     centres = np.array([m.center_m for m in mags], dtype=float).reshape(-1, 3)
     figs = _figures(mags, centres) if len(mags) else (np.zeros(0), np.zeros(0))
-    conds = tuple(check_condition(c, maps, figs)
+    plan = getattr(site, "plan", None)
+    u = getattr(plan, "field_uncertainty", 0.0) if plan is not None else 0.0
+    conds = tuple(check_condition(c, maps, figs, u)
                   for c in getattr(site, "implant_conditions", ()))
     return SiteImplants(maps, maxima, conds, tuple(float(x) for x in levels_T_per_m))

@@ -55,6 +55,9 @@ class OverallVerdict:
 
     items: tuple[ExceedingItem, ...]
     checked: tuple[tuple[str, int], ...]
+    #: The items whose verdict is ``marginal`` (within, but the field uncertainty band
+    #: reaches the limit); they never make the report exceed.
+    marginal: tuple[ExceedingItem, ...] = ()
 
     @property
     def exceeds(self) -> bool:
@@ -66,7 +69,17 @@ class OverallVerdict:
         return sum(i.kind == kind for i in self.items)
 
     def line(self) -> str:
-        """The closing line: what exceeds, or that nothing does and what was checked."""
+        """The closing line: what exceeds, or that nothing does and what was checked; the
+        marginal items, if any, follow after a semicolon."""
+        return self._exceeding_line() + self._marginal_tail()
+
+    def _marginal_tail(self) -> str:
+        if not self.marginal:
+            return ""
+        names = ", ".join(i.name for i in self.marginal)
+        return f"; {len(self.marginal)} marginal within the field uncertainty ({names})"
+
+    def _exceeding_line(self) -> str:
         plural = dict(KINDS)
         if not self.items:
             done = ", ".join(f"{n} {k if n == 1 else plural[k]}" for k, n in self.checked)
@@ -86,18 +99,25 @@ def overall_verdict(result) -> OverallVerdict:
     """Gather the verdicts of ``result`` (a ReportResult, or anything with its ``rooms``,
     ``equipment``, ``floor_maps``, ``boundary`` and ``floor_verdict(name)``)."""
     items: list[ExceedingItem] = []
+    marginal: list[ExceedingItem] = []
     for r in result.rooms:
+        if r.verdict == Verdict.MARGINAL:
+            marginal.append(ExceedingItem("room", r.name))
         if r.verdict == Verdict.EXCEEDS:
             lim = "" if r.limit_T is None else f" ≥ limit {r.limit_T * 1e3:g} mT"
             items.append(ExceedingItem("room", r.name,
                                        f"max {r.max_field_T * 1e3:.3g} mT{lim}"))
     for e in result.equipment:
+        if e.verdict == Verdict.MARGINAL:
+            marginal.append(ExceedingItem("equipment", e.name))
         if e.verdict == Verdict.EXCEEDS:
             items.append(ExceedingItem("equipment", e.name,
                                        f"{e.field_T * 1e3:.3g} mT ≥ limit "
                                        f"{e.limit_T * 1e3:g} mT"))
     floors = tuple(result.floor_maps)
     for f in floors:
+        if result.floor_verdict(f) == Verdict.MARGINAL:
+            marginal.append(ExceedingItem("floor", f))
         if result.floor_verdict(f) == Verdict.EXCEEDS:
             items.append(ExceedingItem("floor", f, f"{result.boundary.value_mT:g} mT line "
                                                    "outside the controlled rooms"))
@@ -112,4 +132,4 @@ def overall_verdict(result) -> OverallVerdict:
                ("floor", len(floors)))
     if moving:  # named only on sites that check moving steel
         checked += (("moving steel path", len(moving)),)
-    return OverallVerdict(tuple(items), checked)
+    return OverallVerdict(tuple(items), checked, tuple(marginal))

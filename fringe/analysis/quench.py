@@ -7,10 +7,16 @@ inductance of the magnet (:mod:`fringe.physics.energy`) and the inputs of its
 distinct: :func:`room_conditions` fills in the defaults of the inputs (°C, kPa);
 :func:`fringe.physics.quench.room_conditions_K_Pa` turns them into the SI key of the
 helium look-up.
+
+A magnet fitted to data-sheet numbers is budgeted with the model of its fit spread that
+stores the most energy (:func:`fringe.analysis.fit_spread.largest_energy_magnet`;
+docs/fit.md): the data sheet does not fix the energy, and the budget takes the worst
+model that meets it.
 """
 
 from __future__ import annotations
 
+from fringe.analysis.fit_spread import largest_energy_magnet
 from fringe.model.errors import FringeInputError, ScenarioError
 from fringe.physics.energy import circuit_inductance_H, stored_energy_J
 from fringe.physics.quench import QuenchBudget, quench_budget
@@ -62,7 +68,8 @@ def budget_for_site(site, q) -> QuenchBudget:
         For an input :func:`fringe.physics.quench.quench_budget` refuses (naming the
         scenario file).
     """
-    magnet = site.magnet(q.magnet)
+    # a data-sheet magnet: the model of its fit spread with the largest stored energy
+    magnet = largest_energy_magnet(site.magnet(q.magnet))
     w = stored_energy_J(magnet)
     inductance = refused = current = None
     if q.dump_ohm is not None:

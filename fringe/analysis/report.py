@@ -12,11 +12,12 @@ import datetime as _dt
 import math
 import os
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from fringe.analysis.attraction import SiteAttraction, site_attraction
+from fringe.analysis.fit_spread import magnet_fit_spread, outermost_magnet
 from fringe.analysis.implants import SiteImplants, site_implants
 from fringe.analysis.moving_steel import MovingSteelCheck, check_moving_steel
 from fringe.analysis.overall import OverallVerdict, overall_verdict
@@ -41,7 +42,7 @@ from fringe.analysis.zones import (
     plan_axes_m,
     reach_m,
 )
-from fringe.field.extents import threshold_extents_m
+from fringe.field.extents import threshold_extent_ranges_m, threshold_extents_m
 from fringe.field.multipole import zonal_moments_Am
 from fringe.field.reach import threshold_reach_m
 from fringe.model.building import Boundary
@@ -51,7 +52,8 @@ from fringe.model.site import SitePlan, site_plan
 from fringe.model.verdict import Verdict
 from fringe.physics.energy import stored_energy_J
 
-__all__ = ["MagnetSummary", "ReportResult", "compute_report", "check_grid_step_m",
+__all__ = ["MagnetSummary", "ReportResult", "compute_report", "magnet_summary", "drawn_site",
+           "check_grid_step_m",
            "SPILL_TOLERANCE_M2"]
 
 Progress = Callable[[str], None] | None
@@ -89,6 +91,22 @@ class MagnetSummary:
     #: the line's largest distance from the axis and along it anywhere
     #: (fringe.field.reach.threshold_reach_m).
     reaches: tuple[tuple[float, float, float], ...] = ()
+    #: (threshold_mT, (axial_inner_m, axial_outer_m), (radial_inner_m, radial_outer_m)) per
+    #: threshold, as ``boundaries``: the line's limits for the plan's field uncertainty
+    #: (fringe.field.extents.threshold_extent_ranges_m; both equal the extent when u = 0).
+    boundary_ranges: tuple = ()
+    #: The spread of a data-sheet magnet's figures over every model that meets its numbers
+    #: (fringe.analysis.fit_spread.FitSpread), or None for a magnet given by coils.
+    fit_spread: object = None
+
+    def boundary_range(self, threshold_mT: float
+                       ) -> tuple[tuple[float, float], tuple[float, float]] | None:
+        """((axial_inner, axial_outer), (radial_inner, radial_outer)) in m of
+        ``threshold_mT`` (None if not computed)."""
+        for t, ax, rad in self.boundary_ranges:
+            if math.isclose(t, threshold_mT, rel_tol=1e-9):
+                return ax, rad
+        return None
 
     def reach(self, threshold_mT: float) -> tuple[float, float] | None:
         """(max_reach_m, max_reach_axial_m) of ``threshold_mT`` (None if not computed)."""
@@ -134,12 +152,22 @@ class ReportResult:
     #: Each [[moving_steel]] path checked against its limit
     #: (fringe.analysis.moving_steel.MovingSteelCheck).
     moving_steel: tuple[MovingSteelCheck, ...] = field(default=(), compare=False, repr=False)
+    #: The plan's field uncertainty u ([plan] field_uncertainty; docs/uncertainty.md).
+    uncertainty: float = 0.0
+    #: Per floor, area (m²) of the boundary's outer limit (the model's line at
+    #: boundary/(1 + u)) outside the controlled rooms; equal to ``outside_controlled_m2``
+    #: when u = 0.
+    outside_controlled_outer_m2: dict[str, float] = field(default_factory=dict)
 
     def floor_verdict(self, floor: str) -> Verdict:
         """``exceeds`` when the boundary footprint on ``floor`` reaches beyond its
-        controlled rooms by more than :data:`SPILL_TOLERANCE_M2`, else ``within``."""
+        controlled rooms by more than :data:`SPILL_TOLERANCE_M2`; ``marginal`` when only
+        its outer limit (the line at boundary/(1 + u)) does; else ``within``."""
         spill = self.outside_controlled_m2.get(floor, 0.0)
-        return Verdict.EXCEEDS if spill > SPILL_TOLERANCE_M2 else Verdict.WITHIN
+        if spill > SPILL_TOLERANCE_M2:
+            return Verdict.EXCEEDS
+        outer = self.outside_controlled_outer_m2.get(floor, spill)
+        return Verdict.MARGINAL if outer > SPILL_TOLERANCE_M2 else Verdict.WITHIN
 
     def overall(self) -> OverallVerdict:
         """Every verdict summed up (:func:`fringe.analysis.overall.overall_verdict`)."""
@@ -216,20 +244,13 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     s = plan.settings
     step = check_grid_step_m(s.grid_step_m if grid_step_m is None else grid_step_m)
     thr_mT = s.thresholds_mT
+    site = drawn_site(site, thr_mT)  # data-sheet magnets: the outermost model of the spread
     thr_T = [t * 1e-3 for t in thr_mT]
     say = progress or (lambda msg: None)
     quench_inputs = tuple(site.quench)
+    u = s.field_uncertainty
 
-    mags = []
-    for m in site.magnets:
-        b0 = float(field_magnitude_T(m, np.asarray([m.center_m]))[0])
-        bounds = tuple((t, *threshold_extents_m(m, t * 1e-3)) for t in thr_mT)
-        reaches = tuple((t, *threshold_reach_m(m, t * 1e-3, extents_m=(a, rr)))
-                        for t, a, rr in bounds)
-        q = zonal_moments_Am(m, 5)
-        mags.append(MagnetSummary(m.name, m.center_m, m.axis, m.description, b0, bounds,
-                                  m.origin, stored_energy_J(m), m.dipole_moment_Am2,
-                                  (float(q[1]), float(q[3]), float(q[5])), reaches))
+    mags = [magnet_summary(site, m, thr_mT, u) for m in site.magnets]
     say("extents and reach of each threshold line done")
     _warn_if_grid_too_coarse(mags, s.boundary.value_mT, step, site.source_file)
 
@@ -247,6 +268,7 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     fmaps: dict[str, FloorMap] = {}
     fps: dict[str, tuple[Footprint, ...]] = {}
     outside: dict[str, float] = {}
+    outside_outer: dict[str, float] = {}
     for fl in plan.floors:
         fm = floor_map(site, fl, x, y, s.band_step_m, thr_T, progress=progress)
         fmaps[fl.name] = fm
@@ -254,6 +276,10 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
         bfp = next(f for f in fps[fl.name]
                    if math.isclose(f.threshold_mT, s.boundary.value_mT, rel_tol=1e-9))
         outside[fl.name] = boundary_outside_controlled_m2(bfp, plan.rooms)
+        outside_outer[fl.name] = outside[fl.name]
+        if u > 0:  # the boundary's outer limit: the model's line at boundary/(1 + u)
+            ofp = footprints(fm, [s.boundary.value_mT / (1.0 + u)])[0]
+            outside_outer[fl.name] = boundary_outside_controlled_m2(ofp, plan.rooms)
 
     z_lo = min(f.elevation_m for f in plan.floors) - 1.0
     z_hi = max(f.band_z_m[1] for f in plan.floors) + 1.0
@@ -272,9 +298,9 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     quench = tuple(budget_for_site(site, q) for q in quench_inputs)
     if quench:
         say("quench release budget done")
-    rooms = check_rooms(site, plan.rooms, fmaps, fps, s.boundary)
+    rooms = check_rooms(site, plan.rooms, fmaps, fps, s.boundary, uncertainty=u)
     equip = check_equipment(site, plan.equipment, plan.floor_of_point, floors=plan.floors,
-                            step_m=step, band_step_m=s.band_step_m)
+                            step_m=step, band_step_m=s.band_step_m, uncertainty=u)
     say("room and equipment verdicts done")
     whole = {name: full_height(site, fm, s.band_step_m, s.boundary.value_mT * 1e-3, thr_T,
                                attraction=attraction.floors.get(name),
@@ -282,7 +308,7 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
                                material=attraction.material, progress=progress)
              for name, fm in fmaps.items()}
     ceilings = room_ceilings(site, plan.rooms, rooms, fmaps,
-                             {name: w.map for name, w in whole.items()})
+                             {name: w.map for name, w in whole.items()}, uncertainty=u)
     say("whole storeys up to each ceiling done")
     moving = check_moving_steel(site)
     if moving:
@@ -290,7 +316,47 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     return ReportResult(site.name, site.source_file, plan, s.boundary, thr_mT, step, extent,
                         tuple(mags), fmaps, fps, outside, tuple(secs), rooms, equip, _now_utc(),
                         __version__, site, quench, attraction, implants, whole, ceilings,
-                        moving)
+                        moving, u, outside_outer)
+
+
+
+def magnet_summary(site, m, thresholds_mT, uncertainty: float = 0.0) -> MagnetSummary:
+    """One magnet alone: centre field, extents, reach, limits for the field uncertainty,
+    stored energy, moments, and the fit spread of a data-sheet magnet."""
+    b0 = float(field_magnitude_T(m, np.asarray([m.center_m]))[0])
+    bounds = tuple((t, *threshold_extents_m(m, t * 1e-3)) for t in thresholds_mT)
+    reaches = tuple((t, *threshold_reach_m(m, t * 1e-3, extents_m=(a, rr)))
+                    for t, a, rr in bounds)
+    ranges = tuple((t, *threshold_extent_ranges_m(m, t * 1e-3, uncertainty, extents_m=(a, rr)))
+                   for t, a, rr in bounds)
+    q = zonal_moments_Am(m, 5)
+    return MagnetSummary(m.name, m.center_m, m.axis, m.description, b0, bounds, m.origin,
+                         stored_energy_J(m), m.dipole_moment_Am2,
+                         (float(q[1]), float(q[3]), float(q[5])), reaches, ranges,
+                         _fit_spread(site, m, thresholds_mT))
+
+
+def _fit_spread(site, magnet, thresholds_mT):
+    """The fit spread of a data-sheet magnet (None for a magnet given by coils)."""
+    return magnet_fit_spread(magnet, thresholds_mT)
+
+
+def drawn_site(site, thresholds_mT) -> object:
+    """``site`` with each data-sheet magnet replaced by the model of its fit spread whose
+    outermost plan line reaches farthest (fringe.analysis.fit_spread.outermost_magnet):
+    the model the report's maps, sections and verdicts use. A site without data-sheet
+    magnets is returned as it is."""
+    if not any(m.datasheet is not None for m in site.magnets):
+        return site
+    mags = []
+    for m in site.magnets:
+        o = outermost_magnet(m, thresholds_mT)
+        if o is not m:
+            o = replace(o, description=o.description + (
+                " Drawn with the model of its fit spread whose outermost line reaches "
+                "farthest, not the best fit (docs/fit.md)."))
+        mags.append(o)
+    return replace(site, magnets=tuple(mags))
 
 
 #: Largest plan grid step as a fraction of the boundary line's smallest extent. Marching

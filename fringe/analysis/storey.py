@@ -14,7 +14,10 @@ The full height informs; it does not change a floor's or room's verdict. A room 
 flagged ``ceiling_exceeds`` when its full-height maximum reaches its limit and is larger
 than its band maximum (the largest field in the room lies outside the occupied band):
 a room within limits in its band but not above it, or a room whose ceiling void is worse
-than the band that already exceeds.
+than the band that already exceeds. With a field uncertainty u (``[plan]
+field_uncertainty``) the same rule as the verdicts applies: a room whose full-height
+maximum lies outside its band, stays below its limit, but × (1 + u) reaches it is flagged
+``ceiling_marginal``.
 """
 
 from __future__ import annotations
@@ -191,17 +194,21 @@ class RoomCeiling:
     ceiling_exceeds : bool
         The full-height maximum reaches the room's limit and lies outside the occupied
         band (larger than the band maximum by more than :data:`CEILING_MARGIN_REL`).
+    ceiling_marginal : bool
+        As ``ceiling_exceeds`` but the maximum stays below the limit and only its value
+        × (1 + u) reaches it (u: the plan's field uncertainty).
     """
 
     name: str
     max_field_T: float
     max_at_m: tuple[float, float]
     ceiling_exceeds: bool
+    ceiling_marginal: bool = False
 
 
 def room_ceilings(site, rooms: Sequence[Room], checks: Sequence[RoomCheck],
-                  band_maps: Mapping[str, FloorMap], full_maps: Mapping[str, FloorMap]
-                  ) -> dict[str, RoomCeiling]:
+                  band_maps: Mapping[str, FloorMap], full_maps: Mapping[str, FloorMap],
+                  uncertainty: float = 0.0) -> dict[str, RoomCeiling]:
     """Full-height maximum and ``ceiling_exceeds`` of every room (by room name).
 
     ``checks`` are the band verdicts (:func:`fringe.analysis.verdicts.check_rooms`) of
@@ -220,7 +227,9 @@ def room_ceilings(site, rooms: Sequence[Room], checks: Sequence[RoomCheck],
         fmax, at = room_max_field(site, room, fmap)
         if fmax <= c.max_field_T:
             fmax, at = c.max_field_T, c.max_at_m
-        flag = (c.limit_T is not None and fmax >= c.limit_T
-                and fmax > c.max_field_T * (1.0 + CEILING_MARGIN_REL))
-        out[room.name] = RoomCeiling(room.name, fmax, at, bool(flag))
+        above = fmax > c.max_field_T * (1.0 + CEILING_MARGIN_REL)
+        flag = c.limit_T is not None and fmax >= c.limit_T and above
+        marginal = (c.limit_T is not None and not flag and above
+                    and fmax * (1.0 + uncertainty) >= c.limit_T)
+        out[room.name] = RoomCeiling(room.name, fmax, at, bool(flag), bool(marginal))
     return out

@@ -13,6 +13,11 @@ Rules (``docs/zones.md``):
   step across the outline and its edge and at the band step up its height.
 
 "Reaches" means ≥: a field exactly at the limit is not within it.
+
+With a field uncertainty u (``[plan] field_uncertainty``, docs/uncertainty.md) an item
+whose model value is below its limit but whose value × (1 + u) reaches it is
+``marginal``: a field underestimated by u would exceed. ``marginal`` never changes the
+exit code (only ``exceeds`` does).
 """
 
 from __future__ import annotations
@@ -48,12 +53,19 @@ MAX_VOLUME_SAMPLES: int = 400_000
 VERDICTS: tuple[Verdict, ...] = tuple(Verdict)
 
 
-def verdict(field_T: float, limit_T: float | None) -> Verdict:
-    """``exceeds`` if ``field_T`` ≥ ``limit_T``, ``within`` if below, ``controlled`` if
-    there is no limit (a controlled room without a limit of its own)."""
+def verdict(field_T: float, limit_T: float | None, uncertainty: float = 0.0) -> Verdict:
+    """``exceeds`` if ``field_T`` ≥ ``limit_T``; ``marginal`` if below but
+    ``field_T`` × (1 + ``uncertainty``) ≥ ``limit_T``; ``within`` otherwise;
+    ``controlled`` if there is no limit (a controlled room without a limit of its own).
+
+    >>> verdict(0.46e-3, 0.5e-3), verdict(0.46e-3, 0.5e-3, 0.10), verdict(0.5e-3, 0.5e-3, 0.1)
+    (<Verdict.WITHIN: 'within'>, <Verdict.MARGINAL: 'marginal'>, <Verdict.EXCEEDS: 'exceeds'>)
+    """
     if limit_T is None:
         return Verdict.CONTROLLED
-    return Verdict.EXCEEDS if field_T >= limit_T else Verdict.WITHIN
+    if field_T >= limit_T:
+        return Verdict.EXCEEDS
+    return Verdict.MARGINAL if field_T * (1.0 + uncertainty) >= limit_T else Verdict.WITHIN
 
 
 def room_limit(room: Room, boundary: Boundary) -> tuple[float | None, str]:
@@ -141,9 +153,10 @@ class RoomCheck:
 
 
 def check_rooms(site, rooms: Sequence[Room], floor_maps: Mapping[str, FloorMap],
-                floor_footprints: Mapping[str, Sequence[Footprint]], boundary: Boundary
-                ) -> tuple[RoomCheck, ...]:
-    """Verdicts for every room (see the module rules)."""
+                floor_footprints: Mapping[str, Sequence[Footprint]], boundary: Boundary,
+                uncertainty: float = 0.0) -> tuple[RoomCheck, ...]:
+    """Verdicts for every room (see the module rules; ``uncertainty`` is the field
+    uncertainty u that makes a verdict ``marginal``)."""
     out = []
     for room in rooms:
         fmap = floor_maps[room.floor]
@@ -153,7 +166,7 @@ def check_rooms(site, rooms: Sequence[Room], floor_maps: Mapping[str, FloorMap],
                                                                    fp.geometry).area))
                       for fp in floor_footprints.get(room.floor, ()))
         out.append(RoomCheck(room.name, room.floor, room.access, bmax, at, limit_T, src,
-                             verdict(bmax, limit_T), areas))
+                             verdict(bmax, limit_T, uncertainty), areas))
     return tuple(out)
 
 
@@ -172,7 +185,7 @@ class EquipmentCheck:
         |B| at the point, or the largest |B| over the volume, T.
     limit_T : float
     verdict : Verdict
-        ``exceeds`` or ``within``.
+        ``exceeds``, ``marginal`` or ``within``.
     note : str
     outline : shapely.Polygon or None
         A volume's plan outline (None for a point).
@@ -221,7 +234,8 @@ def volume_samples_m(outline, z_bottom_m: float, height_m: float, step_m: float,
 
 def check_equipment(site, equipment: Sequence[Equipment], floor_of=None, *,
                     floors: Sequence[Floor] = (), step_m: float = DEFAULT_GRID_STEP_M,
-                    band_step_m: float = DEFAULT_BAND_STEP_M) -> tuple[EquipmentCheck, ...]:
+                    band_step_m: float = DEFAULT_BAND_STEP_M, uncertainty: float = 0.0
+                    ) -> tuple[EquipmentCheck, ...]:
     """|B| at each equipment point, or its largest over each volume, and the verdicts.
 
     Parameters
@@ -235,6 +249,9 @@ def check_equipment(site, equipment: Sequence[Equipment], floor_of=None, *,
     step_m, band_step_m : float
         Plan and vertical sampling steps of volumes, m (the plan grid step and the band
         step of the report).
+    uncertainty : float
+        Field uncertainty u: a value below its limit whose value × (1 + u) reaches it is
+        ``marginal``.
     """
     if not equipment:
         return ()
@@ -261,7 +278,7 @@ def check_equipment(site, equipment: Sequence[Equipment], floor_of=None, *,
                                             "a volume wholly inside one"), "equipment")
             k = int(np.nanargmax(b))
             bi, at, fl = float(b[k]), tuple(float(v) for v in pts[k]), e.floor
-        out.append(EquipmentCheck(e.name, at, fl, bi, lim, verdict(bi, lim), e.note,
+        out.append(EquipmentCheck(e.name, at, fl, bi, lim, verdict(bi, lim, uncertainty), e.note,
                                   e.outline, e.height_m, e.class_name))
     return tuple(out)
 

@@ -230,4 +230,8 @@ def run(args) -> int:
         print_json(out)
     else:
         print(format_budget(budget, site.name))
+    if site.magnet(q.magnet).datasheet is not None:
+        sys.stderr.write(f"fringe: note: magnet {q.magnet!r} comes from data-sheet numbers; "
+                         "its stored energy is the largest over the models that meet them "
+                         "within their rounding (docs/fit.md)\n")
     return 0

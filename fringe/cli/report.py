@@ -79,6 +79,22 @@ def rooms_table(rooms, format_field) -> list[str]:
     return out
 
 
+def _spread_lines(m, format_energy_J) -> list[str]:
+    """The fit spread of a data-sheet magnet, one line per plan line and one for the
+    energy (none for a magnet given by coils)."""
+    sp = getattr(m, "fit_spread", None)
+    if sp is None:
+        return []
+    out = [f"  fit spread over {sp.models} model{'' if sp.models == 1 else 's'} meeting the "
+           "data sheet within its rounding (docs/fit.md):"]
+    for t, (a0, a1), (r0, r1) in sp.boundaries:
+        out.append(f"    {t:g} mT line {a0:.2f}-{a1:.2f} m along, {r0:.2f}-{r1:.2f} m across")
+    out.append(f"    stored energy {format_energy_J(sp.stored_energy_J[0], 3)} to "
+               f"{format_energy_J(sp.stored_energy_J[1], 3)} (the quench budget uses the "
+               "largest)")
+    return out
+
+
 def terminal_summary(result, out_dir: str | Path) -> str:
     """The short text printed after a report (verdicts first, then where files went)."""
     from fringe.cli.textfmt import format_energy_J
@@ -99,6 +115,7 @@ def terminal_summary(result, out_dir: str | Path) -> str:
                              f"stored energy {format_energy_J(m.stored_energy_J, 3)}")
         if m.origin != "coils" and m.description:
             lines.append(f"  model: {m.description}")
+        lines += _spread_lines(m, format_energy_J)
     for name, fps in r.footprints.items():
         b = next(fp for fp in fps if abs(fp.threshold_mT - r.boundary.value_mT)
                  < 1e-9 * fp.threshold_mT)

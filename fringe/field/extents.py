@@ -43,7 +43,7 @@ from fringe.model.errors import FringeInputError
 from fringe.model.magnet import Magnet
 
 __all__ = ["threshold_extents_m", "extents_from_moments", "field_bound_radius_m",
-           "SERIES_SAFE_FACTOR", "SERIES_L_MAX"]
+           "threshold_extent_ranges_m", "SERIES_SAFE_FACTOR", "SERIES_L_MAX"]
 
 #: The exterior series is used only beyond this multiple of the enclosing radius.
 #: Truncation error there is below ~l_max·(1/1.4)^l_max ≈ 6e-5 of the summed loop
@@ -203,6 +203,51 @@ def threshold_extents_m(magnet: Magnet, threshold_T: float, *,
             best = max(best, _outermost_crossing(f, s_start, s_stop, include_zero=True))
         out.append(best)
     return out[0], out[1]
+
+
+def threshold_extent_ranges_m(magnet: Magnet, threshold_T: float, uncertainty: float,
+                              extents_m: tuple[float, float] | None = None
+                              ) -> tuple[tuple[float, float], tuple[float, float]]:
+    """Inner and outer limits of a line's axial and radial extents, m, for a field known
+    to a relative uncertainty ``uncertainty`` (u, 0 ≤ u < 1).
+
+    If the true |B| lies within model × (1 ± u), the true line of ``threshold_T`` lies
+    between the model's line at threshold/(1 − u) (inner limit: the model field
+    overestimates by u) and at threshold/(1 + u) (outer limit: it underestimates by u).
+
+    Parameters
+    ----------
+    magnet : Magnet
+    threshold_T : float
+        The line's level, T.
+    uncertainty : float
+        u; 0 returns the extents themselves as both limits.
+    extents_m : (float, float), optional
+        The line's own (axial, radial) extents, if already computed (used for u = 0).
+
+    Returns
+    -------
+    (axial_inner_m, axial_outer_m), (radial_inner_m, radial_outer_m)
+
+    References
+    ----------
+    The limits follow from |B| being monotone along each line beyond its outermost
+    crossing (:func:`threshold_extents_m`); for a dipole far field (|B| ∝ r⁻³, Jackson,
+    *Classical Electrodynamics*, 3rd ed., Eq. 5.56) they are extent × (1 − u)^(1/3)
+    … extent × (1 + u)^(1/3).
+    """
+    u = float(uncertainty)
+    if not (math.isfinite(u) and 0.0 <= u < 1.0):
+        raise FringeInputError(f"`uncertainty` must be a fraction ≥ 0 and < 1; got "
+                               f"{uncertainty!r}")
+    if u == 0.0:
+        ax, rad = extents_m if extents_m is not None else threshold_extents_m(magnet,
+                                                                               threshold_T)
+        return (ax, ax), (rad, rad)
+    thr = _check_threshold(threshold_T)
+    ax_in, rad_in = threshold_extents_m(magnet, thr / (1.0 - u))
+    ax_out, rad_out = threshold_extents_m(magnet, thr / (1.0 + u))
+    return (ax_in, ax_out), (rad_in, rad_out)
 
 
 def extents_from_moments(q_Am: np.ndarray, threshold_T: float, r_min_m: float,

@@ -71,6 +71,10 @@ def _boundary_entry(m, t: float, axial: float, radial: float) -> dict:
     """One threshold line of a magnet in summary.json: centre-plane and on-axis extents,
     and its reach anywhere (largest distance from the axis and along it)."""
     out = {"threshold_mT": t, "axial_extent_m": num(axial, 5), "radial_extent_m": num(radial, 5)}
+    rng = m.boundary_range(t)
+    if rng is not None:  # [inner, outer] limits for the plan's field uncertainty
+        out["axial_extent_range_m"] = [num(v, 5) for v in rng[0]]
+        out["radial_extent_range_m"] = [num(v, 5) for v in rng[1]]
     reach = m.reach(t)
     if reach is not None:
         out["max_reach_m"] = num(reach[0], 5)
@@ -91,6 +95,19 @@ def _ceiling_exceeds(r: ReportResult, room: str) -> bool:
     """True when a room's full-height maximum reaches its limit above (or below) its band."""
     c = r.ceilings.get(room)
     return bool(c is not None and c.ceiling_exceeds)
+
+
+def _ceiling_marginal(r: ReportResult, room: str) -> bool:
+    """True when only the uncertainty band of a room's full-height maximum reaches its
+    limit (fringe.analysis.storey.RoomCeiling.ceiling_marginal)."""
+    c = r.ceilings.get(room)
+    return bool(c is not None and getattr(c, "ceiling_marginal", False))
+
+
+def _fit_spread(m) -> dict | None:
+    """``magnets[].fit_spread`` (None for a magnet given by coils)."""
+    sp = m.fit_spread
+    return None if sp is None else sp.to_dict()
 
 
 def _exposure_rows(r: ReportResult) -> list[dict]:
@@ -114,6 +131,7 @@ def summary_dict(r: ReportResult) -> dict:
         "site": {"name": r.site_name, "scenario_file": r.scenario_file},
         "boundary": {"value_mT": r.boundary.value_mT, "source": r.boundary.source},
         "thresholds_mT": list(r.thresholds_mT),
+        "field_uncertainty": r.uncertainty,
         "grid": {"step_m": r.grid_step_m, "extent_m": [list(r.extent_m[0]), list(r.extent_m[1])],
                  "band_step_m": r.plan.settings.band_step_m,
                  "frame": "site frame: x east, y north, z up, m"},
@@ -128,6 +146,7 @@ def summary_dict(r: ReportResult) -> dict:
                               "l5_Am6": num(m.zonal_moments[2])},
             "boundaries": [_boundary_entry(m, t, a, rr) for t, a, rr in m.boundaries],
             "attraction": attraction_extents(r, m.name),
+            "fit_spread": _fit_spread(m),
         } for m in r.magnets],
         "floors": [{
             "name": name, "elevation_m": fm.floor.elevation_m,
@@ -137,6 +156,8 @@ def summary_dict(r: ReportResult) -> dict:
             "band_refinement_rel": num(fm.band_correction_rel, 3),
             "max_field_T": num(float(np.max(fm.envelope_T))),
             "boundary_outside_controlled_m2": num(r.outside_controlled_m2[name], 4),
+            "boundary_outer_outside_controlled_m2":
+                num(r.outside_controlled_outer_m2.get(name, r.outside_controlled_m2[name]), 4),
             "verdict": r.floor_verdict(name),
             "footprints": [{"threshold_mT": fp.threshold_mT, "area_m2": num(fp.area_m2, 5),
                             "sampled_area_m2": num(fp.sampled_area_m2, 5),
@@ -151,6 +172,7 @@ def summary_dict(r: ReportResult) -> dict:
             "area_above_m2": [{"threshold_mT": t, "area_m2": num(a, 5)}
                               for t, a in c.area_above_m2],
             "ceiling_exceeds": _ceiling_exceeds(r, c.name),
+            "ceiling_marginal": _ceiling_marginal(r, c.name),
         } for c in r.rooms],
         "equipment": [{
             "name": e.name, "position_m": list(e.position_m), "floor": e.floor,

@@ -62,8 +62,9 @@ TOP_LEVEL_KEYS: tuple[str, ...] = ("site", "magnet", "plan", "floor", "room", "r
 
 #: Parsers for alternative magnet descriptions (e.g. data-sheet numbers), keyed by the
 #: sub-table name that selects them. Each takes the magnet Reader and the magnet's name
-#: and returns coils, a description and an origin tag.
-MAGNET_BUILDERS: Mapping[str, Callable[[Reader, str], tuple[tuple[Coil, ...], str, str]]] = (
+#: and returns coils, a description and an origin tag (and optionally a
+#: fringe.model.magnet.DataSheet of the numbers the coils were fitted to).
+MAGNET_BUILDERS: Mapping[str, Callable[[Reader, str], tuple]] = (
     MappingProxyType({DATASHEET_KEY: parse_datasheet}))
 
 #: Loaders of room outlines from plan files (``[[room_file]] format``), keyed by format
@@ -116,8 +117,10 @@ def parse_magnet(r: Reader) -> Magnet:
     builders = [k for k in MAGNET_BUILDERS if r.has(k)]
     if r.has("coil") and builders:
         r.fail(r.key("coil"), f"absent when `{r.key(builders[0])}` is given", "both")
+    sheet = None
     if builders:
-        coils, desc, origin = MAGNET_BUILDERS[builders[0]](r, name)
+        coils, desc, origin, *extra = MAGNET_BUILDERS[builders[0]](r, name)
+        sheet = extra[0] if extra else None  # a data-sheet builder also returns its numbers
         description = description or desc
     else:
         crs = r.tables("coil")
@@ -131,7 +134,7 @@ def parse_magnet(r: Reader) -> Magnet:
     envelope = parse_envelope(r.table("envelope"), coils)
     r.finish()
     _check_centre_field(r, name, coils)
-    return Magnet(name, center, axis, coils, description, origin, envelope)
+    return Magnet(name, center, axis, coils, description, origin, envelope, datasheet=sheet)
 
 
 def parse_envelope(r: Reader | None, coils: tuple[Coil, ...]) -> Envelope | None:

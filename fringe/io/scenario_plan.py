@@ -118,10 +118,15 @@ def parse_plan(root: Reader) -> PlanSettings:
     gradient_lines = _gradient_lines(r)
     show_gauss = r.boolean("show_gauss", False)
     north = r.number("north_deg", 0.0, low=-360.0, high=360.0)
+    uncertainty = r.number("field_uncertainty", 0.0, low=0.0)
+    if uncertainty >= 1.0:
+        r.fail(r.key("field_uncertainty"), "a fraction ≥ 0 and < 1 (0.10 for ±10 %)",
+               uncertainty)
     r.finish()
     return PlanSettings(boundary, with_boundary(th, boundary.value_mT), step, band_step,
                         band, extent, exposure, gradient_lines_T_per_m=gradient_lines,
-                        show_gauss=show_gauss, north_deg=float(north))
+                        show_gauss=show_gauss, north_deg=float(north),
+                        field_uncertainty=uncertainty)
 
 
 def _positive_numbers(r: Reader, key: str, default, unit: str) -> list:

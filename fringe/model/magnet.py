@@ -18,7 +18,7 @@ from functools import cached_property
 import numpy as np
 from scipy.spatial.transform import Rotation
 
-__all__ = ["Coil", "Envelope", "Magnet", "default_envelope",
+__all__ = ["Coil", "Envelope", "Magnet", "DataSheet", "default_envelope",
            "ENVELOPE_MARGIN_OUTER_M", "ENVELOPE_MARGIN_INNER_M", "ENVELOPE_INNER_FRACTION",
            "OPEN_BORE_MIN_DIAMETER_M"]
 
@@ -206,6 +206,42 @@ def _rotation_to_axis(axis: tuple[float, float, float]) -> Rotation:
 
 
 @dataclass(frozen=True)
+class DataSheet:
+    """The data-sheet numbers a magnet was fitted to, their rounding, and the fit found.
+
+    Attributes
+    ----------
+    center_field_T : float
+        Centre field, T.
+    center_field_tol_T : float
+        Half a unit of its last given digit, T (the data sheet's rounding).
+    shielded : bool
+    bore_m : float or None
+        Warm bore diameter given, m (None: not given).
+    lines : tuple of (threshold_T, axial_m, radial_m)
+        The data-sheet lines.
+    tolerances_m : tuple of (axial_tol_m, radial_tol_m)
+        Half a unit of the last given digit of each extent, m.
+    family : str
+        The family of the best fit (a key of ``fringe.physics.families.FAMILIES``).
+    parameters : tuple of float
+        Its fitted shape parameters (the family's ``FitShape.parameters`` order).
+    a_min_m : float
+        Smallest winding radius the fit used, m.
+    """
+
+    center_field_T: float
+    center_field_tol_T: float
+    shielded: bool
+    bore_m: float | None
+    lines: tuple[tuple[float, float, float], ...]
+    tolerances_m: tuple[tuple[float, float], ...]
+    family: str
+    parameters: tuple[float, ...]
+    a_min_m: float
+
+
+@dataclass(frozen=True)
 class Magnet:
     """A set of coaxial coils placed and turned in the site frame.
 
@@ -227,6 +263,9 @@ class Magnet:
     cryostat : Envelope or None
         The cryostat envelope as given; None means the default around the windings
         (:func:`default_envelope`). Use :attr:`envelope` for the one in effect.
+    datasheet : DataSheet or None
+        The data-sheet numbers the coils were fitted to (None for coils given as such);
+        kept by :meth:`moved`, dropped by :meth:`scaled` and when the coils change.
     """
 
     name: str
@@ -236,6 +275,7 @@ class Magnet:
     description: str = ""
     origin: str = field(default="coils", compare=False)
     cryostat: Envelope | None = None
+    datasheet: DataSheet | None = field(default=None, compare=False, repr=False)
 
     def __post_init__(self) -> None:
         a = np.asarray(self.axis, dtype=float)
@@ -311,7 +351,7 @@ class Magnet:
         """The same magnet at another centre and/or with another axis."""
         return Magnet(self.name, self.center_m if center_m is None else tuple(center_m),
                       self.axis if axis is None else tuple(axis), self.coils,
-                      self.description, self.origin, self.cryostat)
+                      self.description, self.origin, self.cryostat, self.datasheet)
 
     def contains_points(self, points_m: np.ndarray, margin_m: float = 0.0) -> np.ndarray:
         """Boolean mask (N,) of site points lying inside any winding (grown by margin)."""

@@ -66,6 +66,11 @@ class PlanSettings:
         Direction of true (or project) north on the plans, degrees from the site +y axis,
         counter-clockwise positive (``[plan] north_deg``; 0: north is +y, 90: north
         points to −x). Only the north arrow turns; the site frame stays as it is.
+    field_uncertainty : float
+        Relative uncertainty u of the model's |B| (``[plan] field_uncertainty``, 0 ≤ u < 1):
+        the true field is taken to lie within model × (1 ± u). Each line then has an inner
+        limit (the model's line at threshold/(1 − u)) and an outer limit (at
+        threshold/(1 + u)); docs/uncertainty.md.
     """
 
     boundary: Boundary
@@ -78,6 +83,7 @@ class PlanSettings:
     gradient_lines_T_per_m: tuple[float, ...] = DEFAULT_GRADIENT_LINES_T_PER_M
     show_gauss: bool = False
     north_deg: float = 0.0
+    field_uncertainty: float = 0.0
 
 
 #: ISO 216 A-series paper sizes, (short side, long side) in mm. The sheets are landscape.

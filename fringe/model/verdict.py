@@ -1,7 +1,8 @@
 """The verdict on a room, an equipment point or a floor.
 
 A :class:`Verdict` is a :class:`enum.StrEnum`: it compares equal to its word, and JSON,
-CSV and f-strings write the word itself (``exceeds``, ``within``, ``controlled``). Rules
+CSV and f-strings write the word itself (``exceeds``, ``marginal``, ``within``,
+``controlled``). Rules
 in :mod:`fringe.analysis.verdicts` and ``docs/zones.md``.
 
 The word ``controlled`` is also an access class of rooms
@@ -23,6 +24,10 @@ class Verdict(enum.StrEnum):
     ----------
     EXCEEDS
         The largest |B| reaches the limit (≥).
+    MARGINAL
+        The largest |B| stays below the limit, but the outer edge of the field
+        uncertainty band reaches it: |B| × (1 + u) ≥ limit, with u the
+        ``[plan] field_uncertainty`` (docs/uncertainty.md). Never given when u = 0.
     WITHIN
         The largest |B| stays below the limit.
     CONTROLLED
@@ -31,5 +36,6 @@ class Verdict(enum.StrEnum):
     """
 
     EXCEEDS = "exceeds"
+    MARGINAL = "marginal"
     WITHIN = "within"
     CONTROLLED = "controlled"

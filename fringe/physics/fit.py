@@ -61,7 +61,7 @@ from fringe.physics.families import (
 )
 
 __all__ = ["FieldLine", "FitResult", "fit_magnet", "check_request", "minimum_dipole_moment_Am2",
-           "family_choice_note",
+           "family_choice_note", "family_member", "series_extents_m",
            "EXTENT_TOLERANCE", "DIPOLE_RATIO", "LAB_BORE_LIMIT_M", "MAX_CENTER_FIELD_T"]
 
 #: Relative extent error above which the fit is reported as not reproducing the request.
@@ -127,6 +127,8 @@ class FitResult:
     notes : tuple of str
         Plain notes, not warnings: e.g. which family was chosen because no warm bore was
         given (:func:`family_choice_note`). Not issued as warnings; callers print them.
+    a_min_m : float
+        Smallest winding radius of the family member, m.
     """
 
     magnet: Magnet
@@ -139,6 +141,9 @@ class FitResult:
     moments_Am: np.ndarray = field(repr=False)
     warnings: tuple[str, ...] = ()
     notes: tuple[str, ...] = ()
+    #: Smallest winding radius the family member was built with, m (warm bore / 2 +
+    #: the family's cryostat allowance).
+    a_min_m: float = float("nan")
 
     @property
     def max_residual(self) -> float:
@@ -206,6 +211,23 @@ def _model_extents(magnet: Magnet, thresholds_T) -> np.ndarray:
             rad = rad2 if math.isnan(rad) else rad
         out[i] = ax, rad
     return out
+
+
+def family_member(family: str, parameters, center_field_T: float, a_min_m: float, *,
+                  whole_turns: bool = True) -> Magnet:
+    """The member of fit family ``family`` with shape ``parameters`` (the family's
+    ``FitShape.parameters`` order), centre field ``center_field_T`` (T) and smallest winding
+    radius ``a_min_m`` (m); centre at the origin, axis +z."""
+    _family_spec(family)
+    return _build(family, np.asarray(parameters, dtype=float), float(center_field_T),
+                  float(a_min_m), whole_turns)
+
+
+def series_extents_m(magnet: Magnet, thresholds_T) -> np.ndarray:
+    """(n, 2) axial and radial extents in m of the lines ``thresholds_T`` (T), by the
+    exterior zonal series with the direct field as fallback (the fit's own route; see
+    the module notes)."""
+    return _model_extents(magnet, list(thresholds_T))
 
 
 def minimum_dipole_moment_Am2(center_field_T: float, winding_radius_m: float) -> float:
@@ -407,7 +429,7 @@ def fit_magnet(center_field_T: float, lines, *, shielded: bool = True,
                      float(interior_coefficients_T(magnet, 0)[0]),
                      zonal_moments_Am(magnet, 7), tuple(warn),
                      (family_choice_note(fam, tried),) if family is None and bore_m is None
-                     else ())
+                     else (), a_min)
 
 
 def _parse_lines(lines) -> tuple[FieldLine, ...]:

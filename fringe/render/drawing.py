@@ -383,11 +383,14 @@ class _LineSet:
 def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | None,
                 boundary_label: str | None, cmap: str | None, band_alpha: float,
                 log_contours: bool, palette=None,
-                show_gauss: bool = False) -> tuple[list, list[_LineSet]]:
+                show_gauss: bool = False,
+                uncertainty: float = 0.0) -> tuple[list, list[_LineSet]]:
     """Filled bands between consecutive levels, contour lines, emphasised boundary.
 
     Returns legend entries (handle, label) and the unlabelled line sets (boundary first).
     With ``show_gauss`` (and ``unit`` "mT") every level also reads in gauss, in brackets.
+    With ``uncertainty`` u > 0 the boundary's uncertainty band (values between
+    boundary/(1 + u) and boundary/(1 − u)) is shaded (:func:`_draw_uncertainty_band`).
     """
     def lab(lo: float, hi: float | None = None) -> str:
         if unit == "mT":
@@ -432,6 +435,9 @@ def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | 
         reached = vmin < boundary_level < vmax
         entries.append((Line2D([], [], color=_INK, linewidth=2.6),
                         blabel if reached else blabel + " (not reached on this sheet)"))
+        if uncertainty > 0:
+            entries += _draw_uncertainty_band(ax, x, y, Z, boundary_level, uncertainty,
+                                              log_contours)
     plain = [lv for lv in levels if vmin < lv < vmax and (boundary_level is None or not
              math.isclose(lv, boundary_level, rel_tol=1e-9))]
     if plain:
@@ -442,6 +448,33 @@ def _draw_bands(ax, x, y, values, levels, *, unit: str, boundary_level: float | 
     entries.append((Line2D([], [], color=_INK, linewidth=0.7),
                     f"threshold lines, labelled in {unit}"))
     return entries, sets
+
+
+#: The uncertainty band of the boundary: a translucent white veil with a sparse dot
+#: hatch in the ink colour, so the field bands under it stay readable (our own style).
+_UNCERTAINTY_STYLE: dict[str, Any] = {"facecolor": (1.0, 1.0, 1.0, 0.45), "hatch": "..",
+                                      "edgecolor": _INK}
+
+
+def _draw_uncertainty_band(ax, x, y, Z, boundary_level: float, uncertainty: float,
+                           log_contours: bool) -> list:
+    """Shade where the map lies between boundary/(1 + u) and boundary/(1 − u): the band
+    the true boundary line lies in when the field is known to ±u (docs/uncertainty.md).
+    Returns its legend entry."""
+    lo, hi = boundary_level / (1.0 + uncertainty), boundary_level / (1.0 - uncertainty)
+    finite = Z[np.isfinite(Z)]
+    zlo, zhi = _log_or_linear([lo, hi], log_contours)
+    if finite.size and finite.max() > zlo and finite.min() < zhi:
+        cs = ax.contourf(x, y, Z, levels=[zlo, zhi], colors=[_UNCERTAINTY_STYLE["facecolor"]],
+                         hatches=[_UNCERTAINTY_STYLE["hatch"]], zorder=3.6)
+        cs.set_edgecolor(_UNCERTAINTY_STYLE["edgecolor"])
+        cs.set_linewidth(0.0)
+        # both limits as fine dotted lines, so a narrow band still shows its edges
+        ax.contour(x, y, Z, levels=[zlo, zhi], colors=_INK, linewidths=0.8,
+                   linestyles=[(0, (1, 1.2))], zorder=3.7)
+    pct = f"{uncertainty * 100:.3g}"
+    return [(Patch(**_UNCERTAINTY_STYLE, linewidth=0.8, linestyle=(0, (1, 1.2))),
+             f"uncertainty band ±{pct} % (where the boundary may lie)")]
 
 
 def _text_size_px(ax, renderer, text: str, fontsize: float, weight: str) -> tuple[float, float]:
@@ -1254,7 +1287,8 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
               x_label: str = "x (east), m", y_label: str = "y (north), m",
               north_arrow: bool = True, palette=None, show_gauss: bool = False,
               moving_steel: Sequence[MovingSteelMark] = (),
-              north_deg: float = 0.0) -> Figure:
+              north_deg: float = 0.0,
+              uncertainty: float = 0.0) -> Figure:
     """A plan sheet of any scalar map: filled bands between levels and labelled lines.
 
     Parameters
@@ -1305,6 +1339,10 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     north_deg : float
         Direction of north from the +y axis, degrees counter-clockwise (``[plan]
         north_deg``); turns the north arrow only.
+    uncertainty : float
+        Relative field uncertainty u (0 ≤ u < 1, ``[plan] field_uncertainty``): with u > 0
+        and a ``boundary_level`` the band between the boundary's inner and outer limits
+        (values boundary/(1 − u) and boundary/(1 + u)) is shaded.
 
     Returns
     -------
@@ -1340,7 +1378,8 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
                                      boundary_level=boundary_level,
                                      boundary_label=boundary_label, cmap=cmap,
                                      band_alpha=band_alpha, log_contours=log_contours,
-                                     palette=palette, show_gauss=show_gauss)
+                                     palette=palette, show_gauss=show_gauss,
+                                     uncertainty=_check_uncertainty(uncertainty))
     entries += _draw_overlays(ax, overlays)
     mag_texts, mag_entries = _draw_magnets(ax, magnets)
     mag_entries += _draw_magnets(ax, windings, section=True)[1]
@@ -1388,6 +1427,14 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     return fig
 
 
+def _check_uncertainty(uncertainty) -> float:
+    """``uncertainty`` as a float in [0, 1); FringeInputError otherwise."""
+    u = float(uncertainty) if isinstance(uncertainty, (int, float)) else math.nan
+    if not (math.isfinite(u) and 0.0 <= u < 1.0):
+        raise FringeInputError(must_be("uncertainty", "a fraction ≥ 0 and < 1", uncertainty))
+    return u
+
+
 def _with_boundary_note(info: SheetInfo, boundary_mT: float | None) -> SheetInfo:
     """Every field sheet states its boundary value: fill the note in if the caller did not."""
     if info.boundary_note or boundary_mT is None:
@@ -1403,7 +1450,8 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
                magnets: Sequence = (), overlays: Sequence = (), notes: Sequence[str] = (),
                cmap: str | None = None, show_gauss: bool = False,
                moving_steel: Sequence[MovingSteelMark] = (),
-               north_deg: float = 0.0) -> Figure:
+               north_deg: float = 0.0,
+               uncertainty: float = 0.0) -> Figure:
     """Floor plan of the field magnitude in mT, with rooms, equipment and the boundary.
 
     Parameters
@@ -1435,6 +1483,8 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
         Moving-steel paths on this floor, as :func:`map_sheet`.
     north_deg : float
         As :func:`map_sheet`.
+    uncertainty : float
+        As :func:`map_sheet`: shade the boundary's uncertainty band.
 
     Returns
     -------
@@ -1461,7 +1511,7 @@ def plan_sheet(x_m, y_m, field_T, info: SheetInfo, *,
                      cmap=cmap, log_contours=True,
                      palette=threshold_color if cmap is None else None,
                      show_gauss=show_gauss, moving_steel=moving_steel,
-                     north_deg=north_deg)
+                     north_deg=north_deg, uncertainty=uncertainty)
 
 
 def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
@@ -1470,7 +1520,8 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
                   floors: Sequence = (), windings: Sequence = (),
                   exposure_lines: Sequence[ExposureLine] = (), overlays: Sequence = (),
                   notes: Sequence[str] = (), s_label: str = "s along the section line, m",
-                  cmap: str | None = None, show_gauss: bool = False) -> Figure:
+                  cmap: str | None = None, show_gauss: bool = False,
+                  uncertainty: float = 0.0) -> Figure:
     """Vertical section of |B| in mT: bands, labelled lines, floors, windings, exposure.
 
     Parameters
@@ -1492,7 +1543,7 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
     exposure_lines : sequence of ExposureLine
         Drawn as dashed labelled lines where |B| equals their value; their sources are
         printed in the notes (e.g. :data:`ICNIRP_2009_EXPOSURE_LINES`).
-    overlays, notes, s_label, cmap, show_gauss
+    overlays, notes, s_label, cmap, show_gauss, uncertainty
         As :func:`map_sheet` and :func:`plan_sheet`; ``s_label`` names the horizontal axis.
 
     Returns
@@ -1521,7 +1572,8 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
                                      boundary_level=boundary_mT, boundary_label=label,
                                      cmap=cmap, band_alpha=0.62, log_contours=True,
                                      palette=threshold_color if cmap is None else None,
-                                     show_gauss=show_gauss)
+                                     show_gauss=show_gauss,
+                                     uncertainty=_check_uncertainty(uncertainty))
     entries += _draw_overlays(ax, overlays)
     occupied: list[Bbox] = []
     entries += _draw_floor_levels(ax, renderer, floors, s, z, occupied)

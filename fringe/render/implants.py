@@ -50,6 +50,8 @@ def _notes(imp: SiteImplants, m: ImplantMap) -> list[str]:
     for c in imp.conditions:
         state = ("holds everywhere accessible" if c.holds_everywhere_accessible else
                  "a limit is passed in its hatched region (legend)")
+        if getattr(c, "marginal", False):
+            state += ", but is marginal: not within the field uncertainty"
         iso = "" if c.holds_at_isocentre else " It is NOT met at the isocentre."
         notes.append(f"Implant condition {c.condition.name!r}: {state}.{iso}")
     notes.append(IMPLANT_CAUTION)
@@ -110,6 +112,10 @@ def implant_findings(imp: SiteImplants | None) -> list[str]:
             p = ", ".join(f"{v:.2f}" for v in c.worst_point_m)
             lines.append(f"Implant condition {name!r}: met at the isocentre but a limit is "
                          f"passed elsewhere (worst at ({p}) m, {c.worst_ratio:.2f}× the limit)")
+        elif getattr(c, "marginal", False):
+            lines.append(f"Implant condition {name!r}: met everywhere accessible, but "
+                         f"marginal ({c.worst_ratio:.2f}× the limit at worst: not met if "
+                         "the field is higher by the plan's field uncertainty)")
         else:
             lines.append(f"Implant condition {name!r}: met everywhere accessible")
     return lines

@@ -304,6 +304,7 @@ def _cover_findings(r: ReportResult) -> list[str]:
     findings[1:1] = implant_findings(r.implants)  # after the overall verdict
     if len(findings) > 24:  # keep the cover to one sheet; the tables list everything
         keep = [f for f in findings if Verdict.EXCEEDS in f or "outside the controlled" in f
+                or f.endswith(f": {Verdict.MARGINAL}")
                 or f.startswith(("Overall verdict:", "Implant condition"))]
         findings = keep[:22] + [f"{len(findings) - len(keep[:22])} further finding(s) "
                                 "within limits or in controlled rooms: see the tables"]
@@ -331,6 +332,8 @@ def _ceiling_note(r: ReportResult, room: str) -> str:
     from fringe.render import drawing as dr
 
     c = r.ceilings.get(room)
+    if c is not None and getattr(c, "ceiling_marginal", False):
+        return f"above band: marginal at ceiling ({dr.format_field(c.max_field_T)})"
     if c is None or not c.ceiling_exceeds:
         return ""
     return f"above band: exceeds at ceiling ({dr.format_field(c.max_field_T)})"
@@ -457,7 +460,8 @@ def _plan_sheet(r: ReportResult, name: str, fm, base: dict, site_mags: dict, roo
                          rooms=rooms, equipment=equip, magnets=mags, overlays=overlays,
                          notes=_plan_notes(r, name, fm) + moving_notes,
                          show_gauss=r.plan.settings.show_gauss, moving_steel=moving,
-                         north_deg=r.plan.settings.north_deg)
+                         north_deg=r.plan.settings.north_deg,
+                         uncertainty=r.uncertainty)
 
 
 def _reversal_note(sec, magnet) -> list[str]:
@@ -538,7 +542,8 @@ def _section_sheets(r: ReportResult, base: dict, site_mags: dict, taken: set[str
                                + _reversal_note(sec, site_mags.get(sec.magnet)),
                                s_label=s_label,
                                exposure_lines=exposure, overlays=sec_overlays,
-                               show_gauss=r.plan.settings.show_gauss)
+                               show_gauss=r.plan.settings.show_gauss,
+                               uncertainty=r.uncertainty)
         stem = sec.magnet if sec.direction == "along" else f"{sec.magnet}-{sec.direction}"
         sheets.append((f"section-{slug(stem, taken)}", fig))
         if sec.direction == "along" and att is not None:

@@ -158,3 +158,23 @@ def test_report_summary_and_sheets_carry_the_implant_figures(tmp_path, run_cli):
     assert (tmp_path / "rep" / "implants-m.png").exists()
     pdf_text = (tmp_path / "rep" / "implants-m.svg").read_text()
     assert "Spatial field gradient around m" in pdf_text
+
+
+def test_condition_marginal_under_the_field_uncertainty(site, imap):
+    # the rule of docs/uncertainty.md (definition, no source): holds in the model, fails
+    # for a field (1 + u) times it; |∇|B|| scales like |B|, the force product like |B|²
+    b0 = np.linalg.norm(field_at(site, [site.magnets[0].center_m]), axis=1)
+    mx = accessible_maxima(imap)
+    figs = (b0, np.zeros(1))
+    field = ImplantCondition("field, 5 % above the maximum", mx["field_T"].value * 1.05)
+    assert not check_condition(field, [imap], figs).marginal              # u = 0
+    assert check_condition(field, [imap], figs, 0.10).marginal            # 1.10 > 1.05
+    assert not check_condition(field, [imap], figs, 0.04).marginal        # 1.04 < 1.05
+    force = ImplantCondition("force, 15 % above", 100.0, None,
+                             mx["force_product_T2_per_m"].value * 1.15)
+    assert check_condition(force, [imap], figs, 0.08).marginal            # 1.08² = 1.166
+    assert not check_condition(force, [imap], figs, 0.07).marginal        # 1.07² = 1.145
+    strict = ImplantCondition("strict", mx["field_T"].value * 0.5)
+    r = check_condition(strict, [imap], figs, 0.10)
+    assert not r.holds_everywhere_accessible and not r.marginal  # fails outright
+    assert r.to_dict()["marginal"] is False

@@ -96,9 +96,10 @@ def test_verdict_rule():
     assert verdict(1.0, None) == "controlled"
     # each word a check produces is a Verdict and prints as the bare word that users'
     # scripts read in summary.json and rooms.csv
-    produced = (verdict(5e-4, 5e-4), verdict(4.999e-4, 5e-4), verdict(1.0, None))
+    produced = (verdict(5e-4, 5e-4), verdict(4.6e-4, 5e-4, 0.1), verdict(4.999e-4, 5e-4),
+                verdict(1.0, None))
     assert all(isinstance(v, Verdict) for v in produced) and set(produced) == set(VERDICTS)
-    assert json.dumps(produced) == '["exceeds", "within", "controlled"]'
+    assert json.dumps(produced) == '["exceeds", "marginal", "within", "controlled"]'
     assert f"{produced[0]}" == "exceeds"
     b = Boundary(0.5, "src")
     sq = shapely.box(0, 0, 1, 1)

@@ -90,7 +90,7 @@ def test_site_magnet_names_the_key_and_the_cli_the_option(tmp_path, capsys):
 
 
 def test_verdict_writes_as_its_word():
-    assert [str(v) for v in Verdict] == ["exceeds", "within", "controlled"]
+    assert [str(v) for v in Verdict] == ["exceeds", "marginal", "within", "controlled"]
     assert json.dumps({"verdict": Verdict.EXCEEDS, Verdict.WITHIN: 1}) == (
         '{"verdict": "exceeds", "within": 1}')
     buf = io.StringIO()
