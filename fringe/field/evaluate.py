@@ -63,7 +63,9 @@ def coordinate_range_problem(points_m: np.ndarray, key: str) -> str | None:
     naming its own ``key`` (the Python argument, e.g. ``points_m``; the command line passes
     its option name).
     """
-    far = float(np.max(np.abs(points_m), initial=0.0))
+    p = np.asarray(points_m)
+    # the largest |coordinate| from the two extremes: no temporary |p| array
+    far = max(float(np.max(p, initial=0.0)), -float(np.min(p, initial=0.0)))
     if far > MAX_COORDINATE_M:
         return (f"`{key}` must be site coordinates within ±{MAX_COORDINATE_M:g} m; "
                 f"got a coordinate of {far:g} m")
