@@ -4,9 +4,9 @@ One run, the same points throughout: N points (default 10⁶) 1–30 m from the 
 the demo magnet (isotropic directions, distance uniform, seed 2026), written to a .npy
 file. Printed:
 
-* the compiled series kernel (:mod:`fringe.field._kernels`) alone on those points: points/s
-  with one thread (per core) and with one thread per core (in all), best of ``--repeat``,
-  with the process CPU time beside the wall time;
+* the compiled series kernel (:mod:`fringe.field._kernels`) alone on all those points at
+  once: points/s with one thread (per core) and with one thread per core (in all), best
+  of ``--repeat``, with the process CPU time beside the wall time;
 * ``field_at`` (fast path, error check, direct sum for the declined points) with the
   kernel and with the numpy path;
 * ``fringe probe SCENARIO --points FILE.npy --out OUT.npy`` called in this process
@@ -102,15 +102,14 @@ def main() -> None:  # noqa: PLR0915 - one linear report
     assert _kernels._compile() is not None, "numba kernel unavailable"
     print(f"kernel loaded in this process in {time.perf_counter() - t0:.2f} s")
     model, amps = _model_and_scale(m.coils, DEFAULT_RADIAL_ORDER, None)
-    rot = m.rotation.as_matrix()
+    prep = _kernels.prepare(model, m.rotation.as_matrix(), m.center_m, amps)
     out, err = np.zeros_like(pts), np.zeros(a.n)
     rates = {}
     for threads in (1, _kernels.thread_count()):
         def kern(threads=threads):
             out[:] = 0.0
             err[:] = 0.0
-            _kernels.series_site_field(pts, out, err, model, rot, m.center_m, amps,
-                                       threads=threads)
+            _kernels.series_site_field(pts, out, err, prep, threads=threads)
         w, c = best(kern, a.repeat)
         rates[threads] = a.n / w
         print(f"series kernel, {threads} thread(s): best {w:.4f} s wall, {c:.4f} s CPU -> "

@@ -29,18 +29,20 @@ import math
 import os
 import threading
 import warnings
+from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
 
-__all__ = ["available", "loaded", "wanted", "series_site_field", "declined_points",
-           "thread_count", "KERNEL_MIN_POINTS", "CHUNK_PER_THREAD"]
+__all__ = ["available", "loaded", "wanted", "prepare", "series_site_field",
+           "declined_points", "workers", "thread_count", "KERNEL_MIN_POINTS",
+           "CHUNK_PER_THREAD"]
 
 #: The kernel is loaded once this many points have been asked of the fast path in one
 #: process (importing numba, ~0.5–1 s, costs about as much as the numpy path on
 #: 3–5·10⁶ points); once loaded it serves every call of ≥ :data:`CHUNK_PER_THREAD` points.
 KERNEL_MIN_POINTS: int = 4_000_000
-#: Below this many points per thread a call runs in the calling thread alone.
-CHUNK_PER_THREAD: int = 50_000
+#: Fewest points per thread (fewer: the calling thread alone does the slice).
+CHUNK_PER_THREAD: int = 16_384
 
 _KERNEL = None
 _DECLINED = None
@@ -195,21 +197,17 @@ def thread_count() -> int:
         return max(1, os.cpu_count() or 1)
 
 
-def series_site_field(p: np.ndarray, out: np.ndarray, err: np.ndarray, model, rot: np.ndarray,
-                      center_m, amps: float, threads: int | None = None) -> np.ndarray | None:
-    """Add one magnet's series field at site points ``p`` (N, 3) to ``out`` (N, 3) and its
-    error bound to ``err`` (N,); return the indices of the points in the table sphere
-    (not evaluated), or None if the kernel is unavailable (nothing was changed).
+def prepare(model, rot: np.ndarray, center_m, amps: float) -> tuple | None:
+    """The kernel's arguments for one magnet (None if the kernel is unavailable).
 
-    ``rot``: the magnet's local → site rotation matrix; ``amps``: the current factor of its
-    normalised model (:func:`fringe.field.fast._model_and_scale`).
+    ``model``: the magnet's normalised :class:`~fringe.field.fast.AxisymmetricModel`;
+    ``rot``: its local → site rotation matrix; ``amps``: the current factor of the model
+    (:func:`fringe.field.fast._model_and_scale`).
     """
     from fringe.field.fast import TABLE_RADIUS_FACTOR, _scaled_recurrence
 
-    kernel = _compile()
-    if kernel is None:
+    if _compile() is None:
         return None
-    n = len(p)
     lmax = int(np.max(model.band_lmax))
     beta_s, beta_f, c_z, c_g = _scaled_recurrence(lmax)
     d = np.zeros(lmax + 1)
@@ -220,46 +218,81 @@ def series_site_field(p: np.ndarray, out: np.ndarray, err: np.ndarray, model, ro
     dcg[1:lmax + 1] = d[1:] * c_g[1:lmax + 1]
     # numpy skips degrees with d_l = 0: flag them by dcz = 0 (dcg follows)
     dcz[1:lmax + 1][d[1:] == 0.0] = 0.0
-    args = (np.asarray(center_m, float), np.ascontiguousarray(rot.T / model.scale_m),
+    return (np.asarray(center_m, float), np.ascontiguousarray(rot.T / model.scale_m),
             np.ascontiguousarray(rot * amps), dcz, dcg, beta_s, beta_f,
             np.ascontiguousarray(model.band_edges_sq), np.ascontiguousarray(
                 model.band_lmax, dtype=np.int64), np.ascontiguousarray(model.band_err),
             float(TABLE_RADIUS_FACTOR) ** 2, abs(float(amps)))
-    code = np.empty(n, dtype=np.int8)
-    _run(kernel, (p, out, err, code), args, threads)
+
+
+def series_site_field(p: np.ndarray, out: np.ndarray, err: np.ndarray, prepared: tuple,
+                      threads: int | None = None, pool=None) -> np.ndarray:
+    """Add one magnet's series field at site points ``p`` (N, 3, C-ordered) to ``out``
+    (N, 3) and its error bound to ``err`` (N,); return the indices of the points in its
+    table sphere (left unevaluated).
+
+    ``prepared``: :func:`prepare` of the magnet; ``pool``: a :func:`workers` pool (else
+    threads are started for this call).
+    """
+    code = np.empty(len(p), dtype=np.int8)
+    _run(_KERNEL, (p, out, err, code), prepared, threads, pool)
     return np.flatnonzero(code)
 
 
 def declined_points(out: np.ndarray, err: np.ndarray, factor: float,
-                    threads: int | None = None) -> np.ndarray:
+                    threads: int | None = None, pool=None) -> np.ndarray:
     """Indices where ``err`` is not below ``factor``·|B| (``out`` (N, 3), ``err`` (N,))."""
     flag = np.empty(len(out), dtype=np.int8)
-    _run(_DECLINED, (out, err, flag), (float(factor),), threads)
+    _run(_DECLINED, (out, err, flag), (float(factor),), threads, pool)
     return np.flatnonzero(flag)
 
 
-def _run(kernel, sliced: tuple, args: tuple, threads: int | None) -> None:
+def workers(threads: int | None = None) -> ThreadPoolExecutor:
+    """A pool of ``threads - 1`` helper threads (default: one per core) for the calls of
+    one :func:`~fringe.field.evaluate.field_at`; use it as a context manager, so its
+    threads end with the call (nothing is left running at a ``fork``)."""
+    return ThreadPoolExecutor(max_workers=max(1, (threads or thread_count()) - 1),
+                              thread_name_prefix="fringe-field")
+
+
+def _run(kernel, sliced: tuple, args: tuple, threads: int | None, pool=None) -> None:
     """``kernel(*sliced, *args)`` on contiguous slices of the arrays in ``sliced`` (all of
-    one length), one thread per slice, the first slice in the calling thread."""
+    one length): the first slice in the calling thread, the others in ``pool`` (or in
+    threads started here)."""
     n = len(sliced[0])
     nt = max(1, min(threads or thread_count(), n // CHUNK_PER_THREAD))
     edges = np.linspace(0, n, nt + 1).astype(int)
+
+    def part(k: int) -> None:
+        a, b = int(edges[k]), int(edges[k + 1])
+        kernel(*(x[a:b] for x in sliced), *args)
+
+    if nt == 1:
+        part(0)
+        return
+    if pool is not None:
+        futures = [pool.submit(part, k) for k in range(1, nt)]
+        try:
+            part(0)
+        finally:
+            for f in futures:
+                f.exception()         # wait for every slice before raising
+        for f in futures:
+            f.result()
+        return
     errors: list[BaseException] = []
 
-    def part(a: int, b: int) -> None:
+    def guarded(k: int) -> None:
         try:
-            kernel(*(x[a:b] for x in sliced), *args)
+            part(k)
         except BaseException as e:  # noqa: BLE001 - re-raised in the caller
             errors.append(e)
 
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")  # numba's cache notices are not the caller's concern
-        workers = [threading.Thread(target=part, args=(int(edges[k]), int(edges[k + 1])))
-                   for k in range(1, nt)]
-        for w in workers:
-            w.start()
-        part(int(edges[0]), int(edges[1]))
-        for w in workers:
-            w.join()
+    started = [threading.Thread(target=guarded, args=(k,)) for k in range(1, nt)]
+    for t in started:
+        t.start()
+    guarded(0)
+    for t in started:
+        t.join()
     if errors:
         raise errors[0]

@@ -137,7 +137,8 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
     if inside is not None:
         inside[:] = False
     # large calls: the compiled series kernel on every core (fringe.field._kernels)
-    done = all(fast) and bool(mags) and _kernel_field(mags, p, out, fallback, options, inside)
+    done = all(fast) and bool(mags) and _kernel_field(mags, p, out, fallback, options, inside,
+                                                      chunk_size)
     if inside is not None and not done:
         inside[:] = points_in_windings(mags, p)
     for a in range(0, 0 if done else len(p), chunk_size):
@@ -161,37 +162,47 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
 
 
 def _kernel_field(mags, p: np.ndarray, out: np.ndarray, fallback: list, options: dict,
-                  inside: np.ndarray | None) -> bool:
+                  inside: np.ndarray | None, chunk_size: int) -> bool:
     """The fast path through the compiled kernel; False (nothing done) if it does not serve.
 
-    The kernel adds each magnet's series field where the point lies beyond its table
-    sphere; the few points within it go through :func:`fast_field_site_T` (the table) and
-    are the only ones tested against the windings. Points whose summed error estimate is
-    too large are appended to ``fallback`` for the direct sum.
+    Chunk by chunk, the kernel adds each magnet's series field where the point lies
+    beyond its table sphere, on every core; the few points within it go through
+    :func:`fast_field_site_T` (the table) and are the only ones tested against the
+    windings. Points whose summed error estimate is too large are appended to
+    ``fallback`` for the direct sum.
     """
     from fringe.field import _kernels
 
     n = len(p)
-    if n < _kernels.CHUNK_PER_THREAD or not p.flags.c_contiguous or not _kernels.wanted(n):
+    if n < 2 * _kernels.CHUNK_PER_THREAD or not p.flags.c_contiguous or not _kernels.wanted(n):
         return False
     order = options.get("order", DEFAULT_RADIAL_ORDER)
     panels = options.get("panels")
-    err = np.zeros(n)
+    preps = []
     for m in mags:
         model, amps = _model_and_scale(m.coils, order, panels)
-        rot = m.rotation.as_matrix()
-        near = _kernels.series_site_field(p, out, err, model, rot, m.center_m, amps)
-        if near is None:  # the compiler failed on first use: nothing was changed
-            return False
-        if near.size:
-            bm, em = fast_field_site_T(m, np.ascontiguousarray(p[near].T), order, panels)
-            out[near] += bm.T
-            err[near] += em
-            if inside is not None:
-                inside[near] |= m.contains_points(p[near])
-    bad = _kernels.declined_points(out, err, RELATIVE_TOLERANCE / SAFETY_FACTOR)
-    if bad.size:
-        fallback.append(bad)
+        preps.append(_kernels.prepare(model, m.rotation.as_matrix(), m.center_m, amps))
+    if any(prep is None for prep in preps):  # numba missing or failing: the numpy path
+        return False
+    step = max(chunk_size, 2 * _kernels.CHUNK_PER_THREAD)
+    with _kernels.workers() as pool:
+        for a in range(0, n, step):
+            sl = slice(a, a + step)
+            pc, oc = p[sl], out[sl]
+            err = np.zeros(len(pc))
+            for m, prep in zip(mags, preps, strict=True):
+                near = _kernels.series_site_field(pc, oc, err, prep, pool=pool)
+                if near.size:
+                    bm, em = fast_field_site_T(m, np.ascontiguousarray(pc[near].T), order,
+                                               panels)
+                    oc[near] += bm.T
+                    err[near] += em
+                    if inside is not None:
+                        inside[near + a] |= m.contains_points(pc[near])
+            bad = _kernels.declined_points(oc, err, RELATIVE_TOLERANCE / SAFETY_FACTOR,
+                                           pool=pool)
+            if bad.size:
+                fallback.append(bad + a)
     return True
 
 

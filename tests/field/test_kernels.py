@@ -126,3 +126,24 @@ def test_inside_on_the_numpy_and_direct_paths(demo_site):
         inside = np.zeros(len(pts), dtype=bool)
         field_at(demo_site, pts, method=method, inside=inside)
         assert np.array_equal(inside, demo_site.magnets[0].contains_points(pts))
+
+
+def test_kernel_path_memory_does_not_grow_with_points(kernel_on, demo_site):
+    # common practice, no source: as on the numpy path (tests/field/test_fast.py), the
+    # memory beyond the output is the same for 50k and 200k points: chunk by chunk
+    import tracemalloc
+
+    m = demo_site.magnets[0]
+    rng = np.random.default_rng(3)
+
+    def extra(n):
+        pts = np.asarray(m.center_m) + rng.uniform(3.0, 20.0, (n, 3))
+        tracemalloc.start()
+        field_at(m, pts)
+        _, peak = tracemalloc.get_traced_memory()
+        tracemalloc.stop()
+        return peak - n * 3 * 8
+
+    field_at(m, mixed_points(m, N, seed=1))          # the model and the kernel, loaded
+    small, large = extra(50_000), extra(200_000)
+    assert large < 1.5 * small + 1e6
