@@ -135,6 +135,10 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
     fast = _fast_flags(mags, len(p), method, options, options.pop("fast_model", None))
     fallback: list[np.ndarray] = []
     if inside is not None:
+        if not isinstance(inside, np.ndarray) or inside.shape != (len(p),) or inside.dtype != bool:
+            raise FringeInputError(f"`inside` must be a boolean array of shape ({len(p)},); got "
+                                   f"{getattr(inside, 'dtype', type(inside).__name__)} "
+                                   f"{getattr(inside, 'shape', '')}")
         inside[:] = False
     # large calls: the compiled series kernel on every core (fringe.field._kernels)
     done = all(fast) and bool(mags) and _kernel_field(mags, p, out, fallback, options, inside,

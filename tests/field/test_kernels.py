@@ -147,3 +147,12 @@ def test_kernel_path_memory_does_not_grow_with_points(kernel_on, demo_site):
     field_at(m, mixed_points(m, N, seed=1))          # the model and the kernel, loaded
     small, large = extra(50_000), extra(200_000)
     assert large < 1.5 * small + 1e6
+
+
+def test_inside_of_the_wrong_shape_or_type_is_refused(demo_site):
+    from fringe.model.errors import FringeInputError
+
+    pts = np.zeros((4, 3)) + 5.0
+    for bad in (np.zeros(3, dtype=bool), np.zeros(4), [False] * 4):
+        with pytest.raises(FringeInputError, match="`inside` must be a boolean array"):
+            field_at(demo_site, pts, inside=bad)
