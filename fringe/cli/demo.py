@@ -5,6 +5,7 @@ from __future__ import annotations
 from importlib import resources
 from pathlib import Path
 
+from fringe.cli.main import add_formats_option
 from fringe.cli.report import run_report, terminal_summary
 
 #: Where ``fringe demo`` writes (relative to the current folder).
@@ -28,13 +29,15 @@ def register(sub) -> None:
     p.add_argument("--no-drawings", action="store_true",
                    help="write only the JSON, GeoJSON and CSV outputs")
     p.add_argument("--quiet", action="store_true", help="no progress messages on stderr")
-    p.set_defaults(func=run)
+    add_formats_option(p)
+    p.set_defaults(func=run, flags={"formats": "--formats"})
 
 
 def run(args) -> int:
     with resources.as_file(demo_scenario_path()) as path:
         result = run_report(path, args.out, grid_step_m=getattr(args, "grid_step_m", None),
                             drawings=not getattr(args, "no_drawings", False),
-                            quiet=getattr(args, "quiet", False))
+                            quiet=getattr(args, "quiet", False),
+                            formats=getattr(args, "formats", None))
     print(terminal_summary(result, args.out))
     return 0

@@ -10,6 +10,7 @@ import sys
 from pathlib import Path
 from typing import TYPE_CHECKING
 
+from fringe.cli.main import add_formats_option
 from fringe.model.constants import (
     ADVISORY_NOTICE,
     DEFAULT_ENERGY_LEVELS_J_PER_M3,
@@ -50,10 +51,12 @@ def register(sub) -> None:
                    help=("also report the energy outside a sphere of radius R about each "
                          "magnet centre (m; at least the sphere enclosing the windings)"))
     p.add_argument("--maps", metavar="DIR",
-                   help="write plan and section PNG maps of the energy density to DIR")
+                   help="write plan and section maps of the energy density to DIR (PNG unless "
+                        "--formats says otherwise)")
     p.add_argument("--levels", nargs="+", type=float, metavar="U",
                    default=list(DEFAULT_ENERGY_LEVELS_J_PER_M3),
                    help="contour levels of the maps, J/m³ (default 1 10 100 1000)")
+    add_formats_option(p, default="png")
     p.set_defaults(func=run, flags={"magnet": "--magnet"})
 
 
@@ -139,7 +142,9 @@ def format_magnet(e: MagnetEnergy) -> str:
     return "\n".join(line.rstrip() for line in lines)
 
 
-def _write_maps(site, magnets, out_dir: Path, levels) -> list[Path]:
+def _write_maps(site, magnets, out_dir: Path, levels,
+                formats: tuple[str, ...] | None = None) -> list[Path]:
+    """Each energy-density map, drawn once, written in each of ``formats`` (default PNG)."""
     from fringe.render.drawing import number_sheets, save_figure
     from fringe.render.energy import energy_density_sheets
 
@@ -150,7 +155,8 @@ def _write_maps(site, magnets, out_dir: Path, levels) -> list[Path]:
                                     f"{out_dir} ({e.strerror or e})")) from None
     sheets = energy_density_sheets(site, magnets, levels)
     number_sheets([fig for _, fig in sheets])  # "k of n" over the maps written together
-    return [save_figure(fig, out_dir / f"{stem}.png") for stem, fig in sheets]
+    return [save_figure(fig, out_dir / f"{stem}.{fmt}")
+            for stem, fig in sheets for fmt in (formats or ("png",))]
 
 
 def _check_maps_folder(maps) -> None:
@@ -245,7 +251,8 @@ def run(args) -> int:
                              box_m=box) for m in magnets]
     mutual = site_mutual_energies(magnets) if len(magnets) > 1 else []
     total = sum(e.stored_energy_J for e in results) + sum(w for *_, w in mutual)
-    maps = _write_maps(site, magnets, Path(args.maps), args.levels) if args.maps else []
+    maps = _write_maps(site, magnets, Path(args.maps), args.levels,
+                      getattr(args, "formats", None)) if args.maps else []
     bad = [e.name for e in results if args.verify and not
            abs(e.verify_relative_difference) <= VERIFY_TOLERANCE]
     if args.json:

@@ -111,6 +111,31 @@ def _show_warning(message, category, filename, lineno, file=None, line=None) -> 
 
 # -- helpers shared by command modules ---------------------------------------------------
 
+def sheet_formats(text: str) -> tuple[str, ...]:
+    """The ``--formats`` value: comma-separated names from
+    :data:`~fringe.model.constants.SHEET_FORMATS` (an argparse ``type``: an unknown or
+    missing name is a usage error naming the option, exit 2)."""
+    from fringe.model.constants import SHEET_FORMATS
+
+    names = [t.strip().lower() for t in text.split(",") if t.strip()]
+    bad = [n for n in names if n not in SHEET_FORMATS]
+    if bad or not names:
+        raise argparse.ArgumentTypeError(
+            f"must be one or more of {','.join(SHEET_FORMATS)} separated by commas; "
+            f"got {text!r}")
+    return tuple(f for f in SHEET_FORMATS if f in names)
+
+
+def add_formats_option(p, default: str = "all") -> None:
+    """Add ``--formats`` (the sheet files to write) to a command's parser; ``default``
+    describes what is written without it."""
+    from fringe.model.constants import SHEET_FORMATS
+
+    p.add_argument("--formats", type=sheet_formats, default=None, metavar="LIST",
+                   help=f"sheet formats to write, comma-separated, from "
+                        f"{','.join(SHEET_FORMATS)} (default: {default})")
+
+
 def read_points_file(path: str) -> np.ndarray:
     """Read (N, 3) points in m from a ``.npy`` or ``.csv`` file (x,y,z; header allowed)."""
     import numpy as np

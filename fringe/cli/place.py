@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import math
 
+from fringe.cli.main import add_formats_option
 from fringe.cli.progress import Progress
 from fringe.model.constants import ADVISORY_NOTICE
 from fringe.model.errors import ScenarioError, must_be
@@ -43,8 +44,10 @@ def register(sub) -> None:
     p.add_argument("--json", action="store_true", help="print JSON instead of text")
     p.add_argument("--out", metavar="DIR",
                    help="write place.json, best-magnet.toml and the plan sheet "
-                        "(place-plan.png/.svg) into DIR (replaced whole, atomically)")
+                        "(place-plan.png/.svg, or as --formats says) into DIR (replaced "
+                        "whole, atomically)")
     p.add_argument("--quiet", action="store_true", help="no progress messages on stderr")
+    add_formats_option(p, default="png,svg")
     p.set_defaults(func=run, flags=FLAGS)
 
 
@@ -222,7 +225,8 @@ def run(args) -> int:
         say("drawing the placement sheet")
         from fringe.render.placement import write_placement_outputs
 
-        write_placement_outputs(site, result, equipment, doc, args.out)
+        kw = {} if args.formats is None else {"formats": args.formats}
+        write_placement_outputs(site, result, equipment, doc, args.out, **kw)
     if args.json:
         print_json(doc)
     else:

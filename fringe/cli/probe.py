@@ -81,7 +81,6 @@ def run(args) -> int:
         field_at,
         field_gradient_at,
         grad_abs_B_T_per_m,
-        points_in_windings,
     )
     from fringe.io.atomic import atomic_file, check_output_file
     from fringe.io.scenario import load_site
@@ -103,8 +102,8 @@ def run(args) -> int:
         raise ScenarioError(problem)
     if not site.magnets:
         raise ScenarioError("`magnet` must list at least one magnet; got none", args.scenario)
-    B = field_at(site, points)
-    inside = points_in_windings(site, points)
+    inside = np.empty(len(points), dtype=bool)
+    B = field_at(site, points, inside=inside)  # the winding check comes with the bands
     if inside.any():
         n_in = int(inside.sum())
         sys.stderr.write(f"fringe: warning: {n_in} {'point lies' if n_in == 1 else 'points lie'} "

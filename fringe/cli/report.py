@@ -5,6 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 from typing import TYPE_CHECKING
 
+from fringe.cli.main import add_formats_option
 from fringe.cli.progress import Progress
 from fringe.model.constants import ADVISORY_NOTICE, FIELD_BASIS_NOTE
 
@@ -34,7 +35,8 @@ def register(sub) -> None:
     p.add_argument("--no-drawings", action="store_true",
                    help="write only the JSON, GeoJSON and CSV outputs (faster)")
     p.add_argument("--quiet", action="store_true", help="no progress messages on stderr")
-    p.set_defaults(func=run, flags={"grid_step_m": "--grid-step-m"})
+    add_formats_option(p)
+    p.set_defaults(func=run, flags={"grid_step_m": "--grid-step-m", "formats": "--formats"})
 
 
 def closing_verdict(result, *, fail: bool = True) -> tuple[str, int]:
@@ -171,8 +173,12 @@ def terminal_summary(result, out_dir: str | Path) -> str:
 
 
 def run_report(scenario: str | Path, out_dir: str | Path, *, grid_step_m: float | None = None,
-               drawings: bool = True, quiet: bool = False) -> ReportResult:
-    """Load, compute, write; returns the :class:`fringe.analysis.report.ReportResult`."""
+               drawings: bool = True, quiet: bool = False,
+               formats: tuple[str, ...] | None = None) -> ReportResult:
+    """Load, compute, write; returns the :class:`fringe.analysis.report.ReportResult`.
+
+    ``formats``: the sheet formats to write (``--formats``; None: all).
+    """
     from fringe.analysis.report import check_grid_step_m, compute_report
     from fringe.io.atomic import check_output_folder
     from fringe.io.prefetch import prefetch_quench_data
@@ -193,13 +199,15 @@ def run_report(scenario: str | Path, out_dir: str | Path, *, grid_step_m: float 
     if drawings:
         from fringe.render import drawing  # noqa: F401
     result = compute_report(site, grid_step_m=grid_step_m, progress=progress)
-    write_report(result, out_dir, drawings=drawings, progress=progress)
+    kw = {} if formats is None else {"formats": formats}
+    write_report(result, out_dir, drawings=drawings, progress=progress, **kw)
     progress(f"wrote {out_dir}")
     return result
 
 
 def run(args) -> int:
     result = run_report(args.scenario, args.out, grid_step_m=args.grid_step_m,
-                        drawings=not args.no_drawings, quiet=args.quiet)
+                        drawings=not args.no_drawings, quiet=args.quiet,
+                        formats=args.formats)
     print(terminal_summary(result, args.out))
     return closing_verdict(result, fail=not args.no_fail)[1]

@@ -21,6 +21,7 @@ from fringe.field.direct import direct_gradient, magnet_field_site_T, magpylib_f
 from fringe.field.fast import (
     RELATIVE_TOLERANCE,
     SAFETY_FACTOR,
+    _model_and_scale,
     fast_field_site_T,
     fast_gradient_site,
     model_wanted,
@@ -62,7 +63,9 @@ def coordinate_range_problem(points_m: np.ndarray, key: str) -> str | None:
     naming its own ``key`` (the Python argument, e.g. ``points_m``; the command line passes
     its option name).
     """
-    far = float(np.max(np.abs(points_m), initial=0.0))
+    p = np.asarray(points_m)
+    # the largest |coordinate| from the two extremes: no temporary |p| array
+    far = max(float(np.max(p, initial=0.0)), -float(np.min(p, initial=0.0)))
     if far > MAX_COORDINATE_M:
         return (f"`{key}` must be site coordinates within ±{MAX_COORDINATE_M:g} m; "
                 f"got a coordinate of {far:g} m")
@@ -86,7 +89,7 @@ def as_points(points_m) -> np.ndarray:
 
 
 def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
-             **options) -> np.ndarray:
+             inside: np.ndarray | None = None, **options) -> np.ndarray:
     """Flux density B in T at site points, all magnets superposed.
 
     Parameters
@@ -106,6 +109,10 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
         process (building its model costs about that much), unless its model is cached.
     chunk_size : int
         Points evaluated at once; peak memory is independent of N beyond the output.
+    inside : ndarray of bool, shape (N,), optional
+        Filled with :func:`points_in_windings` (no margin) of the points, found with the
+        distance bands of the fast path where it runs (only points within the table
+        sphere of a magnet can lie in its windings, so only those are tested).
     **options
         ``order``, ``panels`` (radial quadrature) and ``refine`` passed to
         :func:`fringe.field.direct.magnet_field_local_T`; ``fast_model`` (True/False)
@@ -127,7 +134,18 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
     out = np.zeros_like(p)
     fast = _fast_flags(mags, len(p), method, options, options.pop("fast_model", None))
     fallback: list[np.ndarray] = []
-    for a in range(0, len(p), chunk_size):
+    if inside is not None:
+        if not isinstance(inside, np.ndarray) or inside.shape != (len(p),) or inside.dtype != bool:
+            raise FringeInputError(f"`inside` must be a boolean array of shape ({len(p)},); got "
+                                   f"{getattr(inside, 'dtype', type(inside).__name__)} "
+                                   f"{getattr(inside, 'shape', '')}")
+        inside[:] = False
+    # large calls: the compiled series kernel on every core (fringe.field._kernels)
+    done = all(fast) and bool(mags) and _kernel_field(mags, p, out, fallback, options, inside,
+                                                      chunk_size)
+    if inside is not None and not done:
+        inside[:] = points_in_windings(mags, p)
+    for a in range(0, 0 if done else len(p), chunk_size):
         sl = slice(a, a + chunk_size)
         if any(fast):
             out[sl], bad = _fast_chunk(mags, fast, p[sl], options)
@@ -145,6 +163,51 @@ def field_at(site, points_m, *, method: str = "auto", chunk_size: int = 65_536,
             direct += magnet_field_site_T(m, p[sub], **options)
         out[sub] = direct
     return out
+
+
+def _kernel_field(mags, p: np.ndarray, out: np.ndarray, fallback: list, options: dict,
+                  inside: np.ndarray | None, chunk_size: int) -> bool:
+    """The fast path through the compiled kernel; False (nothing done) if it does not serve.
+
+    Chunk by chunk, the kernel adds each magnet's series field where the point lies
+    beyond its table sphere, on every core; the few points within it go through
+    :func:`fast_field_site_T` (the table) and are the only ones tested against the
+    windings. Points whose summed error estimate is too large are appended to
+    ``fallback`` for the direct sum.
+    """
+    from fringe.field import _kernels
+
+    n = len(p)
+    if n < 2 * _kernels.CHUNK_PER_THREAD or not p.flags.c_contiguous or not _kernels.wanted(n):
+        return False
+    order = options.get("order", DEFAULT_RADIAL_ORDER)
+    panels = options.get("panels")
+    preps = []
+    for m in mags:
+        model, amps = _model_and_scale(m.coils, order, panels)
+        preps.append(_kernels.prepare(model, m.rotation.as_matrix(), m.center_m, amps))
+    if any(prep is None for prep in preps):  # numba missing or failing: the numpy path
+        return False
+    step = max(chunk_size, 2 * _kernels.CHUNK_PER_THREAD)
+    with _kernels.workers() as pool:
+        for a in range(0, n, step):
+            sl = slice(a, a + step)
+            pc, oc = p[sl], out[sl]
+            err = np.zeros(len(pc))
+            for m, prep in zip(mags, preps, strict=True):
+                near = _kernels.series_site_field(pc, oc, err, prep, pool=pool)
+                if near.size:
+                    bm, em = fast_field_site_T(m, np.ascontiguousarray(pc[near].T), order,
+                                               panels)
+                    oc[near] += bm.T
+                    err[near] += em
+                    if inside is not None:
+                        inside[near + a] |= m.contains_points(pc[near])
+            bad = _kernels.declined_points(oc, err, RELATIVE_TOLERANCE / SAFETY_FACTOR,
+                                           pool=pool)
+            if bad.size:
+                fallback.append(bad + a)
+    return True
 
 
 def _fast_flags(mags, n_points: int, method: str, options: dict,
@@ -302,11 +365,19 @@ def energy_density_J_per_m3(B_T) -> np.ndarray:
 
 
 def points_in_windings(site, points_m, margin_m: float = 0.0) -> np.ndarray:
-    """Boolean mask (N,) of points inside (or within margin of) any winding."""
+    """Boolean mask (N,) of points inside (or within margin of) any winding.
+
+    Only points within the sphere enclosing a magnet's windings (radius R_enc, grown by
+    twice the margin and a relative 1e-9) are tested against its windings.
+    """
     p = as_points(points_m)
     mask = np.zeros(len(p), dtype=bool)
     for m in as_magnets(site):
-        mask |= m.contains_points(p, margin_m)
+        reach = (m.enclosing_radius_m + 2.0 * abs(margin_m)) * (1.0 + 1e-9)
+        d = p - np.asarray(m.center_m, float)
+        near = np.flatnonzero(np.einsum("ij,ij->i", d, d) <= reach * reach)
+        if near.size:
+            mask[near] |= m.contains_points(p[near], margin_m)
     return mask
 
 

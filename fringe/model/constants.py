@@ -85,3 +85,7 @@ DEFAULT_BLOCK_POINTS: int = 1_000_000
 #: Output formats of a field map by file suffix (one list, used by the CLI and the writer
 #: :mod:`fringe.io.gridmap`).
 MAP_FORMATS: tuple[str, ...] = (".npz", ".vti")
+
+#: Formats of the drawn sheets (``--formats`` of report, demo and place; default all):
+#: ``pdf`` the collected report.pdf, ``png`` and ``svg`` one file per sheet.
+SHEET_FORMATS: tuple[str, ...] = ("pdf", "png", "svg")

@@ -143,10 +143,12 @@ def placement_sheet(site, result, equipment: list[dict]) -> Figure:
 
 
 def write_placement_outputs(site, result, equipment: list[dict], doc: dict,
-                            out_dir: str | Path) -> list[str]:
+                            out_dir: str | Path,
+                            formats: tuple[str, ...] = ("png", "svg")) -> list[str]:
     """Write place.json (``doc``), best-magnet.toml (``doc["magnet_block"]``) and the plan
-    sheet place-plan.png/.svg into ``out_dir``, replaced whole and atomically; returns the
-    file names."""
+    sheet place-plan.<format> for each of ``formats`` (from
+    :data:`~fringe.model.constants.SHEET_FORMATS`; default PNG and SVG) into ``out_dir``,
+    replaced whole and atomically; returns the file names."""
     from fringe.render.drawing import number_sheets, save_figure
 
     check_output_folder(out_dir, scenario_file=site.source_file, marker="place.json")
@@ -157,7 +159,7 @@ def write_placement_outputs(site, result, equipment: list[dict], doc: dict,
                                         + "\n", "utf-8")
         (tmp / "best-magnet.toml").write_text(
             "# " + ADVISORY_NOTICE + "\n" + doc["magnet_block"], "utf-8")
-        save_figure(fig, tmp / "place-plan.png")
-        save_figure(fig, tmp / "place-plan.svg")
+        for fmt in formats:  # one figure, written to each format
+            save_figure(fig, tmp / f"place-plan.{fmt}")
         names = sorted(p.name for p in tmp.iterdir())
     return names

@@ -33,7 +33,8 @@ from fringe.analysis.zones import field_reversal_m
 from fringe.io.atomic import atomic_directory, check_output_folder, set_usual_mode
 from fringe.io.forked import ForkedCall
 from fringe.io.report_files import attraction_extents, slug, write_report_tables
-from fringe.model.constants import FIELD_BASIS_NOTE
+from fringe.model.constants import FIELD_BASIS_NOTE, SHEET_FORMATS
+from fringe.model.errors import ArgumentError, must_be
 from fringe.model.verdict import Verdict
 from fringe.render.dxf import (
     ATTRACTION_LAYER,
@@ -53,12 +54,16 @@ Progress = Callable[[str], None] | None
 
 
 def write_report(r: ReportResult, out_dir: str | Path, *, drawings: bool = True,
-                 progress: Progress = None) -> list[str]:
+                 progress: Progress = None,
+                 formats: tuple[str, ...] = SHEET_FORMATS) -> list[str]:
     """Write every output of ``r`` into ``out_dir`` atomically; returns the file names.
 
     The folder is built beside ``out_dir`` and swapped in only when complete; an
-    existing ``out_dir`` is replaced whole.
+    existing ``out_dir`` is replaced whole. ``formats`` (from
+    :data:`~fringe.model.constants.SHEET_FORMATS`) selects the sheet files: ``pdf``
+    report.pdf, ``png`` and ``svg`` one file per plan, section and map sheet.
     """
+    formats = _checked_formats(formats)
     say = progress or (lambda msg: None)
     check_output_folder(out_dir, scenario_file=r.scenario_file, marker="summary.json")
     with atomic_directory(out_dir) as tmp:
@@ -66,7 +71,7 @@ def write_report(r: ReportResult, out_dir: str | Path, *, drawings: bool = True,
         if drawings:  # the DXF drawings are written by a child while the sheets are built
             dxf = ForkedCall(write_zone_drawings, r, tmp)
             try:
-                _write_drawings(r, tmp, say)
+                _write_drawings(r, tmp, say, formats)
             except BaseException:
                 with contextlib.suppress(BaseException):  # reap; the first error wins
                     dxf.result()
@@ -649,34 +654,70 @@ def build_sheets(r: ReportResult, say: Progress = None) -> list[tuple[str | None
     return [(None, _cover_sheet(r, base, contents))] + sheets
 
 
-def _write_drawings(r: ReportResult, folder: Path, say) -> None:
-    """Plan and section sheets (PNG, SVG) and report.pdf through :mod:`fringe.render.drawing`.
+def _checked_formats(formats) -> tuple[str, ...]:
+    """``formats`` as a tuple in the order of SHEET_FORMATS; ArgumentError if unknown or empty."""
+    fs = (formats,) if isinstance(formats, str) else tuple(formats)
+    if not fs or any(f not in SHEET_FORMATS for f in fs):
+        raise ArgumentError(must_be("formats", f"one or more of {', '.join(SHEET_FORMATS)}",
+                                    list(fs)), "formats")
+    return tuple(f for f in SHEET_FORMATS if f in fs)
 
-    report.pdf is written by a forked child (:mod:`fringe.io.forked`) while this process
-    writes the PNG and SVG files: the two halves take about as long, and rendering holds
-    the interpreter lock, so a second process is what uses the second core. The sheets
-    are numbered here first, so the PDF and the single files carry the same numbers.
+
+def _sheet_files(sheets, formats: tuple[str, ...]) -> list[tuple[str, object]]:
+    """(file name, Figure) of every single-sheet file: PNG and SVG of each sheet with a
+    stem; the energy maps (raster images) as PNG only."""
+    files = []
+    for stem, fig in sheets:
+        if stem is None:
+            continue
+        for fmt in ("png", "svg"):
+            if fmt in formats and not (fmt == "svg" and stem.startswith("energy-")):
+                files.append((f"{stem}.{fmt}", fig))
+    return files
+
+
+def _write_drawings(r: ReportResult, folder: Path, say,
+                    formats: tuple[str, ...] = SHEET_FORMATS) -> None:
+    """The sheets in ``formats``: report.pdf and the plan, section and map sheets as PNG
+    and SVG, through :mod:`fringe.render.drawing`.
+
+    Each sheet is built once and every file is written from that one figure. The
+    writing is shared with a forked child (:mod:`fringe.io.forked`), since rendering
+    holds the interpreter lock: the child writes report.pdf, this process the single
+    files; without the PDF the child writes the second half of the single files. The
+    sheets are numbered first, so the PDF and the single files carry the same numbers.
     """
     from fringe.render import drawing as dr
 
     sheets = build_sheets(r, say)
     figures = dr.number_sheets([f for _, f in sheets])
-    say("writing report.pdf and the sheet files")
-    pdf = ForkedCall(dr.write_pdf, figures, folder / "report.pdf",
-                     title=f"{r.site_name}: stray-field report")
+    files = _sheet_files(sheets, formats)
+    if "pdf" in formats:
+        say("writing report.pdf and the sheet files")
+        child = ForkedCall(dr.write_pdf, figures, folder / "report.pdf",
+                           title=f"{r.site_name}: stray-field report")
+        mine = files
+    else:
+        say("writing the sheet files")
+        half = (len(files) + 1) // 2
+        mine, theirs = files[:half], files[half:]
+        child = ForkedCall(_save_all, theirs, folder)
     try:
-        for stem, fig in sheets:
-            if stem is None:
-                continue
-            dr.save_figure(fig, folder / f"{stem}.png")
-            if stem.startswith("energy-"):  # energy maps: PNG and PDF only
-                say(f"wrote {stem}.png")
-                continue
-            dr.save_figure(fig, folder / f"{stem}.svg")
-            say(f"wrote {stem}.png and .svg")
+        for name, fig in mine:
+            dr.save_figure(fig, folder / name)
+            say(f"wrote {name}")
     except BaseException:
         with contextlib.suppress(BaseException):  # reap the child; the first error wins
-            pdf.result()
+            child.result()
         raise
-    pdf.result()
-    say("wrote report.pdf")
+    child.result()
+    if "pdf" in formats:
+        say("wrote report.pdf")
+
+
+def _save_all(files, folder: Path) -> None:
+    """Write each (file name, Figure) into ``folder``."""
+    from fringe.render import drawing as dr
+
+    for name, fig in files:
+        dr.save_figure(fig, folder / name)
