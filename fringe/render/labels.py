@@ -263,9 +263,10 @@ class Obstacles:
         """Add a hard box (a placed label, a marker)."""
         self.boxes.append(tuple(float(v) for v in b))
 
-    def free_mask(self, boxes, *, walls: bool = True) -> np.ndarray:
+    def free_mask(self, boxes, *, walls: bool = True, more_walls=None) -> np.ndarray:
         """For each box: inside the frame, clear of hard boxes and (unless ``walls`` is
-        False) of hard segments, with the pad kept."""
+        False) of hard segments and of ``more_walls`` ((k, 4) segments), with the pad
+        kept."""
         b = _as_boxes(boxes)
         f = self.frame
         ok = (b[:, 0] >= f[0]) & (b[:, 1] >= f[1]) & (b[:, 2] <= f[2]) & (b[:, 3] <= f[3])
@@ -274,6 +275,9 @@ class Obstacles:
         if walls and len(self.walls) and ok.any():
             p = self.pad
             ok[ok] = ~segments_hit_boxes(b[ok] + np.array([-p, -p, p, p]), self.walls)
+        if walls and more_walls is not None and len(more_walls) and ok.any():
+            p = self.pad
+            ok[ok] = ~segments_hit_boxes(b[ok] + np.array([-p, -p, p, p]), more_walls)
         return ok
 
     def free(self, b: Box, *, walls: bool = True) -> bool:
@@ -323,11 +327,12 @@ def around(anchor: Box, w: float, h: float, gaps: Sequence[float] = (2.0, 8.0, 1
 
 
 def choose(candidates: Sequence[Box], obs: Obstacles, *, extra_cost=None,
-           soft_weight: float = 1.0, walls: bool = True) -> int | None:
+           soft_weight: float = 1.0, walls: bool = True, more_walls=None) -> int | None:
     """Index of the best free candidate, or None when none is free.
 
     Free: inside the frame, clear of hard boxes and hard segments (see
-    :meth:`Obstacles.free_mask`). Best: least ``soft_weight`` × soft cost +
+    :meth:`Obstacles.free_mask`; ``more_walls`` are extra hard segments for this
+    choice only). Best: least ``soft_weight`` × soft cost +
     ``extra_cost[i]`` (e.g. a distance from the preferred spot); ties keep the earlier
     candidate, so the choice is deterministic.
 
@@ -338,7 +343,7 @@ def choose(candidates: Sequence[Box], obs: Obstacles, *, extra_cost=None,
     b = _as_boxes(candidates)
     if not len(b):
         return None
-    ok = obs.free_mask(b, walls=walls)
+    ok = obs.free_mask(b, walls=walls, more_walls=more_walls)
     if not ok.any():
         return None
     idx = np.flatnonzero(ok)
