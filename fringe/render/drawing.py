@@ -165,11 +165,14 @@ class MagnetOutline:
 #: outline : dashed line (e.g. an extra footprint, a proposed wall);
 #: contour : dotted line (e.g. energy-density contours);
 #: wall    : solid heavy grey line (walls read from a CAD drawing; grey, so it is never
-#:           mistaken for the black boundary line).
+#:           mistaken for the black boundary line);
+#: points  : a small cross at each point (e.g. candidate magnet centres).
 OVERLAY_KINDS: dict[str, dict[str, Any]] = {
     "wall": {"hatch": None, "edgecolor": "0.6", "linewidth": 3.4, "linestyle": "-",
              "zorder": 2.2},  # under the field lines, above the bands
     "hazard": {"hatch": "xx", "edgecolor": HAZARD_COLOR, "linewidth": 1.6, "linestyle": "-"},
+    "points": {"hatch": None, "edgecolor": "0.1", "linewidth": 1.1, "linestyle": "none",
+               "marker": "+", "markersize": 6},
     "outline": {"hatch": None, "edgecolor": "0.1", "linewidth": 1.2, "linestyle": (0, (6, 3))},
     "contour": {"hatch": None, "edgecolor": HAZARD_COLOR, "linewidth": 1.0,
                 "linestyle": (0, (1, 1.5))},
@@ -616,6 +619,9 @@ def _label_near_pieces(ax, renderer, ls: _LineSet, obs: lp.Obstacles,
         text = ls.near_fallback[i]
         w, h = _text_size_px(ax, renderer, text, ls.fontsize, ls.weight)
         pieces = sorted(_path_pieces(path), key=lambda p: -len(p))
+        if not pieces:
+            continue
+        middle = ax.transData.transform(np.vstack(pieces)).mean(axis=0)
         for piece in pieces[:max_per_level]:
             d = ax.transData.transform(piece)
             d = d[np.all(np.isfinite(d), axis=1)]
@@ -625,7 +631,11 @@ def _label_near_pieces(ax, renderer, ls: _LineSet, obs: lp.Obstacles,
             sides = [j for j, dxy in enumerate(lp.AROUND_DIRECTIONS) if 0 in dxy]
             cands = [c for j, c in enumerate(lp.around(loop, w, h, gaps=(2.0, 6.0)))
                      if j % 8 in sides]  # above, below, right, left of the loop
-            k = lp.choose(cands, obs, extra_cost=np.repeat([0.0, 5.0], len(sides)))
+            # outward first: away from the middle of all the level's loops (the magnet)
+            cxy = np.array([((c[0] + c[2]) / 2, (c[1] + c[3]) / 2) for c in cands])
+            away = np.hypot(*(cxy - middle).T)
+            cost = np.repeat([0.0, 5.0], len(sides)) + 0.1 * (away.max() - away)
+            k = lp.choose(cands, obs, extra_cost=cost)
             if k is None or (strict and obs.soft_cost(cands[k]) > 0.5):
                 continue
             b = cands[k]
@@ -669,7 +679,7 @@ def _best_point_on_piece(ax, piece, w, h, obs: lp.Obstacles, offset_px: float = 
     if offset_px:
         c, bad, side_cost = _offset_candidates(d, s, length, closed, c, offset_px, h)
     return _best_candidate(c, w, h, obs, bad, side_cost, 1.0 if offset_px else 0.3,
-                           clear_of_lines)
+                           clear_of_lines, lp.segments_from_lines([d]))
 
 
 def _piece_candidates(d: np.ndarray, s: np.ndarray, length: float, ts: np.ndarray, w: float):
@@ -720,7 +730,7 @@ def _offset_candidates(d: np.ndarray, s: np.ndarray, length: float, closed: bool
 
 
 def _best_candidate(c, w, h, obs: lp.Obstacles, bad, side_cost, soft_weight: float,
-                    clear_of_lines: bool):
+                    clear_of_lines: bool, own: np.ndarray):
     """Highest-scoring free candidate: ((x, y) px, angle, arc length, box) or None."""
     ts, _ta, _tb, px, py, ang, _nx, _ny, sag = c
     ew = np.abs(w * np.cos(ang)) + np.abs(h * np.sin(ang)) + 4
@@ -733,8 +743,7 @@ def _best_candidate(c, w, h, obs: lp.Obstacles, bad, side_cost, soft_weight: flo
         return None
     idx = np.flatnonzero(ok)
     clear = np.minimum(lp.clearances(boxes[idx], obs.boxes), 1.5 * h)
-    # other lines under the label (its own line runs under an inline label everywhere)
-    soft = obs.soft_costs(boxes[idx])
+    soft = obs.soft_costs(boxes[idx], minus=own)  # other lines under the label
     score = (clear - 0.5 * np.abs(sag[idx]) - soft_weight * soft - side_cost[idx]
              - 1e-4 * (px[idx] + py[idx]))
     if clear_of_lines:
@@ -1049,7 +1058,16 @@ def _draw_overlays(ax, overlays) -> list:
         _check_geometry(f"overlays[{i}].geometry ({label})", geom, area=False)
         st = OVERLAY_KINDS[kind]
         polys = _polygons_of(geom)
-        if polys and st["hatch"]:
+        if st.get("marker"):
+            xy = shapely.get_coordinates(geom)
+            mk = {"marker": st["marker"], "markersize": st["markersize"],
+                  "markeredgewidth": st["linewidth"], "color": st["edgecolor"],
+                  "linestyle": "none"}
+            ax.plot(xy[:, 0], xy[:, 1], zorder=st.get("zorder", 4.5), gid="overlay-points",
+                    path_effects=[patheffects.withStroke(linewidth=st["linewidth"] + 2,
+                                                         foreground="white")], **mk)
+            handle = Line2D([], [], **mk)
+        elif polys and st["hatch"]:
             # white underlay keeps the hatch legible on dark bands
             _add_polygon(ax, geom, facecolor="none", edgecolor="white", linewidth=3.2,
                          zorder=4.4)
@@ -1247,7 +1265,12 @@ def _map_obstacles(ax, renderer, *, rooms, magnets, equipment, overlays,
     for ov in overlays:
         _label, geom, kind = (ov.label, ov.geometry, ov.kind) if isinstance(ov, Overlay) \
             else tuple(ov)
-        if isinstance(geom, shapely.Geometry) and not geom.is_empty:
+        if not isinstance(geom, shapely.Geometry) or geom.is_empty:
+            continue
+        if OVERLAY_KINDS.get(kind, {}).get("marker"):
+            for xy in shapely.get_coordinates(geom):
+                obs.add_box(_marker_box(ax, xy))
+        else:
             (hard if kind in _HARD_OVERLAY_KINDS else soft).append(geom)
     obs.add_walls(_px_segments(ax, hard))
     obs.add_soft(_px_segments(ax, soft))
@@ -1608,9 +1631,6 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
                          overlays=overlays, line_sets=sets)
     for b in occupied:
         obs.add_box(_bbox_tuple(b))
-    obs.add_soft([(*ax.transData.transform((s[0], _floor_band(i, f)[1])),
-                   *ax.transData.transform((s[-1], _floor_band(i, f)[1])))
-                  for i, f in enumerate(floors)])
     _label_lines(ax, renderer, sets, obs)
     src_notes = [f"Exposure lines: {src}." for src in sources]
     _draw_key_column(fig, [h for h, _ in entries], [lb for _, lb in entries],

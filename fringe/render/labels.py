@@ -244,7 +244,7 @@ class Obstacles:
     boxes: list = field(default_factory=list)
     walls: np.ndarray = field(default_factory=lambda: np.zeros((0, 4)))
     soft: np.ndarray = field(default_factory=lambda: np.zeros((0, 4)))
-    pad: float = 1.5
+    pad: float = 2.5
 
     def __post_init__(self) -> None:
         self.walls = _as_boxes(self.walls)
@@ -284,10 +284,15 @@ class Obstacles:
         """:meth:`free_mask` of one box."""
         return bool(self.free_mask([b], walls=walls)[0])
 
-    def soft_costs(self, boxes) -> np.ndarray:
-        """Length (px) of soft lines under each box grown by the pad."""
+    def soft_costs(self, boxes, minus=None) -> np.ndarray:
+        """Length (px) of soft lines under each box grown by the pad, less that of the
+        segments ``minus`` (e.g. the label's own line, itself among the soft lines)."""
         p = self.pad
-        return lengths_in_boxes(_as_boxes(boxes) + np.array([-p, -p, p, p]), self.soft)
+        b = _as_boxes(boxes) + np.array([-p, -p, p, p])
+        cost = lengths_in_boxes(b, self.soft)
+        if minus is not None and len(minus):
+            cost = np.maximum(cost - lengths_in_boxes(b, minus), 0.0)
+        return cost
 
     def soft_cost(self, b: Box) -> float:
         """:meth:`soft_costs` of one box."""
