@@ -280,9 +280,9 @@ class Obstacles:
             ok[ok] = ~segments_hit_boxes(b[ok] + np.array([-p, -p, p, p]), more_walls)
         return ok
 
-    def free(self, b: Box, *, walls: bool = True) -> bool:
+    def free(self, b: Box, *, walls: bool = True, more_walls=None) -> bool:
         """:meth:`free_mask` of one box."""
-        return bool(self.free_mask([b], walls=walls)[0])
+        return bool(self.free_mask([b], walls=walls, more_walls=more_walls)[0])
 
     def soft_costs(self, boxes, minus=None) -> np.ndarray:
         """Length (px) of soft lines under each box grown by the pad, less that of the
