@@ -285,7 +285,7 @@ def _draw_title_block(fig: Figure, info: SheetInfo, *, kind: str) -> None:
     h_pt = _TITLE[3] * A3_LANDSCAPE_IN[1] * 72
     pad = 0.035
     chars_small = _chars_for(_TITLE[2] * (1 - 2 * pad), 7.5)
-    chars_title = _chars_for(_TITLE[2] * (1 - 2 * pad), 11.5)
+    chars_title = _chars_for(_TITLE[2] * (1 - 2 * pad), 11.5 * 1.15)  # bold runs wider
     rows: list[tuple[str, str, float, str]] = [
         ("drawing", info.title, 11.5, "bold"),
         ("", info.subtitle, 8.0, "normal"),

@@ -167,6 +167,18 @@ def test_no_label_crosses_a_wall_or_magnet_outline_or_marker_on_plans(report_she
         assert covered == [], (name, floor)
 
 
+def test_title_block_text_stays_inside_its_box(report_sheets):
+    name, _r, sheets = report_sheets
+    for stem, fig in sheets:
+        block = next(a for a in fig.axes if a.get_label() == "title block")
+        fig.draw_without_rendering()
+        renderer = fig.canvas.get_renderer()
+        bb = block.get_window_extent(renderer)
+        for t in block.texts:
+            b = _box(t, renderer)
+            assert bb.x0 < b[0] and b[2] < bb.x1 - 1.0, (name, stem, t.get_text())
+
+
 def test_placement_sheet_labels_clear(demo_site):
     from fringe.analysis.placement import search_placement
     from fringe.cli.place import equipment_effect
