@@ -40,13 +40,14 @@ from matplotlib.path import Path as MplPath
 from matplotlib.text import Annotation, Text
 from matplotlib.transforms import Affine2D, Bbox, ScaledTranslation, blended_transform_factory
 from shapely.geometry import LineString, Point, Polygon, box
-from shapely.ops import polylabel
+from shapely.ops import nearest_points, polylabel
 
 from fringe.analysis.geometry import footprint_rectangle
 from fringe.model.constants import DEFAULT_THRESHOLDS_MT
 from fringe.model.errors import FringeInputError, must_be
 from fringe.model.site import STANDARD_SCALES
 from fringe.model.verdict import Verdict
+from fringe.render import labels as lp
 from fringe.render.paths import MovingSteelMark, draw_moving_steel, mark_geometries
 from fringe.render.sheet import (
     _HALO,
@@ -169,11 +170,14 @@ class MagnetOutline:
 #: outline : dashed line (e.g. an extra footprint, a proposed wall);
 #: contour : dotted line (e.g. energy-density contours);
 #: wall    : solid heavy grey line (walls read from a CAD drawing; grey, so it is never
-#:           mistaken for the black boundary line).
+#:           mistaken for the black boundary line);
+#: points  : a small cross at each point (e.g. candidate magnet centres).
 OVERLAY_KINDS: dict[str, dict[str, Any]] = {
     "wall": {"hatch": None, "edgecolor": "0.6", "linewidth": 3.4, "linestyle": "-",
              "zorder": 2.2},  # under the field lines, above the bands
     "hazard": {"hatch": "xx", "edgecolor": HAZARD_COLOR, "linewidth": 1.6, "linestyle": "-"},
+    "points": {"hatch": None, "edgecolor": "0.1", "linewidth": 1.1, "linestyle": "none",
+               "marker": "+", "markersize": 6},
     "outline": {"hatch": None, "edgecolor": "0.1", "linewidth": 1.2, "linestyle": (0, (6, 3))},
     "contour": {"hatch": None, "edgecolor": HAZARD_COLOR, "linewidth": 1.0,
                 "linestyle": (0, (1, 1.5))},
@@ -484,40 +488,39 @@ def _text_size_px(ax, renderer, text: str, fontsize: float, weight: str) -> tupl
     return bb.width, bb.height
 
 
-def _clearance(box: Bbox, occupied: list[Bbox]) -> float:
-    """Smallest gap in px between ``box`` and any occupied box (0 if overlapping)."""
-    best = math.inf
-    for o in occupied:
-        dx = max(o.x0 - box.x1, box.x0 - o.x1, 0.0)
-        dy = max(o.y0 - box.y1, box.y0 - o.y1, 0.0)
-        best = min(best, math.hypot(dx, dy))
-    return best
+def _bbox_tuple(bb) -> lp.Box:
+    return (float(bb.x0), float(bb.y0), float(bb.x1), float(bb.y1))
 
 
-def _label_lines(ax, renderer, line_sets: Sequence[_LineSet], occupied: list[Bbox],
-                 max_per_level: int = 2, walls=None) -> list:
-    """Label contour lines inline where the label is clear of everything already placed.
+def _label_lines(ax, renderer, line_sets: Sequence[_LineSet], obs: lp.Obstacles,
+                 max_per_level: int = 2) -> list:
+    """Label contour lines where the label is clear of everything already placed.
 
     For each level, candidate points are sampled along every line piece long enough to
-    carry the label; a point is accepted where the rotated label box stays inside the
-    axes and clear of ``occupied`` (preferring the lower left, so labels of nested lines
-    line up). The long label of a set falls back to its short form when no piece can
-    carry it. Every placed label box is appended to ``occupied``.
+    carry the label; a point is accepted where the label's box stays inside the drawing,
+    clear of the hard obstacles of ``obs`` (labels, markers, walls, magnet outlines),
+    preferring straight stretches, places with no other line under the label and the
+    lower left (so labels of nested lines line up). The long label of a set falls back to
+    its short form when no piece can carry it. Every placed label box is added to ``obs``.
     """
-    axbb = ax.get_window_extent(renderer)
-    inner = Bbox.from_extents(axbb.x0 + 4, axbb.y0 + 4, axbb.x1 - 4, axbb.y1 - 4)
     out = []
     for ls in line_sets:
-        fmt, plan = _plan_line_set(ax, renderer, ls, inner, occupied, max_per_level, walls)
-        if not plan:
-            if ls.beside and ls.near_fallback:
-                out.extend(_label_near_pieces(ax, renderer, ls, inner, occupied, walls,
-                                              max_per_level))
+        if not ls.beside:
+            _fmt, plan = _plan_line_set(ax, renderer, ls, obs, max_per_level, False)
+            out.extend(_draw_inline_labels(ax, ls, plan))
             continue
-        if ls.beside:
-            out.extend(_draw_beside_labels(ax, ls, plan))
-            continue
-        out.extend(_draw_inline_labels(ls, fmt, plan))
+        # beside its line, crossing no other line: any form, else the level alone just
+        # outside the loop; only then crossing other lines, in the same order
+        for strict in (True, False):
+            _fmt, plan = _plan_line_set(ax, renderer, ls, obs, max_per_level, strict)
+            if plan:
+                out.extend(_draw_beside_labels(ax, ls, plan))
+                break
+            near = (_label_near_pieces(ax, renderer, ls, obs, max_per_level, strict)
+                    if ls.near_fallback else [])
+            if near:
+                out.extend(near)
+                break
     return out
 
 
@@ -529,54 +532,62 @@ def _label_forms(ls: _LineSet, i: int) -> list[str]:
     return forms
 
 
-def _plan_line_set(ax, renderer, ls: _LineSet, inner: Bbox, occupied: list[Bbox],
-                   max_per_level: int, walls):
-    """Label text by level and the label spots (px point, angle, text) of one line set."""
+def _plan_line_set(ax, renderer, ls: _LineSet, obs: lp.Obstacles, max_per_level: int,
+                   strict: bool):
+    """Label text by level and the label spots of one line set.
+
+    A spot is (px point, angle, text, level index, piece index, arc length, width). A
+    label beside its line tries every form clear of other lines (``strict``) or its last
+    form anywhere (not ``strict``).
+    """
     cs = ls.cs
     fmt: dict[float, str] = {}
-    plan: list[tuple[float, float]] = []
+    plan: list[tuple] = []
     for i, path in enumerate(cs.get_paths()):
         if i >= len(ls.labels):
             break
-        pieces = [np.asarray(p) for p in path.to_polygons(closed_only=False)
-                  if len(p) >= 2]
-        pieces.sort(key=lambda p: -len(p))
-        for text in dict.fromkeys(_label_forms(ls, i)):
+        pieces = _path_pieces(path)
+        order = sorted(range(len(pieces)), key=lambda k: -len(pieces[k]))
+        forms = list(dict.fromkeys(_label_forms(ls, i)))
+        if ls.beside and not strict:
+            forms = forms[-1:]
+        for text in forms:
             w, h = _text_size_px(ax, renderer, text, ls.fontsize, ls.weight)
-            chosen = _spots_on_pieces(ax, pieces, w, h, inner, occupied, max_per_level,
-                                      (h / 2 + 3) if ls.beside else 0.0, walls)
+            chosen = []
+            for k in order:
+                if len(chosen) >= max_per_level:
+                    break
+                pt = _best_point_on_piece(ax, pieces[k], w, h, obs,
+                                          offset_px=(h / 2 + 3) if ls.beside else 0.0,
+                                          clear_of_lines=ls.beside and strict)
+                if pt is not None:
+                    chosen.append((k, pt))
+                    obs.add_box(pt[3])
             if chosen:
                 fmt[float(cs.levels[i])] = text
-                for p, ang, b in chosen:
-                    plan.append((p, ang, text))
-                    occupied.append(b)
+                for k, (p, ang, t_arc, _b) in chosen:
+                    plan.append((p, ang, text, i, k, t_arc, w))
                 break
     return fmt, plan
 
 
-def _spots_on_pieces(ax, pieces, w, h, inner: Bbox, occupied: list[Bbox],
-                     max_per_level: int, offset_px: float, walls) -> list:
-    """Up to ``max_per_level`` label spots, one per piece, clear of each other."""
-    chosen = []
-    for piece in pieces:
-        if len(chosen) >= max_per_level:
-            break
-        pt = _best_point_on_piece(ax, piece, w, h, inner, occupied + [
-            c[2] for c in chosen], offset_px=offset_px, walls=walls)
-        if pt is not None:
-            chosen.append(pt)
-    return chosen
+def _path_pieces(path) -> list[np.ndarray]:
+    """The pieces (polylines, data coordinates) of one contour level's path."""
+    return [np.asarray(p) for p in path.to_polygons(closed_only=False) if len(p) >= 2]
+
+
+def _upright_deg(ang: float) -> float:
+    deg = math.degrees(ang)
+    return deg - 180 if deg > 90 else (deg + 180 if deg < -90 else deg)
 
 
 def _draw_beside_labels(ax, ls: _LineSet, plan) -> list:
     """Draw the planned labels as upright-turned texts beside their line."""
     out = []
     to_data = ax.transData.inverted()
-    for p, ang, text in plan:
-        deg = math.degrees(ang)
-        deg = deg - 180 if deg > 90 else (deg + 180 if deg < -90 else deg)
+    for p, ang, text, *_ in plan:
         xd, yd = to_data.transform(p)
-        out.append(ax.text(xd, yd, text, rotation=deg, rotation_mode="anchor",
+        out.append(ax.text(xd, yd, text, rotation=_upright_deg(ang), rotation_mode="anchor",
                            ha="center", va="center", fontsize=ls.fontsize,
                            multialignment="center", linespacing=1.05,
                            fontweight=ls.weight, color=ls.color, zorder=8,
@@ -584,79 +595,104 @@ def _draw_beside_labels(ax, ls: _LineSet, plan) -> list:
     return out
 
 
-def _draw_inline_labels(ls: _LineSet, fmt: dict[float, str], plan) -> list:
-    """Draw the planned labels inline, breaking their contour lines."""
+def _cut_piece(piece: np.ndarray, d: np.ndarray, a: float, b: float) -> list[np.ndarray]:
+    """``piece`` (data) without its stretch between display arc lengths ``a`` and ``b``."""
+    s = np.concatenate([[0.0], np.cumsum(np.hypot(*np.diff(d, axis=0).T))])
+    x, y = piece[:, 0], piece[:, 1]
     out = []
-    cs = ls.cs
-    cs.clabel(levels=list(fmt), fmt=fmt, fontsize=ls.fontsize, inline=True,
-              inline_spacing=3, manual=[], colors=[ls.color] * len(fmt))
-    for (px, py), _ang, _text in plan:
-        cs.add_label_near(px, py, inline=True, inline_spacing=3, transform=False)
-    for t in cs.labelTexts:
-        t.set_gid("contour-label")
-        t.set_fontweight(ls.weight)
-        t.set_path_effects(_HALO)
-        t.set_zorder(8)
-        out.append(t)
+    if a > 0:
+        keep = s < a
+        head = np.vstack([piece[keep], [np.interp(a, s, x), np.interp(a, s, y)]])
+        out.append(head)
+    if b < s[-1]:
+        keep = s > b
+        tail = np.vstack([[np.interp(b, s, x), np.interp(b, s, y)], piece[keep]])
+        out.append(tail)
+    return [p for p in out if len(p) >= 2]
+
+
+def _draw_inline_labels(ax, ls: _LineSet, plan) -> list:
+    """Draw the planned labels inline, breaking their lines under them."""
+    out = []
+    to_data = ax.transData.inverted()
+    paths = ls.cs.get_paths()
+    cuts: dict[int, dict[int, tuple[float, float]]] = {}
+    for p, ang, text, i, k, t_arc, w in plan:
+        xd, yd = to_data.transform(p)
+        out.append(ax.text(xd, yd, text, rotation=_upright_deg(ang), rotation_mode="anchor",
+                           ha="center", va="center", fontsize=ls.fontsize,
+                           fontweight=ls.weight, color=ls.color, zorder=8,
+                           path_effects=_HALO, gid="contour-label"))
+        cuts.setdefault(i, {})[k] = (t_arc - w / 2 - 3, t_arc + w / 2 + 3)
+    for i, by_piece in cuts.items():
+        pieces = _path_pieces(paths[i])
+        kept: list[np.ndarray] = []
+        for k, piece in enumerate(pieces):
+            if k in by_piece:
+                kept.extend(_cut_piece(piece, ax.transData.transform(piece), *by_piece[k]))
+            else:
+                kept.append(piece)
+        if kept:
+            codes = [np.r_[MplPath.MOVETO, np.full(len(q) - 1, MplPath.LINETO)] for q in kept]
+            paths[i] = MplPath(np.concatenate(kept), np.concatenate(codes).astype(
+                MplPath.code_type))
+        else:
+            paths[i] = MplPath(np.zeros((0, 2)))
+    ls.cs.stale = True
     return out
 
 
-def _label_near_pieces(ax, renderer, ls: _LineSet, inner: Bbox, occupied: list[Bbox],
-                       walls, max_per_level: int) -> list:
+def _label_near_pieces(ax, renderer, ls: _LineSet, obs: lp.Obstacles,
+                       max_per_level: int, strict: bool = False) -> list:
     """Horizontal labels just outside small closed loops (above, below, right, left).
 
     Used when a line is too short or too curved for a label alongside it; the line is
-    left unbroken.
+    left unbroken. With ``strict`` the label crosses no other line.
     """
     out = []
     inv = ax.transData.inverted()
-    sx, _ = _display_per_metre(ax)
     for i, path in enumerate(ls.cs.get_paths()):
         if i >= len(ls.near_fallback):
             break
         text = ls.near_fallback[i]
         w, h = _text_size_px(ax, renderer, text, ls.fontsize, ls.weight)
-        pieces = sorted((np.asarray(p) for p in path.to_polygons(closed_only=False)
-                         if len(p) >= 2), key=lambda p: -len(p))
+        pieces = sorted(_path_pieces(path), key=lambda p: -len(p))
+        if not pieces:
+            continue
+        middle = ax.transData.transform(np.vstack(pieces)).mean(axis=0)
         for piece in pieces[:max_per_level]:
             d = ax.transData.transform(piece)
             d = d[np.all(np.isfinite(d), axis=1)]
             if len(d) < 2:
                 continue
-            x0, y0 = d.min(axis=0)
-            x1, y1 = d.max(axis=0)
-            cx, cy = (x0 + x1) / 2, (y0 + y1) / 2
-            best = None
-            for px, py in ((cx, y1 + h / 2 + 3), (cx, y0 - h / 2 - 3),
-                           (x1 + w / 2 + 4, cy), (x0 - w / 2 - 4, cy)):
-                b = Bbox.from_bounds(px - w / 2 - 2, py - h / 2 - 2, w + 4, h + 4)
-                if b.x0 < inner.x0 or b.x1 > inner.x1 or b.y0 < inner.y0 or b.y1 > inner.y1:
-                    continue
-                c = _clearance(b, occupied)
-                if c <= 0:
-                    continue
-                cost = 0.0
-                if walls is not None and not walls.is_empty:
-                    lo, hi = inv.transform([(b.x0, b.y0), (b.x1, b.y1)])
-                    cost = walls.intersection(box(lo[0], lo[1], hi[0], hi[1])).length * sx
-                if best is None or cost < best[0]:
-                    best = (cost, (px, py), b)
-            if best is None:
+            loop = (*d.min(axis=0), *d.max(axis=0))
+            sides = [j for j, dxy in enumerate(lp.AROUND_DIRECTIONS) if 0 in dxy]
+            cands = [c for j, c in enumerate(lp.around(loop, w, h, gaps=(2.0, 6.0)))
+                     if j % 8 in sides]  # above, below, right, left of the loop
+            # outward first: away from the middle of all the level's loops (the magnet)
+            cxy = np.array([((c[0] + c[2]) / 2, (c[1] + c[3]) / 2) for c in cands])
+            away = np.hypot(*(cxy - middle).T)
+            cost = np.repeat([0.0, 5.0], len(sides)) + 0.1 * (away.max() - away)
+            k = lp.choose(cands, obs, extra_cost=cost)
+            if k is None or (strict and obs.soft_cost(cands[k]) > 0.5):
                 continue
-            occupied.append(best[2])
-            xd, yd = inv.transform(best[1])
+            b = cands[k]
+            obs.add_box(b)
+            xd, yd = inv.transform(((b[0] + b[2]) / 2, (b[1] + b[3]) / 2))
             out.append(ax.text(xd, yd, text, ha="center", va="center", fontsize=ls.fontsize,
                                fontweight=ls.weight, color=ls.color, zorder=8,
                                path_effects=_HALO, gid="contour-label"))
     return out
 
 
-def _best_point_on_piece(ax, piece, w, h, inner: Bbox, occupied: list[Bbox],
-                         offset_px: float = 0.0, walls=None):
-    """Best label spot on one contour piece: ((x, y) px, angle rad, box) or None.
+def _best_point_on_piece(ax, piece, w, h, obs: lp.Obstacles, offset_px: float = 0.0,
+                         clear_of_lines: bool = False):
+    """Best label spot on one contour piece: ((x, y) px, angle rad, arc length px, box)
+    or None.
 
     With ``offset_px`` the label centre is moved off the line along its normal, to the
-    convex side (where a straight label clears a curved line).
+    convex side (where a straight label clears a curved line). With ``clear_of_lines``
+    no soft line (another threshold, an extra layer) may pass under the label.
     """
     d = ax.transData.transform(piece)
     good = np.all(np.isfinite(d), axis=1)
@@ -670,6 +706,8 @@ def _best_point_on_piece(ax, piece, w, h, inner: Bbox, occupied: list[Bbox],
     s = np.concatenate([[0.0], np.cumsum(seg)])
     closed = np.allclose(d[0], d[-1], atol=1.0)
     margin = 0.0 if closed else 0.7 * w
+    if not offset_px:
+        margin = max(margin, w / 2 + 4)  # the line is cut under an inline label
     ts = np.arange(margin, length - margin + 1e-9, max(w / 4.0, 4.0))
     if ts.size == 0:
         return None
@@ -677,13 +715,9 @@ def _best_point_on_piece(ax, piece, w, h, inner: Bbox, occupied: list[Bbox],
     bad = np.zeros(ts.shape, dtype=bool)
     side_cost = np.zeros(ts.shape)
     if offset_px:
-        c, bad, side_cost = _offset_candidates(d, s, length, closed, c, offset_px)
-    ts, ta, tb, px, py, ang, nx, ny, sag = c
-    wall_px = np.zeros(ts.shape)
-    if walls is not None and not walls.is_empty:
-        wall_px = _wall_under_labels_px(ax, walls, px, py, ang, w, h)
-    return _best_candidate(px, py, ang, sag, w, h, inner, occupied, bad, side_cost, wall_px,
-                           offset_px)
+        c, bad, side_cost = _offset_candidates(d, s, length, closed, c, offset_px, h)
+    return _best_candidate(c, w, h, obs, bad, side_cost, 1.0 if offset_px else 0.3,
+                           clear_of_lines, lp.segments_from_lines([d]))
 
 
 def _piece_candidates(d: np.ndarray, s: np.ndarray, length: float, ts: np.ndarray, w: float):
@@ -702,8 +736,13 @@ def _piece_candidates(d: np.ndarray, s: np.ndarray, length: float, ts: np.ndarra
 
 
 def _offset_candidates(d: np.ndarray, s: np.ndarray, length: float, closed: bool, c,
-                       offset_px: float):
-    """Candidates moved off the line to both sides, with crossing flags and side costs."""
+                       offset_px: float, h: float):
+    """Candidates moved off the line to both sides, with rejection flags and side costs.
+
+    Rejected: a spot where the line bulges towards the label past the anchor point (it
+    would cross the label), or runs away from it by more than the label's height (the
+    label would float free of its line).
+    """
     ts, ta, tb, px, py, ang, nx, ny, sag = c
     if closed:  # outward side of a closed loop, from its orientation (shoelace)
         area2 = float(np.sum(d[:-1, 0] * d[1:, 1] - d[1:, 0] * d[:-1, 1]))
@@ -717,57 +756,40 @@ def _offset_candidates(d: np.ndarray, s: np.ndarray, length: float, closed: bool
                                                                  sag))
     sign = np.concatenate([sign, -sign])
     side_cost = np.concatenate([np.zeros(n0), np.full(n0, 4.0)])
-    # a straight label beside the line must not be crossed by the line itself: no
-    # point of the line under the label may bulge towards it past the anchor point
     u = np.linspace(0.0, 1.0, 9)
     tu = np.clip(ta[:, None] + (tb - ta)[:, None] * u[None, :], 0, length)
     qx = np.interp(tu, s, d[:, 0])
     qy = np.interp(tu, s, d[:, 1])
-    dev = (qx - px[:, None]) * nx[:, None] + (qy - py[:, None]) * ny[:, None]
-    bad = (sign[:, None] * dev).max(axis=1) > 2.0
+    dev = sign[:, None] * ((qx - px[:, None]) * nx[:, None] + (qy - py[:, None]) * ny[:, None])
+    bad = (dev.max(axis=1) > 2.0) | (dev.min(axis=1) < -max(1.3 * h, 12.0))
     px = px + sign * offset_px * nx
     py = py + sign * offset_px * ny
     return (ts, ta, tb, px, py, ang, nx, ny, sag), bad, side_cost
 
 
-def _wall_under_labels_px(ax, walls, px, py, ang, w, h) -> np.ndarray:
-    """Length of wall (display px) under each candidate's rotated label rectangle."""
-    # labels keep off walls (the label's own rotated rectangle, not its axis-aligned box)
-    inv = ax.transData.inverted()
-    tx, ty = np.cos(ang), np.sin(ang)
-    hw, hh = w / 2 + 3, h / 2 + 3
-    corners = np.stack([np.column_stack([px + a * hw * tx - b * hh * ty,
-                                         py + a * hw * ty + b * hh * tx])
-                        for a, b in ((-1, -1), (1, -1), (1, 1), (-1, 1), (-1, -1))],
-                       axis=1)
-    corners = inv.transform(corners.reshape(-1, 2)).reshape(corners.shape)
-    boxes = shapely.polygons(corners)
-    sx, _ = _display_per_metre(ax)
-    return shapely.length(shapely.intersection(walls, boxes)) * sx
-
-
-def _best_candidate(px, py, ang, sag, w, h, inner: Bbox, occupied: list[Bbox], bad,
-                    side_cost, wall_px, offset_px: float):
-    """Highest-scoring candidate inside the axes and clear of ``occupied``, or None."""
-    ew = np.abs(w * np.cos(ang)) + np.abs(h * np.sin(ang)) + 6
-    eh = np.abs(w * np.sin(ang)) + np.abs(h * np.cos(ang)) + 6
-    cap = 1.5 * h
-    best = None
-    for k in range(px.size):
-        # a label set beside a line must not touch a wall (it would read as the wall's)
-        if bad[k] or (offset_px and wall_px[k] > 0):
-            continue
-        b = Bbox.from_bounds(px[k] - ew[k] / 2, py[k] - eh[k] / 2, ew[k], eh[k])
-        if b.x0 < inner.x0 or b.x1 > inner.x1 or b.y0 < inner.y0 or b.y1 > inner.y1:
-            continue
-        c = min(_clearance(b, occupied), cap)
-        if c <= 0:
-            continue
-        score = (c - 0.5 * abs(sag[k]) - 0.25 * wall_px[k] - side_cost[k]
-                 - 1e-4 * (px[k] + py[k]))
-        if best is None or score > best[0]:
-            best = (score, (px[k], py[k]), float(ang[k]), b)
-    return None if best is None else best[1:]
+def _best_candidate(c, w, h, obs: lp.Obstacles, bad, side_cost, soft_weight: float,
+                    clear_of_lines: bool, own: np.ndarray):
+    """Highest-scoring free candidate: ((x, y) px, angle, arc length, box) or None."""
+    ts, _ta, _tb, px, py, ang, _nx, _ny, sag = c
+    ew = np.abs(w * np.cos(ang)) + np.abs(h * np.sin(ang)) + 4
+    eh = np.abs(w * np.sin(ang)) + np.abs(h * np.cos(ang)) + 4
+    boxes = np.column_stack([px - ew / 2, py - eh / 2, px + ew / 2, py + eh / 2])
+    ok = ~bad
+    if ok.any():
+        ok[ok] = obs.free_mask(boxes[ok])
+    if not ok.any():
+        return None
+    idx = np.flatnonzero(ok)
+    clear = np.minimum(lp.clearances(boxes[idx], obs.boxes), 1.5 * h)
+    soft = obs.soft_costs(boxes[idx], minus=own)  # other lines under the label
+    score = (clear - 0.5 * np.abs(sag[idx]) - soft_weight * soft - side_cost[idx]
+             - 1e-4 * (px[idx] + py[idx]))
+    if clear_of_lines:
+        score[soft > 0.5] = -np.inf
+        if np.all(np.isinf(score)):
+            return None
+    k = int(idx[int(np.argmax(score))])
+    return (float(px[k]), float(py[k])), float(ang[k]), float(ts[k]), tuple(boxes[k])
 
 
 def _add_polygon(ax, geom, **kw):
@@ -776,14 +798,54 @@ def _add_polygon(ax, geom, **kw):
     return patch
 
 
+def _label_forms_of_room(lines: list[str], rotations, fs_max: float, fs_min: float):
+    """(text, font size, rotation) of a room label to try, largest and fullest first:
+    all lines at the largest size, the name wrapped, smaller sizes, then fewer lines."""
+    name = lines[0]
+    name_forms = [name] + [textwrap.fill(name, max(6, math.ceil(len(name) / k)))
+                           for k in (2, 3) if len(name) > 12]
+    for n_keep in range(len(lines), 0, -1):
+        fs = fs_max
+        while fs >= fs_min - 1e-9:
+            for form in dict.fromkeys(name_forms):
+                for rot in rotations:
+                    yield "\n".join([form, *lines[1:n_keep]]), fs, rot
+            fs -= 0.5
+
+
+def _room_spots(ax, poly, pref_xy) -> tuple[np.ndarray, np.ndarray]:
+    """Candidate label centres (display px) inside ``poly`` and their distance (px) from
+    the preferred point, nearest first."""
+    x0, y0, x1, y1 = poly.bounds
+    (dx0, dy0), (dx1, dy1) = ax.transData.transform([(x0, y0), (x1, y1)])
+    area_px = abs((dx1 - dx0) * (dy1 - dy0))
+    step_px = max(5.0, math.sqrt(area_px / 700.0))
+    sx, sy = _display_per_metre(ax)
+    xs = np.arange(x0, x1 + 1e-12, step_px / sx)
+    ys = np.arange(y0, y1 + 1e-12, step_px / sy)
+    X, Y = np.meshgrid(xs, ys)
+    pts = np.column_stack([X.ravel(), Y.ravel()])
+    pts = pts[shapely.contains_xy(poly, pts[:, 0], pts[:, 1])]
+    pts = np.vstack([np.asarray(pref_xy, float)[None, :], pts])
+    d = ax.transData.transform(pts)
+    p0 = d[0]
+    dist = np.hypot(d[:, 0] - p0[0], d[:, 1] - p0[1])
+    order = np.argsort(dist, kind="stable")
+    return d[order], dist[order]
+
+
 def _fit_label(ax, renderer, poly, lines: list[str], bold_first: bool,
-               avoid=(), fs_max: float = 7.5, fs_min: float = 5.0):
+               avoid=(), obs: lp.Obstacles | None = None, fs_max: float = 7.5,
+               fs_min: float = 5.0):
     """Place a multi-line label inside ``poly``, shrinking, wrapping or turning it to fit.
 
-    ``avoid`` is a sequence of geometries in decreasing order of strictness: the label
-    is centred on the pole of inaccessibility of ``poly`` minus the first of them that
-    leaves at least 15 % of the room (else of ``poly`` itself), and clipped to ``poly``
-    whatever happens.
+    ``avoid`` is a sequence of geometries in decreasing order of strictness: the preferred
+    spot is the pole of inaccessibility of ``poly`` minus the first of them that leaves at
+    least 15 % of the room (else of ``poly`` itself). The label takes the largest, fullest
+    form that has a free spot (see :mod:`fringe.render.labels`: clear of walls, magnet
+    outlines, markers and labels already placed) in the room, the spot nearest the
+    preferred one with least threshold line under it. Failing that, the smallest form is
+    set at the preferred spot; the label is clipped to ``poly`` whatever happens.
     """
     region = poly
     for geom in avoid:
@@ -804,8 +866,6 @@ def _fit_label(ax, renderer, poly, lines: list[str], bold_first: bool,
     cy = (vseg[0] + vseg[1]) / 2 if vseg else p.y
     w_m = (hseg[1] - hseg[0]) if hseg else 0.0
     h_m = (vseg[1] - vseg[0]) if vseg else 0.0
-    sx, sy = _display_per_metre(ax)
-    avail = (0.92 * w_m * sx, 0.88 * h_m * sy)
 
     t = ax.text(cx, cy, "", ha="center", va="center", color=_INK, zorder=7,
                 path_effects=_HALO, linespacing=1.1, gid="room-label")
@@ -815,32 +875,36 @@ def _fit_label(ax, renderer, poly, lines: list[str], bold_first: bool,
     ax.add_patch(patch)
     t.set_clip_path(patch)
     rotations = (0, 90) if h_m > 1.3 * w_m else (0,)
-    name = lines[0]
-    name_forms = [name] + [textwrap.fill(name, max(6, math.ceil(len(name) / k)))
-                           for k in (2, 3) if len(name) > 12]
-    chosen = False
-    for n_keep in range(len(lines), 0, -1):
-        fs = fs_max
-        while fs >= fs_min - 1e-9 and not chosen:
-            t.set_fontsize(fs)
-            for form in dict.fromkeys(name_forms):
-                t.set_text("\n".join([form, *lines[1:n_keep]]))
-                for rot in rotations:
-                    t.set_rotation(rot)
-                    bb = t.get_window_extent(renderer)
-                    if bb.width <= avail[0] and bb.height <= avail[1]:
-                        chosen = True
-                        break
-                if chosen:
-                    break
-            if not chosen:
-                fs -= 0.5
-        if chosen:
+    spots, dist = _room_spots(ax, poly, (cx, cy))
+    room_w = float(np.ptp(spots[:, 0])) + 1.0 if len(spots) else 0.0
+    room_h = float(np.ptp(spots[:, 1])) + 1.0 if len(spots) else 0.0
+    form = None
+    for text, fs, rot in _label_forms_of_room(lines, rotations, fs_max, fs_min):
+        t.set_text(text)
+        t.set_fontsize(fs)
+        t.set_rotation(rot)
+        t.set_position((cx, cy))
+        bb = t.get_window_extent(renderer)
+        if bb.width > room_w or bb.height > room_h:
+            continue
+        if obs is None:
+            form = (text, fs, rot)
             break
-    if not chosen:  # does not fit: smallest size, clipped to the room
-        t.set_text(name_forms[-1])
+        ox, oy = ax.transData.transform((cx, cy))
+        rel = np.array([bb.x0 - ox, bb.y0 - oy, bb.x1 - ox, bb.y1 - oy])
+        cands = np.column_stack([spots, spots]) + rel[None, :]
+        k = lp.choose(cands, obs, extra_cost=0.15 * dist)
+        if k is not None:
+            form = (text, fs, rot)
+            t.set_position(ax.transData.inverted().transform(spots[k]))
+            break
+    if form is None:  # does not fit: smallest size at the preferred spot, clipped
+        t.set_text(lines[0])
         t.set_rotation(rotations[-1])
         t.set_fontsize(fs_min - 0.5)
+        t.set_position((cx, cy))
+    if obs is not None:
+        obs.add_box(_bbox_tuple(t.get_window_extent(renderer)))
     return t
 
 
@@ -865,7 +929,8 @@ def _display_per_metre(ax) -> tuple[float, float]:
     return float(abs(ex[0] - o[0])), float(abs(ey[1] - o[1]))
 
 
-def _draw_rooms(ax, renderer, rooms: Sequence[RoomMark], avoid) -> tuple[list, list]:
+def _draw_rooms(ax, renderer, rooms: Sequence[RoomMark], avoid,
+                obs: lp.Obstacles | None = None) -> tuple[list, list]:
     """Room outlines (hatched and bold when ``exceeds``) and their fitted labels.
 
     Rooms wholly outside the drawing get no label.
@@ -909,7 +974,7 @@ def _draw_rooms(ax, renderer, rooms: Sequence[RoomMark], avoid) -> tuple[list, l
         if visible.geom_type not in ("Polygon", "MultiPolygon"):
             visible = shapely.union_all(_polygons_of(visible))
         texts.append(_fit_label(ax, renderer, visible, lines, bold_first=True,
-                                avoid=avoid))
+                                avoid=avoid, obs=obs))
     handles, labels = [], []
     if rooms:
         handles.append(Patch(facecolor="none", edgecolor=_INK, linewidth=1.0))
@@ -930,7 +995,8 @@ ENVELOPE_LEGEND = "cryostat envelope (not accessible)"
 
 
 def _draw_magnets(ax, magnets, *, section: bool = False) -> tuple[list, list]:
-    texts = []
+    """Magnet footprints (plan) or winding cross-sections (section) and their envelopes;
+    the names of plan footprints are placed later (:func:`_place_magnet_labels`)."""
     envelopes = False
     for i, m in enumerate(magnets):
         name, poly = (m.name, m.polygon) if isinstance(m, MagnetOutline) else tuple(m)[:2]
@@ -942,15 +1008,6 @@ def _draw_magnets(ax, magnets, *, section: bool = False) -> tuple[list, list]:
         _check_geometry(f"magnets[{i}].polygon ({name})", poly, area=True)
         _add_polygon(ax, poly, facecolor="0.35" if section else "white",
                      edgecolor=_INK, linewidth=1.8, zorder=6.5)
-        if not section:
-            c = poly.centroid
-            t = ax.text(c.x, c.y, name, ha="center", va="center", fontsize=7,
-                        fontweight="bold", color=_INK, zorder=7.5, path_effects=_HALO,
-                        gid="magnet-label")
-            patch = PathPatch(_polygon_path(poly), transform=ax.transData, visible=False)
-            ax.add_patch(patch)
-            t.set_clip_path(patch)
-            texts.append(t)
     entries = []
     if envelopes:
         entries.append((Patch(facecolor="0.93", edgecolor=_INK, linewidth=1.0,
@@ -962,7 +1019,58 @@ def _draw_magnets(ax, magnets, *, section: bool = False) -> tuple[list, list]:
         else:
             entries.append((Patch(facecolor="white", edgecolor=_INK, linewidth=1.8),
                             "magnet footprint (windings projected on the plan)"))
-    return texts, entries
+    return [], entries
+
+
+def _magnet_parts(m):
+    """(name, footprint, envelope or None) of a MagnetOutline or (name, polygon) pair."""
+    if isinstance(m, MagnetOutline):
+        env = m.envelope if m.envelope is not None and not m.envelope.is_empty else None
+        return m.name, m.polygon, env
+    name, poly = tuple(m)[:2]
+    return name, poly, None
+
+
+def _place_magnet_labels(ax, renderer, magnets, obs: lp.Obstacles) -> list:
+    """Each magnet's name: inside its footprint when it fits there clear of the outline,
+    else beside the magnet (outside its envelope) on a leader to the footprint."""
+    texts = []
+    inv = ax.transData.inverted()
+    for m in magnets:
+        name, poly, env = _magnet_parts(m)
+        c = poly.centroid
+        kw = {"fontsize": 7, "fontweight": "bold", "color": _INK, "zorder": 7.5,
+              "path_effects": _HALO, "gid": "magnet-label"}
+        t = ax.text(c.x, c.y, name, ha="center", va="center", **kw)
+        b = _bbox_tuple(t.get_window_extent(renderer))
+        if obs.free(b):
+            obs.add_box(b)
+            texts.append(t)
+            continue
+        t.remove()
+        w, h = b[2] - b[0], b[3] - b[1]
+        x0, y0, x1, y1 = (env if env is not None else poly).bounds
+        anchor = _bbox_tuple(Bbox(ax.transData.transform([(x0, y0), (x1, y1)])))
+        gaps = (4.0, 12.0, 24.0, 40.0, 60.0, 90.0)
+        cands = lp.around(anchor, w, h, gaps=gaps)
+        k = lp.choose(cands, obs, extra_cost=np.repeat(gaps, 8), soft_weight=0.5)
+        if k is None:  # nowhere free: inside, clipped to the footprint
+            t = ax.text(c.x, c.y, name, ha="center", va="center", **kw)
+            patch = PathPatch(_polygon_path(poly), transform=ax.transData, visible=False)
+            ax.add_patch(patch)
+            t.set_clip_path(patch)
+            texts.append(t)
+            continue
+        bx = cands[k]
+        obs.add_box(bx)
+        centre = inv.transform(((bx[0] + bx[2]) / 2, (bx[1] + bx[3]) / 2))
+        tip = nearest_points(poly.boundary, Point(*centre))[0]
+        texts.append(ax.annotate(name, xy=(tip.x, tip.y), xytext=tuple(centre),
+                                 textcoords="data", ha="center", va="center",
+                                 arrowprops={"arrowstyle": "-", "color": _INK,
+                                             "linewidth": 0.6, "shrinkA": 0, "shrinkB": 0},
+                                 **kw))
+    return texts
 
 
 def _magnet_boxes(ax, magnets) -> list[Bbox]:
@@ -988,7 +1096,16 @@ def _draw_overlays(ax, overlays) -> list:
         _check_geometry(f"overlays[{i}].geometry ({label})", geom, area=False)
         st = OVERLAY_KINDS[kind]
         polys = _polygons_of(geom)
-        if polys and st["hatch"]:
+        if st.get("marker"):
+            xy = shapely.get_coordinates(geom)
+            mk = {"marker": st["marker"], "markersize": st["markersize"],
+                  "markeredgewidth": st["linewidth"], "color": st["edgecolor"],
+                  "linestyle": "none"}
+            ax.plot(xy[:, 0], xy[:, 1], zorder=st.get("zorder", 4.5), gid="overlay-points",
+                    path_effects=[patheffects.withStroke(linewidth=st["linewidth"] + 2,
+                                                         foreground="white")], **mk)
+            handle = Line2D([], [], **mk)
+        elif polys and st["hatch"]:
             # white underlay keeps the hatch legible on dark bands
             _add_polygon(ax, geom, facecolor="none", edgecolor="white", linewidth=3.2,
                          zorder=4.4)
@@ -1044,11 +1161,6 @@ def _overlap_area(a: Bbox, b: Bbox) -> float:
     return w * h if (w > 0 and h > 0) else 0.0
 
 
-_OFFSETS_PT = [(d * cx, d * cy) for d in (9, 18, 30, 44)
-               for cx, cy in ((1, 1), (1, -1), (-1, 1), (-1, -1), (1.4, 0), (-1.4, 0),
-                              (0, 1.2), (0, -1.2))]
-
-
 def _equipment_label(e: EquipmentMark, exceeds: bool) -> str:
     """Name, then field, limit and verdict of an equipment mark."""
     parts = []
@@ -1064,27 +1176,30 @@ def _equipment_label(e: EquipmentMark, exceeds: bool) -> str:
     return e.name + ("\n" + line2 if line2 else "")
 
 
-def _draw_equipment(ax, renderer, equipment, occupied: list[Bbox], walls=None
-                    ) -> tuple[list, list]:
-    """Equipment markers with labels placed by a greedy search over offsets.
+_MARKER_PX = 12.0  # side of the box an equipment marker keeps clear, display px
 
-    Each label takes the first candidate offset that overlaps no occupied box, stays in
-    the axes and crosses no wall (``walls``: room outlines as shapely lines, data m);
-    failing that, the candidate of least overlap.
-    """
-    texts = []
-    to_data = ax.transData.inverted()
-    sx, _ = _display_per_metre(ax)
+
+def _equipment_xy(i: int, e) -> np.ndarray:
+    if not isinstance(e, EquipmentMark):
+        raise FringeInputError(must_be(f"equipment[{i}]", "an EquipmentMark", e))
+    xy = np.asarray(e.xy_m, float).ravel()
+    if xy.size != 2 or not np.all(np.isfinite(xy)):
+        raise FringeInputError(must_be(f"equipment[{i}].xy_m ({e.name})",
+                                       "two finite coordinates in metres", e.xy_m))
+    return xy
+
+
+def _marker_box(ax, xy) -> lp.Box:
+    p = ax.transData.transform(xy)
+    return lp.box_around(float(p[0]), float(p[1]), _MARKER_PX, _MARKER_PX)
+
+
+def _draw_equipment(ax, equipment) -> list:
+    """Equipment markers (diamonds, filled when ``exceeds``) and volume outlines; key
+    entries. Their labels are placed later (:func:`_place_equipment_labels`)."""
     any_exceeds = False
-    axbb = ax.get_window_extent(renderer)
     for i, e in enumerate(equipment):
-        if not isinstance(e, EquipmentMark):
-            raise FringeInputError(must_be(f"equipment[{i}]", "an EquipmentMark",
-                                           e))
-        xy = np.asarray(e.xy_m, float).ravel()
-        if xy.size != 2 or not np.all(np.isfinite(xy)):
-            raise FringeInputError(must_be(f"equipment[{i}].xy_m ({e.name})",
-                                           "two finite coordinates in metres", e.xy_m))
+        xy = _equipment_xy(i, e)
         exceeds = (e.verdict or "").lower() == Verdict.EXCEEDS
         any_exceeds |= exceeds
         if e.outline is not None:
@@ -1094,37 +1209,7 @@ def _draw_equipment(ax, renderer, equipment, occupied: list[Bbox], walls=None
                                    gid="equipment-outline"))
         ax.plot([xy[0]], [xy[1]], marker="D", markersize=7 if exceeds else 6,
                 markerfacecolor=_INK if exceeds else "white", markeredgecolor=_INK,
-                markeredgewidth=1.4, linestyle="none", zorder=9)
-        text = _equipment_label(e, exceeds)
-        best = None
-        for dx, dy in _OFFSETS_PT:
-            ha = "left" if dx > 0 else ("right" if dx < 0 else "center")
-            va = "bottom" if dy > 0 else ("top" if dy < 0 else "center")
-            ann = ax.annotate(text, xy=(xy[0], xy[1]), xytext=(dx, dy),
-                              textcoords="offset points", ha=ha, va=va, fontsize=7,
-                              color=_INK, zorder=9.5, path_effects=_HALO,
-                              fontweight="bold" if exceeds else "normal",
-                              gid="equipment-label",
-                              arrowprops={"arrowstyle": "-", "color": _INK, "linewidth": 0.6,
-                                          "shrinkA": 0, "shrinkB": 3})
-            bb = _text_box(ann, renderer)
-            cost = sum(_overlap_area(bb, o) for o in occupied)
-            outside = (bb.width * bb.height) - _overlap_area(bb, axbb)
-            cost += 4 * outside
-            if walls is not None:
-                c = to_data.transform([(bb.x0, bb.y0), (bb.x1, bb.y1)])
-                crossing = walls.intersection(box(c[0][0], c[0][1], c[1][0], c[1][1])).length
-                cost += 0.5 * crossing * sx * bb.height
-            if best is None or cost < best[0]:
-                if best is not None:
-                    best[1].remove()
-                best = (cost, ann, bb)
-            else:
-                ann.remove()
-            if cost == 0:
-                break
-        occupied.append(best[2])
-        texts.append(best[1])
+                markeredgewidth=1.4, linestyle="none", zorder=9, gid="equipment-marker")
     entries = []
     if equipment:
         entries.append((Line2D([], [], marker="D", markerfacecolor="white",
@@ -1137,7 +1222,107 @@ def _draw_equipment(ax, renderer, equipment, occupied: list[Bbox], walls=None
         entries.append((Line2D([], [], marker="D", markerfacecolor=_INK,
                                 markeredgecolor=_INK, linestyle="none", markersize=7),
                         "equipment whose field reaches its limit (EXCEEDS)"))
-    return texts, entries
+    return entries
+
+
+#: Gaps (display px) between an equipment marker and its label, ring by ring; beyond the
+#: first two rings the label hangs on a leader line.
+_EQUIPMENT_GAPS_PX = (2.0, 7.0, 16.0, 28.0, 44.0, 64.0, 90.0, 125.0)
+
+
+def _place_equipment_labels(ax, renderer, equipment, obs: lp.Obstacles,
+                            boundary=None) -> list:
+    """Each equipment label at the best free spot round its marker, ring by ring
+    (:func:`fringe.render.labels.around`), on a leader line to the marker.
+
+    Free: clear of the hard obstacles of ``obs`` and of the ``boundary`` segments
+    (display px); failing that, of the hard obstacles only; failing that, of other
+    labels only (the label may then cross a wall); else the first spot.
+    """
+    texts = []
+    inv = ax.transData.inverted()
+    for i, e in enumerate(equipment):
+        xy = _equipment_xy(i, e)
+        exceeds = (e.verdict or "").lower() == Verdict.EXCEEDS
+        kw = {"fontsize": 7, "color": _INK, "zorder": 9.5, "path_effects": _HALO,
+              "fontweight": "bold" if exceeds else "normal", "gid": "equipment-label"}
+        probe = ax.text(0, 0, _equipment_label(e, exceeds), **kw)
+        bb = probe.get_window_extent(renderer)
+        probe.remove()
+        w, h = bb.width, bb.height
+        cands = lp.around(_marker_box(ax, xy), w, h, gaps=_EQUIPMENT_GAPS_PX)
+        near = 0.4 * np.repeat(_EQUIPMENT_GAPS_PX, 8)  # prefer short leaders
+        k = lp.choose(cands, obs, soft_weight=0.5, extra_cost=near, more_walls=boundary)
+        if k is None:
+            k = lp.choose(cands, obs, soft_weight=0.5, extra_cost=near)
+        if k is None:
+            k = lp.choose(cands, obs, walls=False, soft_weight=0.5, extra_cost=near)
+        k = 0 if k is None else k
+        b = cands[k]
+        obs.add_box(b)
+        cx, cy = (b[0] + b[2]) / 2, (b[1] + b[3]) / 2
+        dx, _dy = lp.AROUND_DIRECTIONS[k % len(lp.AROUND_DIRECTIONS)]
+        align = "left" if dx > 0 else ("right" if dx < 0 else "center")
+        texts.append(ax.annotate(_equipment_label(e, exceeds), xy=(xy[0], xy[1]),
+                                 xytext=tuple(inv.transform((cx, cy))), textcoords="data",
+                                 ha="center", va="center", multialignment=align,
+                                 arrowprops={"arrowstyle": "-", "color": _INK,
+                                             "linewidth": 0.6, "shrinkA": 0, "shrinkB": 4},
+                                 **kw))
+    return texts
+
+
+#: Extra layers that labels must not cross (like walls); the others only cost.
+_HARD_OVERLAY_KINDS = frozenset({"wall", "outline"})
+
+
+def _px_segments(ax, geoms) -> np.ndarray:
+    """Segments (display px, (n, 4)) of the lines and polygon rings of ``geoms``."""
+    lines = []
+    for g in geoms:
+        for xy in _lines_of(g):
+            lines.append(ax.transData.transform(np.asarray(xy, float)[:, :2]))
+    return lp.segments_from_lines(lines)
+
+
+def _map_obstacles(ax, renderer, *, rooms, magnets, equipment, overlays,
+                   line_sets) -> lp.Obstacles:
+    """Obstacles of a map for its labels (:class:`fringe.render.labels.Obstacles`).
+
+    Hard: walls (room outlines, DXF walls), magnet footprints and cryostat envelopes,
+    dashed outlines (magnets of other floors), equipment markers. Soft: the threshold
+    lines, other extra layers (attraction zone, dotted lines), equipment volumes.
+    """
+    axbb = ax.get_window_extent(renderer)
+    obs = lp.Obstacles(frame=(axbb.x0 + 3, axbb.y0 + 3, axbb.x1 - 3, axbb.y1 - 3))
+    hard = [r.polygon for r in rooms]
+    for m in magnets:
+        _name, poly, env = _magnet_parts(m)
+        hard += [poly] + ([env] if env is not None else [])
+    soft = [e.outline for e in equipment if getattr(e, "outline", None) is not None]
+    for ov in overlays:
+        _label, geom, kind = (ov.label, ov.geometry, ov.kind) if isinstance(ov, Overlay) \
+            else tuple(ov)
+        if not isinstance(geom, shapely.Geometry) or geom.is_empty:
+            continue
+        if OVERLAY_KINDS.get(kind, {}).get("marker"):
+            for xy in shapely.get_coordinates(geom):
+                obs.add_box(_marker_box(ax, xy))
+        else:
+            (hard if kind in _HARD_OVERLAY_KINDS else soft).append(geom)
+    obs.add_walls(_px_segments(ax, hard))
+    obs.add_soft(_px_segments(ax, soft))
+    obs.add_soft(_line_set_segments(ax, line_sets))
+    for i, e in enumerate(equipment):
+        obs.add_box(_marker_box(ax, _equipment_xy(i, e)))
+    return obs
+
+
+def _line_set_segments(ax, line_sets) -> np.ndarray:
+    """Display segments of every contour line of ``line_sets``."""
+    lines = [ax.transData.transform(p) for ls in line_sets for path in ls.cs.get_paths()
+             for p in _path_pieces(path)]
+    return lp.segments_from_lines(lines)
 
 
 def _below_axes(ax, fig):
@@ -1381,8 +1566,9 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
                                      palette=palette, show_gauss=show_gauss,
                                      uncertainty=_check_uncertainty(uncertainty))
     entries += _draw_overlays(ax, overlays)
-    mag_texts, mag_entries = _draw_magnets(ax, magnets)
+    _mag_texts, mag_entries = _draw_magnets(ax, magnets)
     mag_entries += _draw_magnets(ax, windings, section=True)[1]
+    entries += _draw_equipment(ax, equipment)
     sx, _sy = _display_per_metre(ax)
     keep_clear = [m.polygon if isinstance(m, MagnetOutline) else m[1] for m in magnets]
     keep_clear = [g.buffer(6.0 / sx) for g in keep_clear]
@@ -1396,31 +1582,26 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
         else []
     strict = shapely.union_all(features + ([basic] if basic is not None else [])) \
         if features else None
-    room_texts, room_entries = _draw_rooms(ax, renderer, rooms, (strict, basic))
-    entries += room_entries + mag_entries
-    occupied = [t.get_window_extent(renderer) for t in room_texts + mag_texts
-                if t.get_text()]
-    occupied.append(_draw_scale_bar(ax, (x[0], x[-1]), (y[0], y[-1]), renderer, scale_text))
+    scale_box = _draw_scale_bar(ax, (x[0], x[-1]), (y[0], y[-1]), renderer, scale_text)
+    obs = _map_obstacles(ax, renderer, rooms=rooms, magnets=list(magnets) + list(windings),
+                         equipment=equipment, overlays=overlays, line_sets=line_sets)
+    # moving-steel paths are kept clear like walls; their labels go first
+    obs.add_walls(_px_segments(ax, [g.buffer(9.0 / sx) for g in mark_geometries(moving_steel)]))
+    occupied = [scale_box]
     if north_arrow:
         occupied.append(_draw_north_arrow(ax, renderer, north_deg))
     entries += draw_moving_steel(ax, renderer, moving_steel, occupied)
-    for e in equipment:
-        if isinstance(e, EquipmentMark):
-            p = ax.transData.transform(np.asarray(e.xy_m, float).ravel()[:2])
-            occupied.append(Bbox.from_bounds(p[0] - 6, p[1] - 6, 12, 12))
-    walls = shapely.union_all([r.polygon.boundary for r in rooms]) if rooms else None
-    lines_to_avoid = [g.boundary if g.geom_type in ("Polygon", "MultiPolygon") else g
-                      for g in _overlay_geometries(overlays) + mark_geometries(moving_steel)]
-    if walls is not None:
-        lines_to_avoid.append(walls)
-    label_walls = shapely.union_all(lines_to_avoid) if lines_to_avoid else None
-    _label_lines(ax, renderer, line_sets, occupied, walls=label_walls)
-    if line_sets and line_sets[0].beside:  # equipment labels keep off the boundary too
-        lines = [shapely.LineString(p) for path in line_sets[0].cs.get_paths()
-                 for p in path.to_polygons(closed_only=False) if len(p) >= 2]
-        walls = shapely.union_all(([walls] if walls is not None else []) + lines)
-    _eq_texts, eq_entries = _draw_equipment(ax, renderer, equipment, occupied, walls)
-    entries += eq_entries
+    for b in occupied:
+        obs.add_box(_bbox_tuple(b))
+    # labels in priority order: magnet names, room names, line values, equipment
+    _place_magnet_labels(ax, renderer, magnets, obs)
+    _room_texts, room_entries = _draw_rooms(ax, renderer, rooms, (strict, basic), obs)
+    entries += room_entries + mag_entries
+    _label_lines(ax, renderer, line_sets, obs)
+    boundary = (_px_segments(ax, [LineString(p) for p in _path_pieces(
+        line_sets[0].cs.get_paths()[0])]) if line_sets and line_sets[0].beside
+        and line_sets[0].cs.get_paths() else None)  # equipment labels keep off it
+    _place_equipment_labels(ax, renderer, equipment, obs, boundary)
     _draw_key_column(fig, [h for h, _ in entries], [lb for _, lb in entries],
                      f"{quantity} in {unit}", list(info.notes) + list(notes)
                      + ([scale_note] if scale_note else []))
@@ -1584,7 +1765,12 @@ def section_sheet(s_m, z_m, field_T, info: SheetInfo, *,
                                                                     exposure_lines)
     entries += exposure_entries
     occupied.append(_draw_scale_bar(ax, (s[0], s[-1]), (z[0], z[-1]), renderer, scale_text))
-    _label_lines(ax, renderer, line_sets[:1] + exposure_sets + line_sets[1:], occupied)
+    sets = line_sets[:1] + exposure_sets + line_sets[1:]
+    obs = _map_obstacles(ax, renderer, rooms=(), magnets=windings, equipment=(),
+                         overlays=overlays, line_sets=sets)
+    for b in occupied:
+        obs.add_box(_bbox_tuple(b))
+    _label_lines(ax, renderer, sets, obs)
     src_notes = [f"Exposure lines: {src}." for src in sources]
     _draw_key_column(fig, [h for h, _ in entries], [lb for _, lb in entries],
                      "|B| in mT", list(info.notes) + list(notes) + src_notes

@@ -118,9 +118,8 @@ def placement_sheet(site, result, equipment: list[dict]) -> Figure:
         if not g.is_empty:
             overlays.append(dr.Overlay(f"scenario placement: {result.boundary_mT:g} mT line",
                                        g.boundary, "contour"))
-    pts = shapely.union_all([shapely.Point(p.center_m[:2]).buffer(0.07, quad_segs=2)
-                             for p in result.candidates])
-    overlays.append(dr.Overlay("candidate centres (best few)", pts, "outline"))
+    pts = shapely.MultiPoint([p.center_m[:2] for p in result.candidates])
+    overlays.append(dr.Overlay("candidate centres (best few)", pts, "points"))
     notes = [f"Best placement: centre ({', '.join(f'{v:.2f}' for v in best.center_m)}) m, "
              f"axis ({', '.join(f'{v:.3f}' for v in best.axis)}); spill "
              f"{best.spill_area_m2:.2f} m² (thresholds summed), margin "

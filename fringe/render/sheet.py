@@ -358,7 +358,7 @@ def _draw_title_block(fig: Figure, info: SheetInfo, *, kind: str, scale_text: st
     pad = 0.035
     chars_small = _chars_for(_TITLE[2] * (1 - 2 * pad), 7.5, fig_w)
     # bold 11.5 pt runs wider than the average character _chars_for assumes
-    chars_title = _chars_for(_TITLE[2] * (1 - 2 * pad), 12.8, fig_w)
+    chars_title = _chars_for(_TITLE[2] * (1 - 2 * pad), 11.5 * 1.15, fig_w)
     rows: list[tuple[str, str, float, str]] = [
         ("drawing", info.title, 11.5, "bold"),
         ("", info.subtitle, 8.0, "normal"),
