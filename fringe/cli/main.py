@@ -73,6 +73,14 @@ def main(argv: Sequence[str] | None = None) -> int:
     if not getattr(args, "func", None):
         parser.print_help()
         return EXIT_INPUT
+    if isinstance(getattr(args, "scenario", None), str):  # a command reading a scenario
+        from fringe.io.scenario_keys import precheck_scenario  # stdlib only: no numpy yet
+
+        try:  # the loader's own first checks, so a bad file is reported in a blink
+            precheck_scenario(args.scenario)
+        except FringeError as e:
+            sys.stderr.write(f"fringe: error: {e}\n")
+            return EXIT_INPUT
     from fringe.io.model_cache import install as install_model_cache  # not before parsing
 
     install_model_cache()

@@ -18,9 +18,7 @@ of this module.
 
 from __future__ import annotations
 
-import difflib
 import math
-import tomllib
 import warnings
 from collections.abc import Callable, Mapping
 from pathlib import Path
@@ -30,11 +28,13 @@ from typing import Any
 from fringe.io.dxf import load_dxf_rooms
 from fringe.io.reader import Reader
 from fringe.io.scenario_datasheet import DATASHEET_KEY, parse_datasheet
-from fringe.io.scenario_drawing import SECTION_KEY as DRAWING_KEY
 from fringe.io.scenario_drawing import parse_drawing
-from fringe.io.scenario_implants import SECTION_KEY as IMPLANT_KEY
 from fringe.io.scenario_implants import parse_implant_conditions
-from fringe.io.scenario_moving import SECTION_KEY as MOVING_KEY
+from fringe.io.scenario_keys import (
+    TOP_LEVEL_KEYS,
+    check_top_level_spelling,
+    read_scenario_toml,
+)
 from fringe.io.scenario_moving import parse_background, parse_moving_steel
 from fringe.io.scenario_plan import (
     load_geojson_rooms,
@@ -43,7 +43,6 @@ from fringe.io.scenario_plan import (
     parse_plan,
     parse_rooms,
 )
-from fringe.io.scenario_quench import SECTION_KEY as QUENCH_KEY
 from fringe.io.scenario_quench import parse_quench_section
 from fringe.io.unit_slips import check_elevation
 from fringe.model.constants import MAX_COORDINATE_M
@@ -53,12 +52,6 @@ from fringe.model.overlap import OVERLAP_TOLERANCE_M, intersecting_magnets, over
 from fringe.model.site import Site
 
 __all__ = ["load_site", "parse_site", "TOP_LEVEL_KEYS", "MAGNET_BUILDERS", "ROOM_LOADERS"]
-
-#: Every top-level key of a scenario, in the order its section is parsed (``room_file``
-#: is read together with ``room``). Any other key is refused with a "did you mean".
-TOP_LEVEL_KEYS: tuple[str, ...] = ("site", "magnet", "plan", "floor", "room", "room_file",
-                                   "equipment", QUENCH_KEY, IMPLANT_KEY, MOVING_KEY,
-                                   DRAWING_KEY)
 
 #: Parsers for alternative magnet descriptions (e.g. data-sheet numbers), keyed by the
 #: sub-table name that selects them. Each takes the magnet Reader and the magnet's name
@@ -213,28 +206,11 @@ def _parse_site_table(r: Reader | None) -> dict[str, Any]:
     return out
 
 
-def _check_top_level_spelling(root: Reader) -> None:
-    """Refuse a misspelt section name before any section is parsed.
-
-    Sections are parsed in turn and only then are unknown keys reported; a misspelt
-    ``[[floors]]`` would first make ``[[room]]`` fail on its unknown floor, hiding the
-    real fault. A key that is not known but close to a known one is reported at once.
-    """
-    known = set(TOP_LEVEL_KEYS)
-    for k in root.data:
-        if k in known:
-            continue
-        hint = difflib.get_close_matches(k, sorted(known), n=1, cutoff=0.6)
-        if hint:
-            raise ScenarioError(f"`{k}` is not a known key; did you mean `{hint[0]}`?",
-                                root.file)
-
-
 def parse_site(data: dict, file: str | Path = "<scenario>") -> Site:
     """Validate an already-decoded TOML mapping into a :class:`Site`."""
     file = str(file)
     root = Reader(data, "", file)
-    _check_top_level_spelling(root)
+    check_top_level_spelling(root.data, root.file)
     site_info = _parse_site_table(root.table("site"))
     mags = tuple(parse_magnet(m) for m in root.tables("magnet"))
     seen: set[str] = set()
@@ -278,20 +254,5 @@ def load_site(path: str | Path) -> Site:
         the message names the file and the key path.
     """
     p = Path(path)
-    try:
-        raw = p.read_bytes()
-    except OSError as e:
-        raise ScenarioError(f"cannot read the scenario file: {e.strerror or e}", str(p)) from None
-    try:
-        text = raw.decode("utf-8")
-    except UnicodeDecodeError as e:
-        raise ScenarioError(f"the file must be UTF-8 text; byte {e.start} is not", str(p)) from None
-    text = text.removeprefix("\ufeff")  # a UTF-8 byte-order mark (some Windows editors)
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as e:
-        raise ScenarioError(f"not valid TOML: {e}", str(p)) from None
-    except RecursionError:
-        raise ScenarioError("not valid TOML: arrays or tables are nested too deeply",
-                            str(p)) from None
+    data = read_scenario_toml(p)
     return parse_site(data, p)
