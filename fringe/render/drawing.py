@@ -1230,14 +1230,39 @@ def _draw_equipment(ax, equipment) -> list:
 _EQUIPMENT_GAPS_PX = (2.0, 7.0, 16.0, 28.0, 44.0, 64.0, 90.0, 125.0)
 
 
+def _equipment_label_spot(ax, renderer, text: str, xy, kw: dict, obs: lp.Obstacles,
+                          boundary) -> tuple[int, list]:
+    """The candidate index and candidates for an equipment label (``kw["fontsize"]`` is
+    set to the size chosen): clear of the hard obstacles and the boundary, else of the
+    hard obstacles, at 7 pt and then smaller (6, 5.5 pt) before a label may cross a wall."""
+    near = 0.4 * np.repeat(_EQUIPMENT_GAPS_PX, 8)  # prefer short leaders
+    first = None
+    for size in (7.0, 6.0, 5.5):
+        kw["fontsize"] = size
+        probe = ax.text(0, 0, text, **kw)
+        bb = probe.get_window_extent(renderer)
+        probe.remove()
+        cands = lp.around(_marker_box(ax, xy), bb.width, bb.height, gaps=_EQUIPMENT_GAPS_PX)
+        if first is None:
+            first = cands
+        for more in (boundary, None):
+            k = lp.choose(cands, obs, soft_weight=0.5, extra_cost=near, more_walls=more)
+            if k is not None:
+                return k, cands
+    kw["fontsize"] = 7.0
+    k = lp.choose(first, obs, walls=False, soft_weight=0.5, extra_cost=near)
+    return (0 if k is None else k), first
+
+
 def _place_equipment_labels(ax, renderer, equipment, obs: lp.Obstacles,
                             boundary=None) -> list:
     """Each equipment label at the best free spot round its marker, ring by ring
     (:func:`fringe.render.labels.around`), on a leader line to the marker.
 
     Free: clear of the hard obstacles of ``obs`` and of the ``boundary`` segments
-    (display px); failing that, of the hard obstacles only; failing that, of other
-    labels only (the label may then cross a wall); else the first spot.
+    (display px); failing that, of the hard obstacles only; failing both at 7 pt, the
+    same at 6 and 5.5 pt; failing that, of other labels only at 7 pt (the label may then
+    cross a wall); else the first spot.
     """
     texts = []
     inv = ax.transData.inverted()
@@ -1246,18 +1271,8 @@ def _place_equipment_labels(ax, renderer, equipment, obs: lp.Obstacles,
         exceeds = (e.verdict or "").lower() == Verdict.EXCEEDS
         kw = {"fontsize": 7, "color": _INK, "zorder": 9.5, "path_effects": _HALO,
               "fontweight": "bold" if exceeds else "normal", "gid": "equipment-label"}
-        probe = ax.text(0, 0, _equipment_label(e, exceeds), **kw)
-        bb = probe.get_window_extent(renderer)
-        probe.remove()
-        w, h = bb.width, bb.height
-        cands = lp.around(_marker_box(ax, xy), w, h, gaps=_EQUIPMENT_GAPS_PX)
-        near = 0.4 * np.repeat(_EQUIPMENT_GAPS_PX, 8)  # prefer short leaders
-        k = lp.choose(cands, obs, soft_weight=0.5, extra_cost=near, more_walls=boundary)
-        if k is None:
-            k = lp.choose(cands, obs, soft_weight=0.5, extra_cost=near)
-        if k is None:
-            k = lp.choose(cands, obs, walls=False, soft_weight=0.5, extra_cost=near)
-        k = 0 if k is None else k
+        k, cands = _equipment_label_spot(ax, renderer, _equipment_label(e, exceeds), xy, kw,
+                                         obs, boundary)
         b = cands[k]
         obs.add_box(b)
         cx, cy = (b[0] + b[2]) / 2, (b[1] + b[3]) / 2
@@ -1270,6 +1285,36 @@ def _place_equipment_labels(ax, renderer, equipment, obs: lp.Obstacles,
                                              "linewidth": 0.6, "shrinkA": 0, "shrinkB": 4},
                                  **kw))
     return texts
+
+
+def _point_label_placer(ax, renderer, obs: lp.Obstacles):
+    """A function ``place(text, xy_m, bold) -> Bbox`` that sets a label on a leader at the
+    best free spot round the plan point ``xy_m``, as equipment labels are set (clear of
+    the hard obstacles of ``obs`` if it can be, else of other labels), and adds its box to
+    ``obs``."""
+    inv = ax.transData.inverted()
+
+    def place(text: str, xy_m, bold: bool) -> Bbox:
+        kw = {"fontsize": 7.5, "color": _INK, "zorder": 9.5, "path_effects": _HALO,
+              "fontweight": "bold" if bold else "normal", "gid": "path-label"}
+        probe = ax.text(0, 0, text, **kw)
+        bb = probe.get_window_extent(renderer)
+        probe.remove()
+        cands = lp.around(_marker_box(ax, xy_m), bb.width, bb.height, gaps=_EQUIPMENT_GAPS_PX)
+        near = 0.4 * np.repeat(_EQUIPMENT_GAPS_PX, 8)  # prefer short leaders
+        k = lp.choose(cands, obs, soft_weight=0.5, extra_cost=near)
+        if k is None:
+            k = lp.choose(cands, obs, walls=False, soft_weight=0.5, extra_cost=near)
+        b = cands[0 if k is None else k]
+        obs.add_box(b)
+        ax.annotate(text, xy=(xy_m[0], xy_m[1]),
+                    xytext=tuple(inv.transform(((b[0] + b[2]) / 2, (b[1] + b[3]) / 2))),
+                    textcoords="data", ha="center", va="center",
+                    arrowprops={"arrowstyle": "-", "color": _INK, "linewidth": 0.6,
+                                "shrinkA": 0, "shrinkB": 6}, **kw)
+        return Bbox.from_extents(*b)
+
+    return place
 
 
 #: Extra layers that labels must not cross (like walls); the others only cost.
@@ -1590,9 +1635,10 @@ def map_sheet(x_m, y_m, values, levels, info: SheetInfo, *, unit: str,
     occupied = [scale_box]
     if north_arrow:
         occupied.append(_draw_north_arrow(ax, renderer, north_deg))
-    entries += draw_moving_steel(ax, renderer, moving_steel, occupied)
     for b in occupied:
         obs.add_box(_bbox_tuple(b))
+    entries += draw_moving_steel(ax, renderer, moving_steel, occupied,
+                                 place=_point_label_placer(ax, renderer, obs))
     # labels in priority order: magnet names, room names, line values, equipment
     _place_magnet_labels(ax, renderer, magnets, obs)
     _room_texts, room_entries = _draw_rooms(ax, renderer, rooms, (strict, basic), obs)

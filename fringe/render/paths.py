@@ -95,8 +95,13 @@ def _halo(width: float) -> list:
 
 
 def draw_moving_steel(ax, renderer, marks: Sequence[MovingSteelMark],
-                      occupied: list[Bbox]) -> list:
+                      occupied: list[Bbox], place=None) -> list:
     """Draw ``marks`` on the plan axes ``ax``; append their labels' boxes to ``occupied``.
+
+    ``place(text, xy_m, bold) -> Bbox`` puts a label beside the plan point ``xy_m`` (the
+    plan sheet passes its label placement, which keeps clear of walls and markers); by
+    default the label takes the first of a few spots round the point clear of
+    ``occupied``.
 
     Returns the legend entries [(handle, label)].
     """
@@ -122,8 +127,9 @@ def draw_moving_steel(ax, renderer, marks: Sequence[MovingSteelMark],
             ax.scatter([xy[k, 0]], [xy[k, 1]], s=90, facecolors="none", edgecolors="0.1",
                        linewidths=1.6 if m.exceeds else 1.0, zorder=6.2)
         text = m.label.upper() if m.exceeds else m.label
-        occupied.append(_place_label(ax, renderer, text, (xy[k, 0], xy[k, 1]), m.exceeds,
-                                     occupied))
+        anchor = (xy[k, 0], xy[k, 1])
+        occupied.append(place(text, anchor, m.exceeds) if place is not None else
+                        _place_label(ax, renderer, text, anchor, m.exceeds, occupied))
     _colour_bar(ax, cmap, scale)
     handle = Line2D([], [], color=cmap(0.6), linewidth=4.0, marker="o", markersize=7,
                     markerfacecolor=cmap(0.6), markeredgecolor="0.1")

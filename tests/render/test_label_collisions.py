@@ -34,7 +34,7 @@ SCENARIOS = {
 }
 #: Texts placed on the map: room, magnet, equipment and line labels (and, on sections,
 #: the floor names); the scale bar's texts sit outside the drawing.
-LABEL_GIDS = {"room-label", "magnet-label", "equipment-label", "contour-label"}
+LABEL_GIDS = {"room-label", "magnet-label", "equipment-label", "contour-label", "path-label"}
 TOL_PX = 0.5  # rounding of the rendered extents
 MARKER_PX = 9.0  # side of an equipment marker's diamond (6-7 pt at the canvas dpi)
 
