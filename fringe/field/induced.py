@@ -11,11 +11,10 @@ thousands of cells and a million points that direct sum costs ~10¹⁰ kernel ca
   (``fmm3dpy.lfmm3d``, Greengard & Rokhlin 1987; the library's kernel is
   u = Σ v·∇(1/4π|x − x_j|) and B = −μ₀ ∇u for dipole moments v in A·m², checked against
   magpylib's dipole in tests/field/test_induced.py). Each cell is split into
-  Gauss–Legendre quadrature points (two per axis along every edge longer than a third of
-  the cell's longest edge, one otherwise): the field of a uniformly polarised cell is the
-  volume integral of a dipole density, and the product Gauss rule integrates it with an
-  error falling as (a/r)⁴ along the split edges (a: edge, r: distance), (c/r)² along a
-  thin unsplit edge c;
+  :data:`QUADRATURE_ORDER`³ Gauss–Legendre quadrature points: the field of a uniformly
+  polarised cell is the volume integral of a dipole density, and the product Gauss rule
+  of order q integrates it with an error falling as (a/r)^(2q) (a: edge, r: distance;
+  a thin plate's cells need the points across their thickness too, measured);
 * **near cells exactly**: for every point closer than :data:`NEAR_FACTOR` cell diagonals
   to a cell's centre the cell's quadrature dipoles are subtracted and its exact cuboid
   field added (pairs from a k-d tree, scipy's ``cKDTree.sparse_distance_matrix``).
@@ -37,7 +36,9 @@ __all__ = ["InducedCells", "cells_field_direct_T", "cells_field_fast_T", "NEAR_F
 
 #: A point within NEAR_FACTOR × (cell diagonal) of a cell's centre gets that cell's exact
 #: field instead of its quadrature dipoles.
-NEAR_FACTOR: float = 2.0
+NEAR_FACTOR: float = 1.5
+#: Gauss–Legendre points along each long edge of a cell in the multipole sum.
+QUADRATURE_ORDER: int = 3
 #: Fewer point–cell pairs than this are summed exactly (no multipole overhead).
 DIRECT_PAIRS: int = 4_000_000
 #: Requested relative precision of the fast multipole sums.
@@ -135,7 +136,10 @@ def _exact_pairs(cells: InducedCells, idx_cell: np.ndarray, pts: np.ndarray,
         rel = (pts[sl] - cells.centers_m[idx_cell[sl]]) @ rot  # site → cell frame
         pol = cells.polarization_T[idx_cell[sl]] @ rot
         dims = np.broadcast_to(size, rel.shape)
-        out[sl] = magnet_cuboid_Bfield(rel, np.ascontiguousarray(dims), pol) @ rot.T
+        b = magnet_cuboid_Bfield(rel, np.ascontiguousarray(dims), pol)
+        # on a cell's edge the closed form is singular (log): taken as 0 there, as
+        # magpylib's getB does
+        out[sl] = np.where(np.isfinite(b), b, 0.0) @ rot.T
     return out
 
 
@@ -158,29 +162,22 @@ def cells_field_direct_T(cells: InducedCells, points_m) -> np.ndarray:
     return out
 
 
-def _quadrature(size: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Gauss–Legendre points (cell frame, m) and weights (sum 1) of a cell of ``size``."""
-    axes_pts, axes_w = [], []
-    for edge in size:
-        if edge > max(size) / 3.0:
-            axes_pts.append(np.array([-0.5, 0.5]) / np.sqrt(3.0) * edge)
-            axes_w.append(np.array([0.5, 0.5]))
-        else:
-            axes_pts.append(np.zeros(1))
-            axes_w.append(np.ones(1))
-    gx, gy, gz = np.meshgrid(*axes_pts, indexing="ij")
-    wx, wy, wz = np.meshgrid(*axes_w, indexing="ij")
-    return (np.column_stack([gx.ravel(), gy.ravel(), gz.ravel()]),
-            (wx * wy * wz).ravel())
+def _quadrature(size: np.ndarray, order: int) -> tuple[np.ndarray, np.ndarray]:
+    """Product Gauss–Legendre points (cell frame, m) and weights (sum 1) of a cell of
+    ``size``, ``order`` points along every edge."""
+    x, w = np.polynomial.legendre.leggauss(order)
+    g = np.meshgrid(*(0.5 * x * e for e in size), indexing="ij")
+    wg = np.meshgrid(0.5 * w, 0.5 * w, 0.5 * w, indexing="ij")
+    return np.column_stack([a.ravel() for a in g]), (wg[0] * wg[1] * wg[2]).ravel()
 
 
-def _dipoles(cells: InducedCells) -> tuple[np.ndarray, np.ndarray, list]:
+def _dipoles(cells: InducedCells, order: int) -> tuple[np.ndarray, np.ndarray, list]:
     """Quadrature dipoles of every cell: positions (K, 3), moments (K, 3) and per group
     (cell indices, local points (q, 3) site-rotated, weights (q,))."""
     m = cells.moments_Am2
     pos, mom, info = [], [], []
     for idx, size, yaw in cells.groups():
-        q, w = _quadrature(size)
+        q, w = _quadrature(size, order)
         q = q @ _rotation_z(yaw).T
         pos.append((cells.centers_m[idx][:, None, :] + q[None, :, :]).reshape(-1, 3))
         mom.append((m[idx][:, None, :] * w[None, :, None]).reshape(-1, 3))
@@ -200,18 +197,20 @@ def _dipole_B(rel: np.ndarray, moment: np.ndarray) -> np.ndarray:
 
 
 def cells_field_fast_T(cells: InducedCells, points_m, *, eps: float = FMM_EPS,
-                       near_factor: float = NEAR_FACTOR) -> np.ndarray:
+                       near_factor: float = NEAR_FACTOR,
+                       direct_pairs: int = DIRECT_PAIRS,
+                       order: int = QUADRATURE_ORDER) -> np.ndarray:
     """B (T) of every cell at site points (N, 3): multipole sum of the far cells'
     quadrature dipoles plus the exact field of near cells (module docstring)."""
     p = np.ascontiguousarray(np.asarray(points_m, dtype=float).reshape(-1, 3))
     if cells.count == 0 or len(p) == 0:
         return np.zeros_like(p)
-    if len(p) * cells.count <= DIRECT_PAIRS:
+    if len(p) * cells.count <= direct_pairs:
         return cells_field_direct_T(cells, p)
     import fmm3dpy
     from scipy.spatial import cKDTree
 
-    pos, mom, info = _dipoles(cells)
+    pos, mom, info = _dipoles(cells, order)
     res = fmm3dpy.lfmm3d(eps=eps, sources=np.ascontiguousarray(pos.T),
                          dipvec=np.ascontiguousarray(mom.T), targets=np.ascontiguousarray(p.T),
                          pgt=2)
