@@ -80,6 +80,8 @@ MAX_SATURATION_STEPS: int = 60
 #: runs to a hundredth of it (the polarisation then agrees with the dense solve to about
 #: this, at χ = 1000, by the library's own measurements).
 _SOLVER_TOL: float = 1e-4
+#: The library's interaction rule ("point": field at the cell centre).
+_INTERACTION: str = "point"
 
 
 def magnetization_curve_T(mu0H_T, chi0, saturation_T) -> np.ndarray:
@@ -237,7 +239,7 @@ def _linear_solve(cell_objs: list, chi: np.ndarray, b_ext_T: np.ndarray,
         c.H_ext = (float(b[0]), float(b[1]), float(b[2]))
     coll = magpy.Collection(*cell_objs, override_parent=True)
     apply_demag(coll, susceptibility=np.asarray(chi, dtype=float), inplace=True,
-                solver="auto", solver_tol=_SOLVER_TOL)
+                solver="auto", solver_tol=_SOLVER_TOL, interaction=_INTERACTION)
     return np.array([c.orientation.apply(c.polarization) for c in cell_objs]).reshape(-1, 3)
 
 
