@@ -28,7 +28,7 @@ reaches :data:`SATURATED_FRACTION` of J_s.
 **Mesh rule.** Each part starts with its longest edge in :data:`START_DIVISIONS` cells
 and the others cut into as many cells of the same edge as fit (at least one); every
 refinement halves the cell edge. The solve stops at the first mesh whose induced field at
-the control points (six per part, an eighth of its longest edge off its large faces)
+the control points (six per part, a quarter of its longest edge off its large faces)
 changed by less than ``tolerance`` of its largest value against the previous mesh, or
 before a mesh would pass :data:`MAX_CELLS` cells (``converged`` False). The parts'
 moments converge more slowly (first order in the cell edge under point matching, about
@@ -405,8 +405,8 @@ def _external_field(mags, points: np.ndarray, bg: np.ndarray) -> np.ndarray:
 
 
 def _control_points(parts: Sequence[SteelPart]) -> np.ndarray:
-    """Six points per part, an eighth of its longest edge off its two largest faces: over
-    the centre and over the two ends of its longest edge (3/8 of it from the centre)."""
+    """Six points per part, a quarter of its longest edge off its two largest faces: over
+    the centre and a quarter of the longest edge from it either way along that edge."""
     pts = []
     for p in parts:
         size = np.asarray(p.size_m, dtype=float)
@@ -415,11 +415,11 @@ def _control_points(parts: Sequence[SteelPart]) -> np.ndarray:
         a = np.radians(p.yaw_deg)
         rot = np.array([[math.cos(a), -math.sin(a), 0], [math.sin(a), math.cos(a), 0], [0, 0, 1]])
         c = np.asarray(p.center_m, dtype=float)
-        for s_along in (-0.375, 0.0, 0.375):
+        for s_along in (-0.25, 0.0, 0.25):
             for side in (-1.0, 1.0):
                 off = np.zeros(3)
                 off[along] = s_along * size[along]
-                off[ax] = side * (size[ax] / 2 + size.max() / 8)
+                off[ax] = side * (size[ax] / 2 + size.max() / 4)
                 pts.append(c + rot @ off)
     return np.array(pts).reshape(-1, 3)
 

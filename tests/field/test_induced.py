@@ -33,11 +33,12 @@ def test_direct_sum_is_magpylibs_cuboid_sum():
     # the reference is magpylib's own object sum (getB over rotated Cuboid objects)
     cells = _plate_cells(4)
     pts = np.array([[0.1, 0.2, 1.7], [1.5, -0.3, 1.2], [0.37, -0.21, 1.501]])
-    objs = [magpy.magnet.Cuboid(dimension=tuple(s), position=tuple(c),
-                                orientation=Rotation.from_euler("z", y, degrees=True),
-                                polarization=tuple(Rotation.from_euler("z", -y, degrees=True).apply(np.array(j))))
-            for c, s, y, j in zip(cells.centers_m, cells.sizes_m, cells.yaw_deg,
-                                  cells.polarization_T, strict=True)]
+    objs = []
+    for c, s, y, j in zip(cells.centers_m, cells.sizes_m, cells.yaw_deg,
+                          cells.polarization_T, strict=True):
+        turn = Rotation.from_euler("z", y, degrees=True)
+        objs.append(magpy.magnet.Cuboid(dimension=tuple(s), position=tuple(c), orientation=turn,
+                                        polarization=tuple(turn.inv().apply(np.array(j)))))
     ref = magpy.getB(objs, pts, sumup=True)
     assert np.allclose(cells_field_direct_T(cells, pts), ref, rtol=1e-12, atol=1e-15)
 
