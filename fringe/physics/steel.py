@@ -93,7 +93,7 @@ def magnetization_curve_T(mu0H_T, chi0, saturation_T) -> np.ndarray:
     Examples
     --------
     >>> round(float(magnetization_curve_T(1e-4, 999.0, 2.1)), 4)
-    0.0999
+    0.0998
     """
     h = np.asarray(mu0H_T, dtype=float)
     js = np.asarray(saturation_T, dtype=float)
