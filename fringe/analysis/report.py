@@ -20,6 +20,7 @@ from fringe.analysis.attraction import SiteAttraction, site_attraction
 from fringe.analysis.implants import SiteImplants, site_implants
 from fringe.analysis.overall import OverallVerdict, overall_verdict
 from fringe.analysis.quench import budget_for_site
+from fringe.analysis.steel import with_solved_steel
 from fringe.analysis.storey import FullHeight, RoomCeiling, full_height, room_ceilings
 from fringe.analysis.verdicts import (
     EquipmentCheck,
@@ -130,6 +131,9 @@ class ReportResult:
     full_height: dict[str, FullHeight] = field(default_factory=dict, compare=False, repr=False)
     #: Each room over its whole storey, by room name (fringe.analysis.storey.RoomCeiling).
     ceilings: dict[str, RoomCeiling] = field(default_factory=dict, compare=False, repr=False)
+    #: The solved ``[[steel]]`` parts (fringe.physics.steel.PartResult), scenario order;
+    #: every map, footprint and verdict above includes their induced field.
+    steel: tuple = ()
 
     def floor_verdict(self, floor: str) -> Verdict:
         """``exceeds`` when the boundary footprint on ``floor`` reaches beyond its
@@ -200,6 +204,11 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
 
     Notes
     -----
+    A site with ``[[steel]]`` is solved first (:func:`fringe.analysis.steel.with_solved_steel`,
+    once per site, cached): floors, sections, rooms, equipment, the attraction zone and the
+    implant figures use the field with steel; ``magnets[].boundaries`` (each magnet alone,
+    free space) do not.
+
     The quench budgets need CoolProp, whose first import takes seconds; a caller can
     start those look-ups in a second process first
     (:func:`fringe.io.prefetch.prefetch_quench_data`, as ``fringe report`` does), so they
@@ -215,6 +224,9 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     thr_T = [t * 1e-3 for t in thr_mT]
     say = progress or (lambda msg: None)
     quench_inputs = tuple(site.quench)
+    site, steel = with_solved_steel(site)
+    if steel:
+        say(f"steel solved ({len(steel)} part{'s' if len(steel) != 1 else ''})")
 
     mags = []
     for m in site.magnets:
@@ -282,7 +294,8 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     say("whole storeys up to each ceiling done")
     return ReportResult(site.name, site.source_file, plan, s.boundary, thr_mT, step, extent,
                         tuple(mags), fmaps, fps, outside, tuple(secs), rooms, equip, _now_utc(),
-                        __version__, site, quench, attraction, implants, whole, ceilings)
+                        __version__, site, quench, attraction, implants, whole, ceilings,
+                        steel)
 
 
 #: Largest plan grid step as a fraction of the boundary line's smallest extent. Marching

@@ -6,7 +6,8 @@ Unknown keys are errors with a "did you mean" suggestion.
 
 The top-level sections are parsed in a fixed order (:data:`TOP_LEVEL_KEYS`) by the
 parsers of :mod:`fringe.io.scenario_plan` (``plan``, ``floor``, ``room`` and
-``room_file``, ``equipment``) and :mod:`fringe.io.scenario_quench` (``quench``); magnets
+``room_file``, ``equipment``), :mod:`fringe.io.scenario_quench` (``quench``) and
+:mod:`fringe.io.scenario_steel` (``steel``); magnets
 given by data-sheet numbers by :mod:`fringe.io.scenario_datasheet`
 (:data:`MAGNET_BUILDERS`); room files by the loaders of :data:`ROOM_LOADERS`. Each of
 those modules reads its tables with :class:`fringe.io.reader.Reader` and knows nothing
@@ -38,6 +39,8 @@ from fringe.io.scenario_plan import (
 )
 from fringe.io.scenario_quench import SECTION_KEY as QUENCH_KEY
 from fringe.io.scenario_quench import parse_quench_section
+from fringe.io.scenario_steel import SECTION_KEY as STEEL_KEY
+from fringe.io.scenario_steel import parse_steel
 from fringe.io.unit_slips import check_elevation
 from fringe.model.constants import MAX_COORDINATE_M
 from fringe.model.errors import FringeWarning, ScenarioError
@@ -50,7 +53,7 @@ __all__ = ["load_site", "parse_site", "TOP_LEVEL_KEYS", "MAGNET_BUILDERS", "ROOM
 #: Every top-level key of a scenario, in the order its section is parsed (``room_file``
 #: is read together with ``room``). Any other key is refused with a "did you mean".
 TOP_LEVEL_KEYS: tuple[str, ...] = ("site", "magnet", "plan", "floor", "room", "room_file",
-                                   "equipment", QUENCH_KEY, IMPLANT_KEY)
+                                   "equipment", QUENCH_KEY, IMPLANT_KEY, STEEL_KEY)
 
 #: Parsers for alternative magnet descriptions (e.g. data-sheet numbers), keyed by the
 #: sub-table name that selects them. Each takes the magnet Reader and the magnet's name
@@ -237,10 +240,11 @@ def parse_site(data: dict, file: str | Path = "<scenario>") -> Site:
     equipment = parse_equipment(root, floors)
     quench = parse_quench_section(root, mags)
     implants = parse_implant_conditions(root)
+    steel = parse_steel(root)
     root.finish()
     return Site(site_info.get("name", "unnamed site"), mags, file, plan=plan, floors=floors,
                 rooms=rooms, equipment=equipment, room_drawings=drawings, quench=quench,
-                implant_conditions=implants)
+                implant_conditions=implants, steel=steel)
 
 
 def load_site(path: str | Path) -> Site:
