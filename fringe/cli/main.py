@@ -37,6 +37,7 @@ COMMAND_MODULES: tuple[str, ...] = (
     "fringe.cli.map",
     "fringe.cli.fit",
     "fringe.cli.place",
+    "fringe.cli.shield",
 )
 
 
