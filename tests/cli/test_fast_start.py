@@ -18,7 +18,8 @@ import pytest
 
 from fringe.cli.main import COMMAND_MODULES
 
-HEAVY = ("numpy", "scipy", "matplotlib", "shapely", "magpylib", "CoolProp", "ezdxf")
+HEAVY = ("numpy", "scipy", "matplotlib", "shapely", "magpylib", "CoolProp", "ezdxf",
+         "magpylib_material_response", "fmm3dpy", "numba")
 COMMANDS = tuple(name.rsplit(".", 1)[1] for name in COMMAND_MODULES)
 ROOT = Path(__file__).resolve().parents[2]
 
