@@ -53,7 +53,7 @@ def _run(argv: list) -> dict:
 
 def test_every_command_is_checked():
     assert set(COMMANDS) == {"probe", "demo", "report", "quench", "energy", "map", "fit",
-                             "place"}
+                             "place", "shield"}
 
 
 def test_help_imports_no_heavy_library():
