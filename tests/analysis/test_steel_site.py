@@ -200,3 +200,16 @@ def test_section_cut_of_a_plate():
     assert across.bounds[0] == pytest.approx(-2.5) and across.bounds[2] == pytest.approx(2.5)
     assert steel_section_cut(p, (5.0, 40.0, 1.1), (1.0, 0.0, 0.0), (-10.0, 10.0)) is None
     assert math.isclose(cut.area, 6.0 * 0.01)
+
+
+def test_points_inside_steel_are_not_occupied():
+    from fringe.analysis.zones import points_in_steel
+
+    plate = _part(center_m=(1.0, 2.0, 0.0), size_m=(2.0, 1.0, 0.02), yaw_deg=90.0)
+    site = SimpleNamespace(steel=(plate,))
+    pts = np.array([[1.0, 2.0, 0.0],     # centre
+                    [1.4, 2.9, 0.009],   # inside once turned (1 m along x, 2 m along y)
+                    [1.9, 2.0, 0.0],     # inside before turning, outside after
+                    [1.0, 2.0, 0.02]])   # above it
+    assert points_in_steel(site, pts).tolist() == [True, True, False, False]
+    assert not points_in_steel((), pts).any()  # magnets alone: no steel
