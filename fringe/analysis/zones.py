@@ -562,7 +562,10 @@ def magnet_sections(site, magnet: Magnet, half_width_m: float, z_range_m: tuple[
     for name, u in section_directions(magnet).items():
         S, Z = np.meshgrid(s, z)
         pts = np.column_stack([c[0] + S.ravel() * u[0], c[1] + S.ravel() * u[1], Z.ravel()])
-        vals = field_magnitude_T(site, pts).reshape(S.shape)  # the site: steel counts
+        vals = np.full(len(pts), np.nan)  # NaN inside steel parts (the flux in the steel)
+        free = ~points_in_steel(site, pts)
+        vals[free] = field_magnitude_T(site, pts[free])  # the site: steel counts
+        vals = vals.reshape(S.shape)
         out.append(Section(magnet.name, name, c, u, s, z, vals))
         if progress:
             progress(f"section {name} the axis of {magnet.name!r}")
