@@ -14,7 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 
-from fringe.analysis.zones import superlevel_polygons
+from fringe.analysis.zones import points_in_steel, superlevel_polygons
 from fringe.field.evaluate import as_magnets, points_in_envelopes
 from fringe.model.errors import FringeInputError
 from fringe.physics.attraction import (
@@ -58,12 +58,12 @@ class AttractionMap:
 
 def _screened(site, pts: np.ndarray, obj, mat, step_m: float, screen: bool) -> AttractionSample:
     """:func:`fringe.physics.attraction.attraction_at` on points within reach of a magnet
-    (all points if not screen); points inside a cryostat envelope are not evaluated (NaN:
-    nobody can hold an object there)."""
+    (all points if not screen); points inside a cryostat envelope or a steel part are not
+    evaluated (NaN: nobody can hold an object there)."""
     shape = pts.shape[:-1]
     flat = pts.reshape(-1, 3)
     mags = as_magnets(site)
-    enclosed = points_in_envelopes(mags, flat)
+    enclosed = points_in_envelopes(mags, flat) | points_in_steel(site, flat)
     near = ~enclosed
     if screen:
         reach = np.zeros(len(flat), dtype=bool)

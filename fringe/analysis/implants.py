@@ -85,9 +85,9 @@ class ImplantMap:
         return self.origin_m + u * self.along + v * self.across
 
 
-def _figures(mags, pts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """|B| (T) and |∇|B|| (T/m) at site points (N, 3)."""
-    B, J = field_gradient_at(mags, pts)
+def _figures(site, pts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """|B| (T) and |∇|B|| (T/m) at site points (N, 3) (a Site: its solved steel counts)."""
+    B, J = field_gradient_at(site, pts)
     return np.linalg.norm(B, axis=1), np.linalg.norm(grad_abs_B_T_per_m(B, J), axis=1)
 
 
@@ -123,7 +123,7 @@ def implant_map(site, magnet: Magnet, levels_T_per_m=DEFAULT_GRADIENT_LEVELS_T_P
     -------
     ImplantMap
     """
-    mags = as_magnets(site)
+    as_magnets(site)  # checked: a Site, a Magnet or magnets
     env = envelope_rz(magnet)
     along, across = _frame(magnet)
     origin = np.asarray(magnet.center_m, dtype=float)
@@ -137,7 +137,7 @@ def implant_map(site, magnet: Magnet, levels_T_per_m=DEFAULT_GRADIENT_LEVELS_T_P
         pts = origin + U[..., None] * along + V[..., None] * across
         b = np.full(U.shape, np.nan)
         g = np.full(U.shape, np.nan)
-        bb, gg = _figures(mags, pts[~inside])
+        bb, gg = _figures(site, pts[~inside])
         b[~inside], g[~inside] = bb, gg
         edge = np.concatenate([g[0], g[-1], g[:, 0], g[:, -1]])
         if half_width_m or not np.any(edge >= lowest):
@@ -145,7 +145,7 @@ def implant_map(site, magnet: Magnet, levels_T_per_m=DEFAULT_GRADIENT_LEVELS_T_P
         half *= 2.0
     suv = _surface_uv(env)
     spts = origin + suv[:, :1] * along + suv[:, 1:] * across
-    sb, sg = _figures(mags, spts)
+    sb, sg = _figures(site, spts)
     return ImplantMap(magnet.name, origin, along, across, env, u, u.copy(), b, g, b * g,
                       ~inside, spts, sb, sg)
 
@@ -271,10 +271,10 @@ class SiteImplants:
 def site_implants(site, levels_T_per_m=DEFAULT_GRADIENT_LEVELS_T_PER_M) -> SiteImplants:
     """Maps, accessible maxima and implant-condition results for every magnet of ``site``."""
     mags = as_magnets(site)
-    maps = tuple(implant_map(mags, m, levels_T_per_m) for m in mags)
+    maps = tuple(implant_map(site, m, levels_T_per_m) for m in mags)
     maxima = {m.magnet: accessible_maxima(m) for m in maps}
     centres = np.array([m.center_m for m in mags], dtype=float).reshape(-1, 3)
-    figs = _figures(mags, centres) if len(mags) else (np.zeros(0), np.zeros(0))
+    figs = _figures(site, centres) if len(mags) else (np.zeros(0), np.zeros(0))
     plan = getattr(site, "plan", None)
     u = getattr(plan, "field_uncertainty", 0.0) if plan is not None else 0.0
     conds = tuple(check_condition(c, maps, figs, u)

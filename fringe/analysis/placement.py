@@ -50,6 +50,14 @@ used as a stand-in (exact wherever one magnet's field dominates); the best
 fresh plan grid (:func:`exact_footprints`) and re-ranked on those numbers, which are
 the ones reported.
 
+Steel (``[[steel]]`` parts): the steel's response changes with every trial position, and a
+solve per trial is far too slow for a search of hundreds of placements. The search
+therefore scores placements in free space (the translated footprints above); the best
+``EXACT_CANDIDATES`` placements (and the scenario's own) are then solved with the steel
+at their positions (:func:`fringe.analysis.steel.with_solved_steel`) and re-ranked on
+those numbers, which are the ones reported. A placement that only the steel would make
+good can therefore be missed; the notes say so.
+
 Limits: centre heights are not searched; the allowed region uses the windings' plan
 rectangle (:func:`fringe.analysis.geometry.magnet_plan_outline`), not a cryostat outline;
 penetration depths on rooms that are not convex are evaluated on the spilled outline
@@ -304,10 +312,11 @@ def _footprint_set(site, floors, x, y, levels_mT, step_m, band_step_m, progress)
 
 
 def exact_footprints(magnets: Sequence[Magnet], moving: Magnet, floors: Sequence[Floor],
-                     levels_mT: Sequence[float], step_m: float, band_step_m: float
-                     ) -> FootprintSet:
+                     levels_mT: Sequence[float], step_m: float, band_step_m: float,
+                     steel: Sequence = ()) -> FootprintSet:
     """Footprints of the combined field of ``magnets`` on a site grid covering every
-    magnet's reach (lowest level), the grid nodes aligned to ``moving``'s centre."""
+    magnet's reach (lowest level), the grid nodes aligned to ``moving``'s centre; with
+    ``steel`` (SteelPart), the steel solved in the field of ``magnets`` counts too."""
     lo = min(levels_mT) * 1e-3
     xs, ys = [], []
     for m in magnets:
@@ -318,7 +327,13 @@ def exact_footprints(magnets: Sequence[Magnet], moving: Magnet, floors: Sequence
     x0 = cx + step_m * math.floor((min(xs) - cx) / step_m)
     y0 = cy + step_m * math.floor((min(ys) - cy) / step_m)
     x, y = plan_axes_m(((x0, y0), (max(xs), max(ys))), step_m)
-    return _footprint_set(tuple(magnets), floors, x, y, levels_mT, step_m, band_step_m, None)
+    src = tuple(magnets)
+    if steel:
+        from fringe.analysis.steel import with_solved_steel
+        from fringe.model.site import Site
+
+        src = with_solved_steel(Site("placement", src, steel=tuple(steel)))[0]
+    return _footprint_set(src, floors, x, y, levels_mT, step_m, band_step_m, None)
 
 
 def _translated(geom, offsets: np.ndarray) -> np.ndarray:
@@ -567,6 +582,7 @@ class _Problem:
     fixed: dict = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
     evaluations: int = 0
+    steel: tuple = ()
 
     def scores(self, fs: FootprintSet, centres: np.ndarray) -> _Scores:
         """Score the moving magnet's footprints ``fs`` translated to ``centres`` (N, 2)."""
@@ -588,7 +604,8 @@ class _Problem:
 
     def placement(self, sc: _Scores, i: int, center, axis, angle, source: str) -> Placement:
         """Placement ``i`` of ``sc`` (exact when no other magnet is superposed)."""
-        return _placement(sc, i, self.zones, center, axis, angle, source, not self.others)
+        return _placement(sc, i, self.zones, center, axis, angle, source,
+                          not (self.others or self.steel))
 
 
 def _as_region_room(plan: SitePlan, region: str, notes: list[str]) -> SitePlan:
@@ -652,7 +669,12 @@ def _problem(site, magnet_name: str, region: str, angles_deg, boundary_mT) -> _P
                     | {z.limit_mT for z in zones})
     pb = _Problem(magnet, others, plan, bnd, s.grid_step_m, s.band_step_m, home, outline,
                   floor, label, zc, zones, controlled, levels, _floors_needed(plan, zones),
-                  notes=notes)
+                  notes=notes, steel=tuple(getattr(site, "steel", ())))
+    if pb.steel:
+        notes.append(f"{len(pb.steel)} steel part(s): the search scored placements in free "
+                     "space; the best placements were solved with the steel at their "
+                     "positions and re-ranked on those numbers (a solve per trial position "
+                     "would be too slow).")
     if others:  # the other magnets' own footprints: the union stand-in during the search
         pb.fixed = exact_footprints(others, others[0], pb.floors, levels, pb.step_m,
                                     pb.band_step_m).polygons
@@ -835,10 +857,11 @@ def search_placement(site, magnet_name: str, region: str, angles_deg: Sequence[f
                                     f"outline ({_outline_size(magnet_outline_relative(magnet))})"
                                     " at one of the angles tried", region), "region")
     ranked = _dedupe(sorted(evaluated, key=lambda p: p.key), spacing, pb.step_m)
-    if pb.others:  # re-evaluate with the combined field
-        say("re-evaluating the best placements with the combined field")
+    if pb.others or pb.steel:  # re-evaluate with the combined field (and the steel)
+        say("re-evaluating the best placements with the combined field"
+            + (" and the steel" if pb.steel else ""))
         args = (magnet, pb.others, pb.floors, pb.levels_mT, pb.zones, pb.controlled,
-                pb.step_m, pb.band_step_m)
+                pb.step_m, pb.band_step_m, pb.steel)
         pool = [_exact_placement(p, *args) for p in ranked[:EXACT_CANDIDATES]
                 if p.source != "scenario"]
         if current is not None:
@@ -853,9 +876,9 @@ def search_placement(site, magnet_name: str, region: str, angles_deg: Sequence[f
 
 
 def _exact_placement(p: Placement, magnet, others, floors, levels, zones, controlled, step,
-                     band_step) -> Placement:
+                     band_step, steel=()) -> Placement:
     mk = magnet.moved(center_m=p.center_m, axis=p.axis)
-    fs = exact_footprints((mk, *others), mk, floors, levels, step, band_step)
+    fs = exact_footprints((mk, *others), mk, floors, levels, step, band_step, steel)
 
     def fp_at(fl, t):
         arr = np.empty(1, dtype=object)
@@ -890,9 +913,12 @@ def _outline_size(P) -> str:
 
 
 def moved_site(site, magnet: Magnet, placement: Placement):
-    """``site`` with ``magnet`` moved to ``placement`` (others unchanged)."""
+    """``site`` with ``magnet`` moved to ``placement`` (others unchanged); its steel, if
+    any, solved again for the new position."""
+    from fringe.analysis.steel import with_solved_steel
+
     mags = tuple(magnet.moved(center_m=placement.center_m, axis=placement.axis)
                  if m.name == magnet.name else m for m in site.magnets)
-    return replace(site, magnets=mags)
+    return with_solved_steel(replace(site, magnets=mags, induced=None))[0]
 
 

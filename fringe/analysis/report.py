@@ -22,6 +22,7 @@ from fringe.analysis.implants import SiteImplants, site_implants
 from fringe.analysis.moving_steel import MovingSteelCheck, check_moving_steel
 from fringe.analysis.overall import OverallVerdict, overall_verdict
 from fringe.analysis.quench import budget_for_site
+from fringe.analysis.steel import with_solved_steel
 from fringe.analysis.storey import FullHeight, RoomCeiling, full_height, room_ceilings
 from fringe.analysis.verdicts import (
     EquipmentCheck,
@@ -158,6 +159,9 @@ class ReportResult:
     #: boundary/(1 + u)) outside the controlled rooms; equal to ``outside_controlled_m2``
     #: when u = 0.
     outside_controlled_outer_m2: dict[str, float] = field(default_factory=dict)
+    #: The solved ``[[steel]]`` parts (fringe.physics.steel.PartResult), scenario order;
+    #: every map, footprint and verdict above includes their induced field.
+    steel: tuple = ()
 
     def floor_verdict(self, floor: str) -> Verdict:
         """``exceeds`` when the boundary footprint on ``floor`` reaches beyond its
@@ -217,6 +221,30 @@ def check_grid_step_m(grid_step_m, name: str = "grid_step_m") -> float:
     return step
 
 
+def _floor_maps(site, plan, x, y, thr_mT, u: float, progress: Progress):
+    """Each floor's map and footprints, and the boundary's area outside the controlled
+    rooms (and that of its outer limit, the model's line at boundary/(1 + u))."""
+    s = plan.settings
+    thr_T = [t * 1e-3 for t in thr_mT]
+    fmaps: dict[str, FloorMap] = {}
+    fps: dict[str, tuple[Footprint, ...]] = {}
+    outside: dict[str, float] = {}
+    outside_outer: dict[str, float] = {}
+    for fl in plan.floors:
+        fm = floor_map(site, fl, x, y, s.band_step_m, thr_T, progress=progress)
+        fmaps[fl.name] = fm
+        fps[fl.name] = footprints(fm, thr_mT)
+        bfp = next(f for f in fps[fl.name]
+                   if math.isclose(f.threshold_mT, s.boundary.value_mT, rel_tol=1e-9))
+        outside[fl.name] = boundary_outside_controlled_m2(bfp, plan.rooms)
+        outside_outer[fl.name] = outside[fl.name]
+        if u > 0:  # the boundary's outer limit: the model's line at boundary/(1 + u)
+            ofp = footprints(fm, [s.boundary.value_mT / (1.0 + u)])[0]
+            outside_outer[fl.name] = boundary_outside_controlled_m2(ofp, plan.rooms)
+
+    return fmaps, fps, outside, outside_outer
+
+
 def compute_report(site, *, grid_step_m: float | None = None, progress: Progress = None
                    ) -> ReportResult:
     """Compute maps, footprints, sections, extents and verdicts for ``site``.
@@ -232,6 +260,11 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
 
     Notes
     -----
+    A site with ``[[steel]]`` is solved first (:func:`fringe.analysis.steel.with_solved_steel`,
+    once per site, cached): floors, sections, rooms, equipment, the attraction zone and the
+    implant figures use the field with steel; ``magnets[].boundaries`` (each magnet alone,
+    free space) do not.
+
     The quench budgets need CoolProp, whose first import takes seconds; a caller can
     start those look-ups in a second process first
     (:func:`fringe.io.prefetch.prefetch_quench_data`, as ``fringe report`` does), so they
@@ -249,6 +282,9 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     say = progress or (lambda msg: None)
     quench_inputs = tuple(site.quench)
     u = s.field_uncertainty
+    site, steel = with_solved_steel(site)
+    if steel:
+        say(f"steel solved ({len(steel)} part{'s' if len(steel) != 1 else ''})")
 
     mags = [magnet_summary(site, m, thr_mT, u) for m in site.magnets]
     say("extents and reach of each threshold line done")
@@ -265,21 +301,7 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
                             f"gives {x.size * y.size} over a plan {x1 - x0:.4g} m × "
                             f"{y1 - y0:.4g} m (set a coarser step, or check the plan's "
                             "units)", key, site.source_file or None)
-    fmaps: dict[str, FloorMap] = {}
-    fps: dict[str, tuple[Footprint, ...]] = {}
-    outside: dict[str, float] = {}
-    outside_outer: dict[str, float] = {}
-    for fl in plan.floors:
-        fm = floor_map(site, fl, x, y, s.band_step_m, thr_T, progress=progress)
-        fmaps[fl.name] = fm
-        fps[fl.name] = footprints(fm, thr_mT)
-        bfp = next(f for f in fps[fl.name]
-                   if math.isclose(f.threshold_mT, s.boundary.value_mT, rel_tol=1e-9))
-        outside[fl.name] = boundary_outside_controlled_m2(bfp, plan.rooms)
-        outside_outer[fl.name] = outside[fl.name]
-        if u > 0:  # the boundary's outer limit: the model's line at boundary/(1 + u)
-            ofp = footprints(fm, [s.boundary.value_mT / (1.0 + u)])[0]
-            outside_outer[fl.name] = boundary_outside_controlled_m2(ofp, plan.rooms)
+    fmaps, fps, outside, outside_outer = _floor_maps(site, plan, x, y, thr_mT, u, progress)
 
     z_lo = min(f.elevation_m for f in plan.floors) - 1.0
     z_hi = max(f.band_z_m[1] for f in plan.floors) + 1.0
@@ -316,8 +338,7 @@ def compute_report(site, *, grid_step_m: float | None = None, progress: Progress
     return ReportResult(site.name, site.source_file, plan, s.boundary, thr_mT, step, extent,
                         tuple(mags), fmaps, fps, outside, tuple(secs), rooms, equip, _now_utc(),
                         __version__, site, quench, attraction, implants, whole, ceilings,
-                        moving, u, outside_outer)
-
+                        moving, u, outside_outer, steel)
 
 
 def magnet_summary(site, m, thresholds_mT, uncertainty: float = 0.0) -> MagnetSummary:

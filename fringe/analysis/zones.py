@@ -33,7 +33,7 @@ from fringe.model.magnet import Magnet
 
 __all__ = ["FloorMap", "Footprint", "Section", "plan_axes_m", "band_levels_m",
            "band_envelope", "band_max_T", "BAND_REFINE_TOL", "field_magnitude_T",
-           "occupied_field_T", "slice_map_T", "floor_map",
+           "occupied_field_T", "points_in_steel", "slice_map_T", "floor_map",
            "band_max_at_xy_T", "superlevel_polygons", "footprints", "magnet_sections",
            "section_directions", "default_extent_m", "reach_m", "field_reversal_m"]
 
@@ -131,7 +131,8 @@ def field_magnitude_T(site, points_m) -> np.ndarray:
 
 
 def occupied_field_T(site, points_m) -> np.ndarray:
-    """|B| in T at site points, NaN at points inside a magnet's cryostat envelope.
+    """|B| in T at site points, NaN at points inside a magnet's cryostat envelope or inside
+    a steel part (:func:`points_in_steel`).
 
     Nobody can stand inside a cryostat (:attr:`fringe.model.magnet.Magnet.envelope`;
     :func:`fringe.field.evaluate.points_in_envelopes`), so plan maps, room and floor
@@ -139,11 +140,27 @@ def occupied_field_T(site, points_m) -> np.ndarray:
     cryostat's surface); sections show the full field.
     """
     p = np.asarray(points_m, dtype=float).reshape(-1, 3)
-    out = points_in_envelopes(as_magnets(site), p)
+    out = points_in_envelopes(as_magnets(site), p) | points_in_steel(site, p)
     b = np.full(len(p), np.nan)
     if (~out).any():
         b[~out] = field_magnitude_T(site, p[~out])
     return b
+
+
+def points_in_steel(site, points_m: np.ndarray) -> np.ndarray:
+    """True for site points (N, 3) inside one of ``site``'s ``[[steel]]`` parts (nobody
+    stands inside a steel plate; the field there is the flux in the steel). A magnet or
+    magnets (no ``steel``): all False."""
+    p = np.asarray(points_m, dtype=float).reshape(-1, 3)
+    inside = np.zeros(len(p), dtype=bool)
+    for part in getattr(site, "steel", ()):
+        d = p - np.asarray(part.center_m, dtype=float)
+        c, s = math.cos(math.radians(part.yaw_deg)), math.sin(math.radians(part.yaw_deg))
+        u = c * d[:, 0] + s * d[:, 1]  # the part's own x and y (turned back by its yaw)
+        v = -s * d[:, 0] + c * d[:, 1]
+        h = 0.5 * np.asarray(part.size_m, dtype=float)
+        inside |= (np.abs(u) <= h[0]) & (np.abs(v) <= h[1]) & (np.abs(d[:, 2]) <= h[2])
+    return inside
 
 
 def slice_map_T(site, x_m: np.ndarray, y_m: np.ndarray, z_m: float) -> np.ndarray:
@@ -545,7 +562,10 @@ def magnet_sections(site, magnet: Magnet, half_width_m: float, z_range_m: tuple[
     for name, u in section_directions(magnet).items():
         S, Z = np.meshgrid(s, z)
         pts = np.column_stack([c[0] + S.ravel() * u[0], c[1] + S.ravel() * u[1], Z.ravel()])
-        vals = field_magnitude_T(as_magnets(site), pts).reshape(S.shape)
+        vals = np.full(len(pts), np.nan)  # NaN inside steel parts (the flux in the steel)
+        free = ~points_in_steel(site, pts)
+        vals[free] = field_magnitude_T(site, pts[free])  # the site: steel counts
+        vals = vals.reshape(S.shape)
         out.append(Section(magnet.name, name, c, u, s, z, vals))
         if progress:
             progress(f"section {name} the axis of {magnet.name!r}")

@@ -39,6 +39,7 @@ COMMAND_MODULES: tuple[str, ...] = (
     "fringe.cli.place",
     "fringe.cli.disturbance",
     "fringe.cli.survey",
+    "fringe.cli.shield",
 )
 
 

@@ -38,13 +38,14 @@ def register(sub) -> None:
 def run(args) -> int:
     import numpy as np
 
+    from fringe.analysis.steel import with_solved_steel
     from fringe.field.grid import grid_from_box
     from fringe.io.atomic import check_output_file
     from fringe.io.gridmap import write_map
     from fringe.io.scenario import load_site
 
     check_output_file(args.out, suffixes=MAP_FORMATS, name="--out")  # before any computation
-    site = load_site(args.scenario)
+    site = with_solved_steel(load_site(args.scenario))[0]  # its steel counts, if any
     try:
         grid = grid_from_box(args.box, args.step, box_key="--box", step_key="--step")
     except FringeInputError as e:

@@ -217,6 +217,11 @@ def run(args) -> int:
         check_output_folder(args.out, scenario_file=site.source_file, marker="place.json",
                             name="--out")
     say = Progress(args.quiet or args.json)
+    if site.steel:
+        from fringe.analysis.steel import with_solved_steel
+
+        say(f"solving {len(site.steel)} steel part(s) at the scenario's placement")
+        site = with_solved_steel(site)[0]  # the scenario's own placement, for "before"
     result = search_placement(site, args.magnet, args.region, angles, args.threshold_mT,
                               progress=say)
     equipment = equipment_effect(site, result)

@@ -75,6 +75,7 @@ def format_table(points_m: np.ndarray, B_T: np.ndarray) -> str:
 def run(args) -> int:
     import numpy as np
 
+    from fringe.analysis.steel import with_solved_steel
     from fringe.cli.main import print_json, read_points_file
     from fringe.field.evaluate import (
         coordinate_range_problem,
@@ -102,6 +103,7 @@ def run(args) -> int:
         raise ScenarioError(problem)
     if not site.magnets:
         raise ScenarioError("`magnet` must list at least one magnet; got none", args.scenario)
+    site = with_solved_steel(site)[0]  # its steel counts, if any
     inside = np.empty(len(points), dtype=bool)
     B = field_at(site, points, inside=inside)  # the winding check comes with the bands
     if inside.any():

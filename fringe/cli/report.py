@@ -159,6 +159,17 @@ def terminal_summary(result, out_dir: str | Path) -> str:
             f"{c.verdict}"
         lines.append(f"moving steel {c.name} ({d.mass_kg:g} kg): up to "
                      f"{d.max_abs_delta_B_ppm:.3g} ppm at the isocentre of {d.magnet}  {lim}")
+    if r.steel:
+        from fringe.analysis.steel import steel_notes
+
+        lines.append("steel (solved with the magnets; floors, rooms and equipment include it):")
+        w = max(len(p.name) for p in r.steel)
+        for p in r.steel:
+            f = sum(v * v for v in p.force_N) ** 0.5
+            lines.append(f"  {p.name:<{w}}  {p.mass_kg:9.1f} kg  max |B| in it "
+                         f"{p.max_field_in_steel_T:.3g} T{'  SATURATED' if p.saturated else ''}"
+                         f"  force {f:.3g} N")
+        lines += steel_notes(r.steel)
     spill = [i.name for i in r.overall().items if i.kind == "floor"]
     if spill:
         lines.append(f"the {r.boundary.value_mT:g} mT line reaches beyond the controlled rooms "

@@ -74,3 +74,23 @@ def aligned_table(header: list[str], rows: list[list[str]], right: tuple[bool, .
 
     head = line(header)
     return [head, "-" * len(head)] + [line(r) for r in rows]
+
+
+def aligned_columns(headers: list[str], rows: list[list[str]], right: set[int] | None = None
+                  ) -> list[str]:
+    """Lines of a plain-text table: columns padded to their widest cell, two spaces apart.
+
+    ``right`` holds the indices of columns aligned right (numbers); the others align left.
+
+    >>> aligned_columns(["t mm", "kg"], [["2", "471"], ["10", "2361"]], right={0, 1})
+    ['t mm    kg', '   2   471', '  10  2361']
+    """
+    right = right or set()
+    cols = list(zip(headers, *rows, strict=True)) if rows else [(h,) for h in headers]
+    widths = [max(len(c) for c in col) for col in cols]
+    out = []
+    for row in [headers, *rows]:
+        cells = [c.rjust(w) if i in right else c.ljust(w)
+                 for i, (c, w) in enumerate(zip(row, widths, strict=True))]
+        out.append("  ".join(cells).rstrip())
+    return out

@@ -130,6 +130,8 @@ def map_blocks(site, grid: Grid, *, block_points: int = DEFAULT_BLOCK_POINTS,
         Output precision (float32 keeps 7 digits, far below the 1e-4 field tolerance).
     """
     mags = as_magnets(site)
+    if getattr(site, "induced", None) is not None:  # a Site with solved steel: it counts
+        mags = site
     bounds = block_bounds(grid.n_points, checked_block_points(block_points))
     fast = map_fast_model(grid)
     for a, b in bounds:

@@ -83,6 +83,8 @@ def scheduled_blocks(site, grid: Grid, *, block_points: int = DEFAULT_BLOCK_POIN
         yield from map_blocks(site, grid, block_points=block_points, dtype=dtype)
         return
     mags = as_magnets(site)
+    if getattr(site, "induced", None) is not None:  # a Site with solved steel: it counts
+        mags = site
     bounds = block_bounds(grid.n_points, checked_block_points(block_points))
     yield from _dask_blocks(mags, grid, bounds, scheduler, dtype, max(1, parallel_blocks))
 

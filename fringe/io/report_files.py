@@ -188,6 +188,7 @@ def summary_dict(r: ReportResult) -> dict:
     }
     _add_implant_figures(out, r)
     out["moving_steel"] = moving_steel_rows(r)
+    _add_steel(out, r)
     return out
 
 
@@ -204,6 +205,18 @@ def moving_steel_rows(r: ReportResult) -> list[dict]:
                      "worst_position_m": [num(v, 5) for v in d.positions_m[d.worst_index]],
                      "background_field_uT": [num(v * 1e6, 6) for v in d.background_T]})
     return rows
+
+
+def _add_steel(out: dict, r: ReportResult) -> None:
+    """``steel`` (one entry per solved [[steel]] part) and ``steel_notes`` (docs/steel.md)."""
+    from fringe.analysis.steel import steel_notes
+
+    parts = tuple(getattr(r, "steel", ()))
+    out["steel"] = [{"name": p.name, "mass_kg": num(p.mass_kg, 5),
+                     "max_field_in_steel_T": num(p.max_field_in_steel_T),
+                     "saturated": bool(p.saturated),
+                     "force_N": [num(v, 5) for v in p.force_N]} for p in parts]
+    out["steel_notes"] = steel_notes(parts)
 
 
 def _add_implant_figures(out: dict, r: ReportResult) -> None:

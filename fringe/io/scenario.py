@@ -8,6 +8,7 @@ The top-level sections are parsed in a fixed order (:data:`TOP_LEVEL_KEYS`) by t
 parsers of :mod:`fringe.io.scenario_plan` (``plan``, ``floor``, ``room`` and
 ``room_file``, ``equipment``), :mod:`fringe.io.scenario_quench` (``quench``),
 :mod:`fringe.io.scenario_implants` (``implant_condition``),
+:mod:`fringe.io.scenario_steel` (``steel``),
 :mod:`fringe.io.scenario_moving` (``moving_steel``, and ``[site] background_field_uT``) and
 :mod:`fringe.io.scenario_drawing` (``drawing``); magnets
 given by data-sheet numbers by :mod:`fringe.io.scenario_datasheet`
@@ -44,6 +45,7 @@ from fringe.io.scenario_plan import (
     parse_rooms,
 )
 from fringe.io.scenario_quench import parse_quench_section
+from fringe.io.scenario_steel import parse_steel
 from fringe.io.unit_slips import check_elevation
 from fringe.model.constants import MAX_COORDINATE_M
 from fringe.model.errors import FringeWarning, ScenarioError
@@ -225,12 +227,13 @@ def parse_site(data: dict, file: str | Path = "<scenario>") -> Site:
     equipment = parse_equipment(root, floors)
     quench = parse_quench_section(root, mags)
     implants = parse_implant_conditions(root)
+    steel = parse_steel(root)
     moving = parse_moving_steel(root)
     drawing = parse_drawing(root)
     root.finish()
     return Site(site_info.get("name", "unnamed site"), mags, file, plan=plan, floors=floors,
                 rooms=rooms, equipment=equipment, room_drawings=drawings, quench=quench,
-                implant_conditions=implants, moving_steel=moving,
+                implant_conditions=implants, steel=steel, moving_steel=moving,
                 background_field_uT=site_info.get("background_field_uT"),
                 drawing=drawing)
 

@@ -26,7 +26,7 @@ __all__ = ["TOP_LEVEL_KEYS", "read_scenario_toml", "check_top_level_spelling",
 #: :mod:`~fringe.io.scenario_implants`, :mod:`~fringe.io.scenario_moving` and
 #: :mod:`~fringe.io.scenario_drawing` (a test keeps them in step).
 TOP_LEVEL_KEYS: tuple[str, ...] = ("site", "magnet", "plan", "floor", "room", "room_file",
-                                   "equipment", "quench", "implant_condition",
+                                   "equipment", "quench", "implant_condition", "steel",
                                    "moving_steel", "drawing")
 
 

@@ -75,7 +75,7 @@ from fringe.render.sheet import (
     tables_sheets,
     write_pdf,
 )
-from fringe.render.style import HAZARD_COLOR, threshold_color
+from fringe.render.style import HAZARD_COLOR, STEEL_COLOR, threshold_color
 
 __all__ = [
     "SheetInfo", "RoomMark", "EquipmentMark", "MagnetOutline", "Overlay", "FloorLevel",
@@ -172,12 +172,15 @@ class MagnetOutline:
 #: wall    : solid heavy grey line (walls read from a CAD drawing; grey, so it is never
 #:           mistaken for the black boundary line);
 #: points  : a small cross at each point (e.g. candidate magnet centres).
+#: steel   : grey outline hatched with fine diagonals (a steel part of the building), its
+#:           name written at its top left corner (``Overlay.name``).
 OVERLAY_KINDS: dict[str, dict[str, Any]] = {
     "wall": {"hatch": None, "edgecolor": "0.6", "linewidth": 3.4, "linestyle": "-",
              "zorder": 2.2},  # under the field lines, above the bands
     "hazard": {"hatch": "xx", "edgecolor": HAZARD_COLOR, "linewidth": 1.6, "linestyle": "-"},
     "points": {"hatch": None, "edgecolor": "0.1", "linewidth": 1.1, "linestyle": "none",
                "marker": "+", "markersize": 6},
+    "steel": {"hatch": "////", "edgecolor": STEEL_COLOR, "linewidth": 1.3, "linestyle": "-"},
     "outline": {"hatch": None, "edgecolor": "0.1", "linewidth": 1.2, "linestyle": (0, (6, 3))},
     "contour": {"hatch": None, "edgecolor": HAZARD_COLOR, "linewidth": 1.0,
                 "linestyle": (0, (1, 1.5))},
@@ -193,11 +196,16 @@ OVERLAY_KINDS: dict[str, dict[str, Any]] = {
 
 @dataclass(frozen=True)
 class Overlay:
-    """An extra layer: a labelled shapely geometry drawn in one of :data:`OVERLAY_KINDS`."""
+    """An extra layer: a labelled shapely geometry drawn in one of :data:`OVERLAY_KINDS`.
+
+    ``label`` goes into the legend (once, however many overlays share it); ``name``, if
+    given, is written on the drawing at the geometry's top left corner.
+    """
 
     label: str
     geometry: Any
     kind: str = "hazard"
+    name: str = ""
 
 
 @dataclass(frozen=True)
@@ -1123,7 +1131,16 @@ def _draw_overlays(ax, overlays) -> list:
                                                              foreground="white")])
             handle = Line2D([], [], color=st["edgecolor"], linewidth=st["linewidth"],
                             linestyle=st["linestyle"])
-        entries.append((handle, str(label)))
+        name = getattr(ov, "name", "")
+        if name and isinstance(geom, shapely.Geometry) and not geom.is_empty:
+            x0, _, _, y1 = geom.bounds
+            ax.annotate(str(name), (x0, y1), xytext=(2, 2), textcoords="offset points",
+                        ha="left", va="bottom", fontsize=6.5, color=st["edgecolor"],
+                        style="italic", zorder=4.6, annotation_clip=True,
+                        path_effects=[patheffects.withStroke(linewidth=2.2,
+                                                             foreground="white")])
+        if all(lbl != str(label) for _, lbl in entries):
+            entries.append((handle, str(label)))
     return entries
 
 

@@ -37,11 +37,11 @@ from fringe.io.dxf import (
 )
 from fringe.model.constants import ADVISORY_NOTICE, FIELD_BASIS_NOTE
 from fringe.model.errors import FringeInputError, FringeIOError, must_be
-from fringe.render.style import HAZARD_COLOR, INK_COLOR, hex_to_rgb, threshold_rgb
+from fringe.render.style import HAZARD_COLOR, INK_COLOR, STEEL_COLOR, hex_to_rgb, threshold_rgb
 
 __all__ = ["write_zones_dxf", "zone_layer_name", "layer_threshold_mT", "layer_rgb",
            "ATTRACTION_LAYER", "NOTES_LAYER", "ROOMS_LAYER", "EQUIPMENT_LAYER",
-           "ENVELOPE_LAYER", "MAGNET_LAYER", "BOUNDARY_LINEWEIGHT", "LINEWEIGHT",
+           "ENVELOPE_LAYER", "MAGNET_LAYER", "STEEL_LAYER", "BOUNDARY_LINEWEIGHT", "LINEWEIGHT",
            "LABEL_HEIGHT_M"]
 
 #: Layer of the attraction zone.
@@ -56,6 +56,8 @@ EQUIPMENT_LAYER: str = "FRINGE-EQUIPMENT"
 ENVELOPE_LAYER: str = "FRINGE-ENVELOPE"
 #: Layer of the magnets' plan outlines (the windings).
 MAGNET_LAYER: str = "FRINGE-MAGNET"
+#: Layer of the steel parts' plan outlines and names ([[steel]]; docs/steel.md).
+STEEL_LAYER: str = "FRINGE-STEEL"
 #: Lineweight of the controlled-area boundary's layer and lines, 1/100 mm (0.70 mm).
 BOUNDARY_LINEWEIGHT: int = 70
 #: Lineweight of every other layer fringe writes, 1/100 mm (0.25 mm).
@@ -103,6 +105,8 @@ def layer_rgb(name: str) -> tuple[int, int, int]:
     """
     if name == ATTRACTION_LAYER:
         return hex_to_rgb(HAZARD_COLOR)
+    if name == STEEL_LAYER:
+        return hex_to_rgb(STEEL_COLOR)
     t = layer_threshold_mT(name)
     return hex_to_rgb(INK_COLOR) if t is None else threshold_rgb(t)
 

@@ -29,6 +29,7 @@ from fringe.analysis.geometry import (
     section_windings,
 )
 from fringe.analysis.report import ReportResult
+from fringe.analysis.steel import steel_on_floor, steel_plan_outline, steel_section_cut
 from fringe.analysis.zones import field_reversal_m
 from fringe.io.atomic import atomic_directory, check_output_folder, set_usual_mode
 from fringe.io.forked import ForkedCall
@@ -42,6 +43,7 @@ from fringe.render.dxf import (
     EQUIPMENT_LAYER,
     MAGNET_LAYER,
     ROOMS_LAYER,
+    STEEL_LAYER,
     write_zones_dxf,
     zone_layer_name,
 )
@@ -183,7 +185,35 @@ def _plan_layers(r: ReportResult, name: str) -> tuple[dict, dict]:
         from fringe.render.paths import MOVING_STEEL_LAYER, dxf_path_lines
 
         zones[MOVING_STEEL_LAYER], texts[MOVING_STEEL_LAYER] = dxf_path_lines(moving)
+    steel = _floor_steel(r, name)
+    if steel:
+        zones[STEEL_LAYER] = shapely.GeometryCollection([g for _, g in steel])
+        texts[STEEL_LAYER] = [(n, _inside_point(g)) for n, g in steel]
     return zones, texts
+
+
+#: Legend text of the steel parts on plan and section sheets.
+STEEL_LABEL = "steel part (hatched grey; name at its corner)"
+
+
+def _floor_steel(r: ReportResult, name: str) -> list[tuple[str, object]]:
+    """(name, plan outline) of every steel part overlapping the storey of floor ``name``."""
+    parts = () if r.site is None else getattr(r.site, "steel", ())
+    return [(p.name, steel_plan_outline(p)) for p in parts
+            if steel_on_floor(p, r.plan.floors, name)]
+
+
+def _section_steel(r: ReportResult, sec) -> list:
+    """Overlays of the steel parts cut by the plane of section ``sec``."""
+    from fringe.render import drawing as dr
+
+    parts = () if r.site is None else getattr(r.site, "steel", ())
+    out = []
+    for p in parts:
+        g = steel_section_cut(p, sec.origin_m, sec.unit, (float(sec.s_m[0]), float(sec.s_m[-1])))
+        if g is not None:
+            out.append(dr.Overlay(STEEL_LABEL, g, "steel", p.name))
+    return out
 
 
 def _inside_point(poly) -> tuple[float, float]:
@@ -381,6 +411,7 @@ def _plan_magnets(r: ReportResult, name: str, site_mags: dict,
     fa = None if r.attraction is None else r.attraction.floors.get(name)
     if fa is not None and not fa.geometry.is_empty:
         overlays.append(dr.Overlay(ATTRACTION_ZONE_LABEL, fa.geometry, "hazard"))
+    overlays += [dr.Overlay(STEEL_LABEL, g, "steel", n) for n, g in _floor_steel(r, name)]
     return mags, overlays
 
 
@@ -529,7 +560,7 @@ def _section_sheets(r: ReportResult, base: dict, site_mags: dict, taken: set[str
         say(f"drawing the section {sec.direction} the axis of {sec.magnet!r}")
         att = (r.attraction.sections[k] if r.attraction is not None
                and k < len(r.attraction.sections) else None)
-        sec_overlays = []
+        sec_overlays = _section_steel(r, sec)
         sec_notes = []
         if att is not None:
             if not att[1].is_empty:

@@ -18,6 +18,7 @@ from __future__ import annotations
 import math
 
 __all__ = ["THRESHOLD_LOG10_RANGE_MT", "THRESHOLD_SAMPLES", "HAZARD_COLOR", "INK_COLOR",
+           "STEEL_COLOR",
            "threshold_rgb", "threshold_color", "hex_to_rgb"]
 
 #: log10 of the thresholds (in mT) mapped to the two ends of :data:`THRESHOLD_SAMPLES`:
@@ -39,6 +40,9 @@ THRESHOLD_SAMPLES: tuple[str, ...] = (
 HAZARD_COLOR: str = "#3d0b57"
 #: Text and line ink (notes in DXF drawings); matches the sheets' near-black ink.
 INK_COLOR: str = "#141414"
+#: Steel parts of the building (hatched on sheets, their own DXF layer): a mid grey, apart
+#: from every threshold colour and from the near-black boundary line.
+STEEL_COLOR: str = "#595959"
 
 
 def hex_to_rgb(color: str) -> tuple[int, int, int]:

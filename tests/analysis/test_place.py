@@ -287,7 +287,8 @@ def test_demo_placement_at_least_as_good_as_the_demo(demo_site):
     # ranking: spill first, then margin (docs/placement.md)
     assert res.best.key <= cur.key
     assert res.best.spill_area_m2 <= cur.spill_area_m2 + 0.005
-    assert res.best.margin_m >= cur.margin_m - 1e-9
+    if res.best.key[0] == cur.key[0]:  # margin decides only between equal spills
+        assert res.best.margin_m >= cur.margin_m - 1e-9
     # not only because the scenario placement is always ranked: the search itself
     # finds one at least as good
     assert any(p.source != "scenario" and p.key <= cur.key for p in res.candidates)

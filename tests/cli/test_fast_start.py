@@ -54,7 +54,8 @@ def _run(argv: list) -> dict:
 
 def test_every_command_is_checked():
     assert set(COMMANDS) == {"probe", "demo", "report", "quench", "energy", "map", "fit",
-                             "place", "disturbance", "survey"}
+                             "place", "disturbance", "survey",
+                             "shield"}
 
 
 def test_help_imports_no_heavy_library():

@@ -101,7 +101,8 @@ def test_verdict_writes_as_its_word():
 
 def test_reader_has_fixed_tables_and_no_registries():
     assert TOP_LEVEL_KEYS == ("site", "magnet", "plan", "floor", "room", "room_file",
-                              "equipment", "quench", "implant_condition", "moving_steel",
+                              "equipment", "quench", "implant_condition", "steel",
+                              "moving_steel",
                               "drawing")
     assert set(ROOM_LOADERS) == {"geojson", "dxf"} and set(MAGNET_BUILDERS) == {"datasheet"}
     with pytest.raises(TypeError):

@@ -305,7 +305,7 @@ def test_curve_and_cover_sheets_build():
     (lambda x, y, f: d.map_sheet(x, y, f, [], INFO, unit="T"), "`levels` must be a non-empty"),
     (lambda x, y, f: d.plan_sheet(x, y, f, INFO, overlays=[("z", box(0, 0, 1, 1), "glow")]),
      "`overlays[0].kind` must be one of ['condition-1', 'condition-2', 'condition-3', "
-     "'contour', 'hazard', 'outline', 'points', 'wall']; got 'glow'"),
+     "'contour', 'hazard', 'outline', 'points', 'steel', 'wall']; got 'glow'"),
     (lambda x, y, f: d.plan_sheet(x, y, f, INFO, rooms=[d.RoomMark("r", None)]),
      "`rooms[0].polygon (r)` must be a non-empty shapely Polygon"),
     (lambda x, y, f: d.section_sheet(x, y, f[:, :-1], INFO), "`field_T` must be an array"),

@@ -18,6 +18,7 @@ from fringe.render.dxf import (  # noqa: E402
     EQUIPMENT_LAYER,
     MAGNET_LAYER,
     ROOMS_LAYER,
+    STEEL_LAYER,
     layer_threshold_mT,
     zone_layer_name,
 )
@@ -115,8 +116,26 @@ def test_new_layers_not_read_as_rooms(demo_drawings, tmp_path):
     from fringe.model.errors import ScenarioError
 
     r, _ = demo_drawings
-    for layer in (ROOMS_LAYER, EQUIPMENT_LAYER, ENVELOPE_LAYER, MAGNET_LAYER):
+    for layer in (ROOMS_LAYER, EQUIPMENT_LAYER, ENVELOPE_LAYER, MAGNET_LAYER, STEEL_LAYER):
         assert layer.startswith(LAYER_PREFIX)
     path = next(p for p in write_zone_drawings(r, tmp_path) if p.stem == "zones-ground")
     with pytest.raises(ScenarioError):
         read_dxf_plan(path, {"floor": "ground"})
+
+
+def test_steel_on_its_own_layer_on_the_storeys_it_overlaps(demo_drawings):
+    """The demo's ceiling plate (z 3.6 m) lies in the ground floor's storey (0 to 4 m):
+    its outline and name on FRINGE-STEEL there, in the steel grey; not on the others."""
+    from fringe.render.style import STEEL_COLOR, hex_to_rgb
+
+    _, docs = demo_drawings
+    ground = docs["zones-ground"]
+    ents = _on(ground, STEEL_LAYER)
+    rings = [e for e in ents if e.dxftype() == "LWPOLYLINE"]
+    assert len(rings) == 1 and rings[0].closed
+    xs, ys = zip(*rings[0].get_points("xy"), strict=True)
+    assert (min(xs), max(xs), min(ys), max(ys)) == pytest.approx((2.0, 8.0, 1.5, 6.5))
+    assert [e.dxf.text for e in ents if e.dxftype() == "TEXT"] == ["ceiling plate"]
+    assert tuple(ground.layers.get(STEEL_LAYER).rgb) == hex_to_rgb(STEEL_COLOR)
+    for name in ("zones-first", "zones-basement"):
+        assert not _on(docs[name], STEEL_LAYER)
