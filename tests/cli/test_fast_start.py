@@ -94,6 +94,7 @@ SCENARIO_COMMANDS = {
     "place": ["--magnet", "a", "--region", "r"],
     "disturbance": ["--mass-kg", "1", "--from", "1", "2", "3", "--to", "1", "2", "4"],
     "survey": ["--readings", "r.csv"],
+    "shield": ["--steel", "plate", "--thickness-mm", "2,5"],
 }
 
 #: Scenario files the loader refuses before it parses any section.
