@@ -1247,14 +1247,16 @@ def _draw_equipment(ax, equipment) -> list:
 _EQUIPMENT_GAPS_PX = (2.0, 7.0, 16.0, 28.0, 44.0, 64.0, 90.0, 125.0)
 
 
-def _equipment_label_spot(ax, renderer, text: str, xy, kw: dict, obs: lp.Obstacles,
-                          boundary) -> tuple[int, list]:
-    """The candidate index and candidates for an equipment label (``kw["fontsize"]`` is
-    set to the size chosen): clear of the hard obstacles and the boundary, else of the
-    hard obstacles, at 7 pt and then smaller (6, 5.5 pt) before a label may cross a wall."""
+def _label_spot(ax, renderer, text: str, xy, kw: dict, obs: lp.Obstacles, boundary,
+                sizes: tuple[float, ...] = (7.0, 6.0, 5.5)) -> tuple[int, list]:
+    """The candidate index and candidates for a label on a leader to the plan point ``xy``
+    (``kw["fontsize"]`` is set to the size chosen): clear of the hard obstacles and the
+    ``boundary`` segments (if any), else of the hard obstacles, at each of ``sizes`` in
+    turn, before a label at the first size may cross a wall."""
     near = 0.4 * np.repeat(_EQUIPMENT_GAPS_PX, 8)  # prefer short leaders
+    extra_walls = (boundary, None) if boundary is not None else (None,)
     first = None
-    for size in (7.0, 6.0, 5.5):
+    for size in sizes:
         kw["fontsize"] = size
         probe = ax.text(0, 0, text, **kw)
         bb = probe.get_window_extent(renderer)
@@ -1262,11 +1264,11 @@ def _equipment_label_spot(ax, renderer, text: str, xy, kw: dict, obs: lp.Obstacl
         cands = lp.around(_marker_box(ax, xy), bb.width, bb.height, gaps=_EQUIPMENT_GAPS_PX)
         if first is None:
             first = cands
-        for more in (boundary, None):
+        for more in extra_walls:
             k = lp.choose(cands, obs, soft_weight=0.5, extra_cost=near, more_walls=more)
             if k is not None:
                 return k, cands
-    kw["fontsize"] = 7.0
+    kw["fontsize"] = sizes[0]
     k = lp.choose(first, obs, walls=False, soft_weight=0.5, extra_cost=near)
     return (0 if k is None else k), first
 
@@ -1288,7 +1290,7 @@ def _place_equipment_labels(ax, renderer, equipment, obs: lp.Obstacles,
         exceeds = (e.verdict or "").lower() == Verdict.EXCEEDS
         kw = {"fontsize": 7, "color": _INK, "zorder": 9.5, "path_effects": _HALO,
               "fontweight": "bold" if exceeds else "normal", "gid": "equipment-label"}
-        k, cands = _equipment_label_spot(ax, renderer, _equipment_label(e, exceeds), xy, kw,
+        k, cands = _label_spot(ax, renderer, _equipment_label(e, exceeds), xy, kw,
                                          obs, boundary)
         b = cands[k]
         obs.add_box(b)
@@ -1314,15 +1316,8 @@ def _point_label_placer(ax, renderer, obs: lp.Obstacles):
     def place(text: str, xy_m, bold: bool) -> Bbox:
         kw = {"fontsize": 7.5, "color": _INK, "zorder": 9.5, "path_effects": _HALO,
               "fontweight": "bold" if bold else "normal", "gid": "path-label"}
-        probe = ax.text(0, 0, text, **kw)
-        bb = probe.get_window_extent(renderer)
-        probe.remove()
-        cands = lp.around(_marker_box(ax, xy_m), bb.width, bb.height, gaps=_EQUIPMENT_GAPS_PX)
-        near = 0.4 * np.repeat(_EQUIPMENT_GAPS_PX, 8)  # prefer short leaders
-        k = lp.choose(cands, obs, soft_weight=0.5, extra_cost=near)
-        if k is None:
-            k = lp.choose(cands, obs, walls=False, soft_weight=0.5, extra_cost=near)
-        b = cands[0 if k is None else k]
+        k, cands = _label_spot(ax, renderer, text, xy_m, kw, obs, None, sizes=(7.5,))
+        b = cands[k]
         obs.add_box(b)
         ax.annotate(text, xy=(xy_m[0], xy_m[1]),
                     xytext=tuple(inv.transform(((b[0] + b[2]) / 2, (b[1] + b[3]) / 2))),
